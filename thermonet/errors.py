@@ -1,0 +1,43 @@
+"""Exception and warning classes of thermonet, kept in one place.
+
+Every error says three things: what is wrong (which node, link, column or
+parameter), what is allowed, and what was received or how to fix it.
+"""
+
+from __future__ import annotations
+
+
+class ThermonetError(Exception):
+    """Base class of every error raised on purpose by thermonet."""
+
+
+class NetworkError(ThermonetError, ValueError):
+    """A node, link, source or control of a network is invalid."""
+
+
+class WeatherError(ThermonetError, ValueError):
+    """Weather data are missing, irregular or physically impossible."""
+
+
+class ScheduleError(ThermonetError, ValueError):
+    """A schedule or time series does not align with the simulation index."""
+
+
+class SolverError(ThermonetError, RuntimeError):
+    """The solver could not meet its accuracy target or failed numerically."""
+
+
+class ConstructionError(ThermonetError, ValueError):
+    """A material, layer or construction is invalid."""
+
+
+class ModelFileError(ThermonetError, ValueError):
+    """A model file cannot be read: unknown key, wrong type, missing reference or version."""
+
+
+class ThermonetWarning(UserWarning):
+    """Base class of warnings issued by thermonet."""
+
+
+class AccuracyWarning(ThermonetWarning):
+    """A result may be less accurate than requested."""

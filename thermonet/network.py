@@ -1,0 +1,583 @@
+"""The network description: nodes, boundaries, links, sources and controls.
+
+A :class:`Network` only *describes* a building; :func:`thermonet.simulate` computes and
+:class:`thermonet.Results` holds the outcome. Mistakes that can be known when an element is
+added (unknown node, negative conductance, duplicate name) are raised at that call; whole-network
+checks (connectivity, weather columns) are raised when the network is compiled.
+
+Sign convention: a link's flow is positive from its first node ``a`` to its second node ``b``;
+a source's power is positive into its node.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from .constants import RHO_CP_AIR, STEFAN_BOLTZMANN, ZERO_CELSIUS
+from .controls import Condition
+from .errors import NetworkError
+
+NODE_KINDS = ("air", "surface", "mass", "ground", "buffer")
+BOUNDARY_KINDS = ("air", "sky", "ground", "surface")
+AIR_KINDS = ("air", "buffer")
+
+
+@dataclass
+class Node:
+    """A free node: a temperature with a heat capacity.
+
+    Attributes
+    ----------
+    name : str
+    kind : str
+        One of ``air, surface, mass, ground, buffer``.
+    capacitance : float
+        Heat capacity [J/K]; 0 means massless (solved algebraically).
+    volume : float or None
+        Air volume [m³], used by ``add_airflow(ach=...)``.
+    initial : float or None
+        Initial temperature [°C] before the warm-up (None: steady state of the first inputs).
+    """
+
+    name: str
+    kind: str
+    capacitance: float
+    volume: float | None = None
+    initial: float | None = None
+
+
+@dataclass
+class Boundary:
+    """A node of given temperature: a weather column name, a constant or a Series [°C]."""
+
+    name: str
+    temperature: str | float | pd.Series
+    kind: str = "air"
+
+
+@dataclass
+class Link:
+    """Heat flow ``Q = G (T_a − T_b)`` [W] between two nodes, counted under ``path``.
+
+    ``conductance`` [W/K] is a float, or a Series [W/K] aligned to the weather when the link is
+    scheduled (a few distinct values, each with its own cached discretisation).
+    """
+
+    name: str
+    a: str
+    b: str
+    conductance: float | pd.Series
+    path: str
+    kind: str = "conductance"
+    params: dict = field(default_factory=dict)
+
+
+@dataclass
+class Source:
+    """Heat into a node [W]: a constant or a Series aligned to the weather."""
+
+    name: str
+    node: str
+    power: float | pd.Series
+    path: str
+
+
+@dataclass
+class Thermostat:
+    """Ideal heating and/or cooling at a node, sized each step to meet the setpoint.
+
+    Setpoints [°C] are constants, Series or None (no heating / no cooling). Capacities [W] are
+    positive (``inf`` = unlimited).
+    """
+
+    name: str
+    node: str
+    heating_setpoint: float | pd.Series | None
+    cooling_setpoint: float | pd.Series | None
+    max_heating_w: float
+    max_cooling_w: float
+
+
+@dataclass
+class Switch:
+    """A two-state control: when on, target links and sources are scaled by their factors.
+
+    ``on`` is the condition that turns the switch on; ``off`` the one that turns it off again
+    (default: ``on`` no longer holds), giving hysteresis when both are given. Conditions are
+    evaluated at the start of each step from the node temperatures at the end of the previous
+    step and the current step's boundary values and signals.
+    """
+
+    name: str
+    on: Condition
+    off: Condition | None
+    link_factors: dict[str, float]
+    source_factors: dict[str, float]
+    initial: bool = False
+
+
+def _check_name(name, what):
+    if not isinstance(name, str) or not name:
+        raise TypeError(f"{what} name must be a non-empty str, got {name!r}")
+
+
+def _check_number(value, what, *, minimum=0.0, strict=False, allow_inf=False):
+    if isinstance(value, bool) or not isinstance(value, (int, float, np.integer, np.floating)):
+        raise TypeError(f"{what} must be a number, got {type(value).__name__} {value!r}")
+    value = float(value)
+    if math.isnan(value) or (math.isinf(value) and not allow_inf):
+        raise NetworkError(f"{what} must be finite, got {value}")
+    if strict and value <= minimum:
+        raise NetworkError(f"{what} must be > {minimum}, got {value}")
+    if not strict and value < minimum:
+        raise NetworkError(f"{what} must be ≥ {minimum}, got {value}")
+    return value
+
+
+def _check_series(series, what, *, minimum=None):
+    if not isinstance(series.index, pd.DatetimeIndex):
+        raise NetworkError(f"{what}: a Series needs a DatetimeIndex aligned to the weather")
+    values = np.asarray(series, dtype=float)
+    bad = ~np.isfinite(values)
+    if bad.any():
+        raise NetworkError(
+            f"{what}: {int(bad.sum())} NaN/inf values, first at {series.index[bad.argmax()]}; "
+            "fill them explicitly before passing the Series"
+        )
+    if minimum is not None and (values < minimum).any():
+        i = int((values < minimum).argmax())
+        raise NetworkError(
+            f"{what}: values must be ≥ {minimum}, got {values[i]} at {series.index[i]}"
+        )
+    return series.astype(float)
+
+
+def _value(value, what, *, minimum=0.0, strict=False):
+    """Validate a constant or a Series input."""
+    if isinstance(value, pd.Series):
+        return _check_series(value, what, minimum=minimum)
+    return _check_number(value, what, minimum=minimum, strict=strict)
+
+
+def radiation_conductance(area, emissivity_a, emissivity_b, view_factor=1.0, *,
+                          area_b=None, reference_temperature=20.0):
+    """Linearised long-wave radiation conductance between two grey surfaces [W/K].
+
+    Parameters
+    ----------
+    area : float
+        Area of surface a [m²].
+    emissivity_a, emissivity_b : float
+        Hemispherical emissivities [-], in (0, 1].
+    view_factor : float, default 1.0
+        View factor from a to b [-].
+    area_b : float, optional
+        Area of surface b [m²]; default ``area`` (two facing surfaces of equal size).
+    reference_temperature : float, default 20.0
+        Mean temperature T_m of the two surfaces [°C] at which σT⁴ is linearised.
+
+    Returns
+    -------
+    float
+        G = 4σT_m³ / R_tot [W/K], with the two-surface grey-body network resistance
+        R_tot = (1 − ε_a)/(ε_a A_a) + 1/(A_a F_ab) + (1 − ε_b)/(ε_b A_b) [1/m²].
+
+    Notes
+    -----
+    The net exchange σ(T_a⁴ − T_b⁴)/R_tot is linearised as h_r (T_a − T_b) with
+    h_r = 4σT_m³ (ISO 6946:2017, Annex C, h_r0 = 4σT_mn³). At 20 °C, 4σT³ = 5.71 W/(m²K).
+
+    References
+    ----------
+    .. [1] ISO 6946:2017, Building components and building elements — Thermal resistance and
+       thermal transmittance — Calculation methods, Annex C.
+    .. [2] Incropera, F. P. et al., Fundamentals of Heat and Mass Transfer, 6th ed., Wiley, 2007,
+       section 13.3 (radiation exchange between two grey surfaces).
+    """
+    area = _check_number(area, "area", strict=True)
+    area_b = area if area_b is None else _check_number(area_b, "area_b", strict=True)
+    for eps, what in ((emissivity_a, "emissivity_a"), (emissivity_b, "emissivity_b")):
+        if not 0.0 < float(eps) <= 1.0:
+            raise NetworkError(f"{what} must lie in (0, 1], got {eps}")
+    if not 0.0 < float(view_factor) <= 1.0:
+        raise NetworkError(f"view_factor must lie in (0, 1], got {view_factor}")
+    t_m = float(reference_temperature) + ZERO_CELSIUS
+    if t_m <= 0:
+        raise NetworkError(f"reference_temperature must be above −273.15 °C, got {t_m}")
+    r_tot = ((1 - emissivity_a) / (emissivity_a * area) + 1 / (area * view_factor)
+             + (1 - emissivity_b) / (emissivity_b * area_b))
+    return 4 * STEFAN_BOLTZMANN * t_m**3 / r_tot
+
+
+class Network:
+    """A lumped-RC thermal network of a building.
+
+    Build it with :meth:`add_node`, :meth:`add_boundary`, :meth:`add_link`,
+    :meth:`add_airflow`, :meth:`add_radiation`, :meth:`add_source`, :meth:`add_thermostat`
+    and :meth:`add_switch`; run it with :func:`thermonet.simulate`.
+
+    Examples
+    --------
+    >>> import thermonet as tn
+    >>> net = tn.Network()
+    >>> net.add_boundary("outdoor", temperature="temp_air")
+    'outdoor'
+    >>> net.add_node("room", kind="air", capacitance=1.2e5)
+    'room'
+    >>> net.add_link("outdoor", "room", conductance=40.0, path="opaque")
+    'outdoor-room:opaque'
+    """
+
+    def __init__(self, name: str = "network"):
+        self.name = name
+        self.nodes: dict[str, Node] = {}
+        self.boundaries: dict[str, Boundary] = {}
+        self.links: dict[str, Link] = {}
+        self.sources: dict[str, Source] = {}
+        self.thermostats: dict[str, Thermostat] = {}
+        self.switches: dict[str, Switch] = {}
+
+    # ------------------------------------------------------------------ names
+    def _all_point_names(self):
+        return set(self.nodes) | set(self.boundaries)
+
+    def _new_point(self, name, what):
+        _check_name(name, what)
+        if name in self.nodes or name in self.boundaries:
+            raise NetworkError(f"duplicate {what} name {name!r}: a node or boundary with this name "
+                               "exists already; choose another name")
+
+    def _known(self, name, what):
+        if name not in self.nodes and name not in self.boundaries:
+            known = ", ".join(sorted(self._all_point_names())) or "(none yet)"
+            raise NetworkError(f"{what} {name!r} is not a node or boundary of this network; "
+                               f"known: {known}")
+
+    def _unique(self, table, name, default, what):
+        if name is None:
+            name, i = default, 2
+            while name in table:
+                name, i = f"{default}#{i}", i + 1
+            return name
+        _check_name(name, what)
+        if name in table:
+            raise NetworkError(f"duplicate {what} name {name!r}; pass another name=")
+        return name
+
+    # ------------------------------------------------------------------ nodes
+    def add_node(self, name: str, *, kind: str = "mass", capacitance: float = 0.0,
+                 volume: float | None = None, initial: float | None = None) -> str:
+        """Add a free node.
+
+        Parameters
+        ----------
+        name : str
+            Unique name.
+        kind : {"air", "surface", "mass", "ground", "buffer"}
+            What the node stands for; airflow links need ``air`` or ``buffer``.
+        capacitance : float, default 0
+            Heat capacity [J/K], ≥ 0. Zero makes a massless node solved algebraically.
+        volume : float, optional
+            Air volume [m³] for ``add_airflow(ach=...)``.
+        initial : float, optional
+            Initial temperature [°C] before the warm-up.
+
+        Returns
+        -------
+        str
+            The node's name.
+        """
+        self._new_point(name, "node")
+        if kind not in NODE_KINDS:
+            raise NetworkError(f"node {name!r}: kind must be one of {NODE_KINDS}, got {kind!r}")
+        c = _check_number(capacitance, f"node {name!r} capacitance [J/K]")
+        if volume is not None:
+            volume = _check_number(volume, f"node {name!r} volume [m³]", strict=True)
+        if initial is not None:
+            initial = _check_number(initial, f"node {name!r} initial [°C]", minimum=-273.15)
+        self.nodes[name] = Node(name, kind, c, volume, initial)
+        return name
+
+    def add_boundary(self, name: str, *, temperature: str | float | pd.Series,
+                     kind: str = "air") -> str:
+        """Add a boundary node with a given temperature.
+
+        Parameters
+        ----------
+        name : str
+        temperature : str, float or pandas.Series
+            A weather column name (e.g. ``"temp_air"``), a constant [°C], or a Series [°C]
+            aligned to the weather index.
+        kind : {"air", "sky", "ground", "surface"}, default "air"
+            Airflow links may only touch boundaries of kind ``air``.
+        """
+        self._new_point(name, "boundary")
+        if kind not in BOUNDARY_KINDS:
+            raise NetworkError(f"boundary {name!r}: kind must be one of {BOUNDARY_KINDS}, "
+                               f"got {kind!r}")
+        if isinstance(temperature, str):
+            pass
+        elif isinstance(temperature, pd.Series):
+            temperature = _check_series(temperature, f"boundary {name!r} temperature",
+                                        minimum=-273.15)
+        else:
+            temperature = _check_number(temperature, f"boundary {name!r} temperature [°C]",
+                                        minimum=-273.15)
+        self.boundaries[name] = Boundary(name, temperature, kind)
+        return name
+
+    # ------------------------------------------------------------------ links
+    def _link_ends(self, a, b):
+        self._known(a, "link end")
+        self._known(b, "link end")
+        if a == b:
+            raise NetworkError(f"self-link {a!r}–{b!r}: a link must join two different nodes")
+        if a in self.boundaries and b in self.boundaries:
+            raise NetworkError(f"link {a!r}–{b!r} joins two boundaries; it would carry no "
+                               "information into the network")
+
+    def add_link(self, a: str, b: str, *, conductance: float | pd.Series, path: str,
+                 name: str | None = None) -> str:
+        """Add a conduction/convection link ``Q = G (T_a − T_b)``.
+
+        Parameters
+        ----------
+        a, b : str
+            Node or boundary names; the flow is positive from ``a`` to ``b``.
+        conductance : float or pandas.Series
+            G [W/K], ≥ 0; a Series schedules it (few distinct values).
+        path : str
+            Heat-path label for the balance (``"opaque"``, ``"glazing"``, ...).
+        name : str, optional
+            Default ``"{a}-{b}:{path}"``.
+
+        Returns
+        -------
+        str
+            The link's name, the key of ``Results.flows``.
+        """
+        self._link_ends(a, b)
+        _check_name(path, "path")
+        name = self._unique(self.links, name, f"{a}-{b}:{path}", "link")
+        g = _value(conductance, f"link {name!r} conductance [W/K]")
+        self.links[name] = Link(name, a, b, g, path)
+        return name
+
+    def add_airflow(self, a: str, b: str, *, path: str, flow_m3h: float | pd.Series | None = None,
+                    ach: float | pd.Series | None = None, volume: float | None = None,
+                    heat_recovery: float = 0.0, rho_cp: float = RHO_CP_AIR,
+                    name: str | None = None) -> str:
+        """Add a balanced airflow exchange between two air nodes.
+
+        The conductance is ``G = ρ c_p V̇ (1 − η)`` [W/K] with V̇ in m³/s.
+
+        Parameters
+        ----------
+        a, b : str
+            Air or buffer nodes, or boundaries of kind ``air``.
+        path : str
+            Heat-path label (``"infiltration"``, ``"ventilation"``, ...).
+        flow_m3h : float or Series, optional
+            Volume flow [m³/h].
+        ach : float or Series, optional
+            Air changes per hour [1/h] of ``volume`` (default: the volume of the free air node).
+        volume : float, optional
+            Volume [m³] for ``ach``.
+        heat_recovery : float, default 0
+            Heat-recovery efficiency η [-] in [0, 1).
+        rho_cp : float, default 1200
+            Volumetric heat capacity of air [J/(m³K)] (ISO 13789 / ISO 13790, from memory).
+        name : str, optional
+
+        Notes
+        -----
+        An exchange of V̇ in each direction carries ρ c_p V̇ (T_a − T_b) from a to b.
+        1200 J/(m³K) / 3600 s/h = 0.333 W per (m³/h) per K.
+        """
+        self._link_ends(a, b)
+        _check_name(path, "path")
+        for end in (a, b):
+            if end in self.nodes and self.nodes[end].kind not in AIR_KINDS:
+                raise NetworkError(f"airflow {a!r}–{b!r}: node {end!r} is of kind "
+                                   f"{self.nodes[end].kind!r}; airflow needs an air or buffer node")
+            if end in self.boundaries and self.boundaries[end].kind != "air":
+                raise NetworkError(f"airflow {a!r}–{b!r}: boundary {end!r} is of kind "
+                                   f"{self.boundaries[end].kind!r}; airflow needs an air boundary")
+        if (flow_m3h is None) == (ach is None):
+            raise NetworkError(f"airflow {a!r}–{b!r}: give exactly one of flow_m3h= [m³/h] or "
+                               "ach= [1/h]")
+        name = self._unique(self.links, name, f"{a}-{b}:{path}", "link")
+        eta = _check_number(heat_recovery, f"airflow {name!r} heat_recovery [-]")
+        if eta >= 1.0:
+            raise NetworkError(f"airflow {name!r}: heat_recovery must be < 1, got {eta}")
+        rho_cp = _check_number(rho_cp, f"airflow {name!r} rho_cp [J/(m³K)]", strict=True)
+        if ach is not None:
+            if volume is None:
+                vols = [self.nodes[e].volume for e in (a, b) if e in self.nodes
+                        and self.nodes[e].volume is not None]
+                if not vols:
+                    raise NetworkError(f"airflow {name!r}: ach= needs volume= [m³] or a node "
+                                       "added with volume=")
+                volume = vols[0]
+            volume = _check_number(volume, f"airflow {name!r} volume [m³]", strict=True)
+            flow = _value(ach, f"airflow {name!r} ach [1/h]") * volume
+        else:
+            flow = _value(flow_m3h, f"airflow {name!r} flow_m3h [m³/h]")
+        g = flow * (rho_cp / 3600.0) * (1.0 - eta)  # m³/h → m³/s
+        params = {"flow_m3h": flow, "heat_recovery": eta, "rho_cp": rho_cp}
+        self.links[name] = Link(name, a, b, g, path, kind="airflow", params=params)
+        return name
+
+    def add_radiation(self, a: str, b: str, *, area: float, path: str,
+                      emissivity_a: float = 0.9, emissivity_b: float = 0.9,
+                      view_factor: float = 1.0, area_b: float | None = None,
+                      reference_temperature: float = 20.0, name: str | None = None) -> str:
+        """Add a linearised long-wave radiation link between two surfaces.
+
+        See :func:`radiation_conductance` for the formula. With ``simulate(...,
+        relinearise="D")`` (or another period) the conductance is recomputed at the start of
+        each period from the mean of the two nodes' temperatures.
+        """
+        self._link_ends(a, b)
+        _check_name(path, "path")
+        name = self._unique(self.links, name, f"{a}-{b}:{path}", "link")
+        g = radiation_conductance(area, emissivity_a, emissivity_b, view_factor, area_b=area_b,
+                                  reference_temperature=reference_temperature)
+        params = dict(area=area, emissivity_a=emissivity_a, emissivity_b=emissivity_b,
+                      view_factor=view_factor, area_b=area_b,
+                      reference_temperature=reference_temperature)
+        self.links[name] = Link(name, a, b, g, path, kind="radiation", params=params)
+        return name
+
+    # ---------------------------------------------------------------- sources
+    def add_source(self, node: str, *, power: float | pd.Series, path: str,
+                   name: str | None = None) -> str:
+        """Add heat into a free node [W] (constant or Series), counted under ``path``."""
+        if node not in self.nodes:
+            self._known(node, "source node")
+            raise NetworkError(f"source at boundary {node!r}: a boundary's temperature is given, "
+                               "so heat into it has no effect; attach the source to a free node")
+        _check_name(path, "path")
+        name = self._unique(self.sources, name, f"{node}:{path}", "source")
+        if isinstance(power, pd.Series):
+            power = _check_series(power, f"source {name!r} power [W]")
+        else:
+            power = _check_number(power, f"source {name!r} power [W]", minimum=-math.inf)
+        self.sources[name] = Source(name, node, power, path)
+        return name
+
+    # --------------------------------------------------------------- controls
+    def add_thermostat(self, node: str, *, heating_setpoint=None, cooling_setpoint=None,
+                       max_heating_w: float = math.inf, max_cooling_w: float = math.inf,
+                       name: str | None = None) -> str:
+        """Add ideal heating and/or cooling at a free node.
+
+        Parameters
+        ----------
+        node : str
+            The controlled node.
+        heating_setpoint, cooling_setpoint : float, Series or None
+            Setpoints [°C]; None disables heating or cooling. Heating ≤ cooling everywhere.
+        max_heating_w, max_cooling_w : float, default inf
+            Capacity limits [W], > 0.
+
+        Notes
+        -----
+        Each step the power is found by superposition of the free response and the response to
+        unit power at the node, so the node's temperature at the end of the step equals the
+        setpoint whenever capacity allows (see :mod:`thermonet.solvers`).
+        """
+        if node not in self.nodes:
+            self._known(node, "thermostat node")
+            raise NetworkError(f"thermostat at boundary {node!r}: control a free node instead")
+        if any(t.node == node for t in self.thermostats.values()):
+            raise NetworkError(f"node {node!r} has a thermostat already; one per node")
+        name = self._unique(self.thermostats, name, f"thermostat:{node}", "thermostat")
+        if heating_setpoint is None and cooling_setpoint is None:
+            raise NetworkError(f"thermostat {name!r}: give heating_setpoint and/or "
+                               "cooling_setpoint [°C]")
+        sp = {}
+        for key, value in (("heating_setpoint", heating_setpoint),
+                           ("cooling_setpoint", cooling_setpoint)):
+            if value is None:
+                sp[key] = None
+            elif isinstance(value, pd.Series):
+                sp[key] = _check_series(value, f"thermostat {name!r} {key} [°C]", minimum=-273.15)
+            else:
+                sp[key] = _check_number(value, f"thermostat {name!r} {key} [°C]", minimum=-273.15)
+        if sp["heating_setpoint"] is not None and sp["cooling_setpoint"] is not None:
+            h = np.asarray(sp["heating_setpoint"], dtype=float)
+            c = np.asarray(sp["cooling_setpoint"], dtype=float)
+            if np.any(h > c):
+                raise NetworkError(f"thermostat {name!r}: heating_setpoint exceeds "
+                                   "cooling_setpoint; keep heating ≤ cooling")
+        qh = _check_number(max_heating_w, f"thermostat {name!r} max_heating_w [W]", strict=True,
+                           allow_inf=True)
+        qc = _check_number(max_cooling_w, f"thermostat {name!r} max_cooling_w [W]", strict=True,
+                           allow_inf=True)
+        self.thermostats[name] = Thermostat(name, node, sp["heating_setpoint"],
+                                            sp["cooling_setpoint"], qh, qc)
+        return name
+
+    def add_switch(self, *, on: Condition, off: Condition | None = None,
+                   links: dict[str, float] | None = None, sources: dict[str, float] | None = None,
+                   initial: bool = False, name: str | None = None) -> str:
+        """Add a two-state control (window opening, night ventilation, movable shading ...).
+
+        Parameters
+        ----------
+        on : Condition
+            Turns the switch on (see :mod:`thermonet.controls`).
+        off : Condition, optional
+            Turns it off again; default: ``on`` no longer holds.
+        links : dict, optional
+            ``{link name: factor}``: while on, the link's conductance is multiplied by factor ≥ 0.
+        sources : dict, optional
+            ``{source name: factor}``: while on, the source's power is multiplied by factor.
+        initial : bool, default False
+            State before the first step.
+
+        Notes
+        -----
+        Each combination of switch states that changes links gets one cached discretisation.
+        """
+        if not isinstance(on, Condition) or (off is not None and not isinstance(off, Condition)):
+            raise TypeError("on= and off= must be thermonet Conditions, e.g. tn.above('room', 24)")
+        links = dict(links or {})
+        sources = dict(sources or {})
+        if not links and not sources:
+            raise NetworkError("a switch needs links= and/or sources= to act on")
+        for ln, f in links.items():
+            if ln not in self.links:
+                raise NetworkError(f"switch acts on unknown link {ln!r}; known: "
+                                   f"{', '.join(sorted(self.links))}")
+            links[ln] = _check_number(f, f"switch factor of link {ln!r}")
+        for sn, f in sources.items():
+            if sn not in self.sources:
+                raise NetworkError(f"switch acts on unknown source {sn!r}; known: "
+                                   f"{', '.join(sorted(self.sources))}")
+            sources[sn] = _check_number(f, f"switch factor of source {sn!r}", minimum=-math.inf)
+        for cond in (on, off):
+            if cond is not None:
+                for ref in cond.node_refs():
+                    self._known(ref, "switch condition node")
+        name = self._unique(self.switches, name, "switch", "switch")
+        self.switches[name] = Switch(name, on, off, links, sources, bool(initial))
+        return name
+
+    # ---------------------------------------------------------------- summary
+    def summary(self) -> pd.DataFrame:
+        """Links as a table: name, a, b, kind, path, conductance [W/K] (mean if scheduled)."""
+        rows = [dict(name=l.name, a=l.a, b=l.b, kind=l.kind, path=l.path,
+                     conductance_w_per_k=float(np.mean(np.asarray(l.conductance, dtype=float))))
+                for l in self.links.values()]
+        return pd.DataFrame(rows)
+
+    def __repr__(self):
+        return (f"Network({self.name!r}: {len(self.nodes)} nodes, {len(self.boundaries)} "
+                f"boundaries, {len(self.links)} links, {len(self.sources)} sources, "
+                f"{len(self.thermostats)} thermostats, {len(self.switches)} switches)")
