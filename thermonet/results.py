@@ -1,0 +1,228 @@
+"""Results of a simulation: temperatures, flows, powers and the energy balance by path.
+
+Conventions
+-----------
+* Row ``t`` describes the step ``(t − h, t]`` (interval ending), on the weather's tz-aware
+  index (or the sub-step index when ``step`` was shorter).
+* :attr:`Results.temperatures` are node temperatures [°C] at the *end* of each step (when a
+  thermostat meets its setpoint); :attr:`Results.mean_temperatures` are step means [°C].
+* :attr:`Results.flows` are link flows [W], means over the step, positive from the link's
+  first node ``a`` to its second node ``b``.
+* :meth:`Results.balance` is in kWh, positive *into* the chosen set of nodes.
+"""
+
+from __future__ import annotations
+
+from functools import cached_property
+
+import numpy as np
+import pandas as pd
+
+from .constants import J_PER_KWH
+from .errors import NetworkError
+
+
+class Results:
+    """What :func:`thermonet.simulate` computed. Tables are built on first access."""
+
+    def __init__(self, net, comp, traj, info):
+        self._net = net
+        self._c = comp
+        self._t = traj
+        self.info = info
+        self.index = comp.index
+        self._order = list(net.nodes) + list(net.boundaries)
+
+    # ------------------------------------------------------------ raw arrays
+    @cached_property
+    def _xbar(self):
+        t, c = self._t, self._c
+        if getattr(t, "Xbar", None) is not None:
+            return t.Xbar
+        out = np.empty_like(t.X)
+        for s in np.unique(t.S):
+            rows = t.S == s
+            d = t.discrete[int(s)]
+            out[rows] = t.Xstart[rows] @ d.Phibar.T + t.U[rows] @ d.Gambar.T
+        return out if c.nc else np.zeros((len(t.S), 0))
+
+    def _massless(self, X):
+        t, c = self._t, self._c
+        na = c.nf - c.nc
+        out = np.empty((len(t.S), na))
+        if not na:
+            return out
+        for s in np.unique(t.S):
+            rows = t.S == s
+            d = t.discrete[int(s)]
+            out[rows] = X[rows] @ d.Yx.T + t.U[rows] @ d.Yu.T
+        return out
+
+    def _points(self, X):
+        """Temperatures of free nodes then boundaries (n × (nf + nb)) [°C]."""
+        c = self._c
+        return np.hstack([X, self._massless(X), self._t.U[:, :c.nb]])
+
+    @cached_property
+    def _tmean(self):
+        return self._points(self._xbar)
+
+    @cached_property
+    def _flows(self):
+        c, t = self._c, self._t
+        tm = self._tmean
+        g = c.G_states[t.S]
+        return g * (tm[:, c.link_a] - tm[:, c.link_b])
+
+    def _frame(self, arr, columns, order=None):
+        df = pd.DataFrame(arr, index=self.index, columns=columns)
+        return df[order] if order is not None else df
+
+    # ---------------------------------------------------------------- tables
+    @cached_property
+    def temperatures(self) -> pd.DataFrame:
+        """Node and boundary temperatures [°C] at the end of each step."""
+        c = self._c
+        return self._frame(self._points(self._t.X), c.free + c.boundaries, self._order)
+
+    @cached_property
+    def mean_temperatures(self) -> pd.DataFrame:
+        """Node and boundary temperatures [°C], means over each step (used by the balance)."""
+        c = self._c
+        return self._frame(self._tmean, c.free + c.boundaries, self._order)
+
+    @cached_property
+    def flows(self) -> pd.DataFrame:
+        """Link flows [W], step means, positive from the link's node ``a`` to node ``b``."""
+        return self._frame(self._flows, self._c.link_names)
+
+    @cached_property
+    def sources(self) -> pd.DataFrame:
+        """Source powers [W] as applied (after switched factors), step means."""
+        c = self._c
+        return self._frame(self._t.U[:, c.nb:c.nb + c.nsrc], c.source_names)
+
+    @cached_property
+    def _power(self):
+        c = self._c
+        return self._t.U[:, c.nb + c.nsrc:]
+
+    @cached_property
+    def heating_by_thermostat(self) -> pd.DataFrame:
+        """Heating power [W] (≥ 0) per thermostat, step means."""
+        return self._frame(np.clip(self._power, 0, None), self._c.thermostat_names)
+
+    @cached_property
+    def cooling_by_thermostat(self) -> pd.DataFrame:
+        """Cooling power [W] (≥ 0, heat removed) per thermostat, step means."""
+        return self._frame(np.clip(-self._power, 0, None), self._c.thermostat_names)
+
+    @property
+    def heating(self) -> pd.Series:
+        """Total heating power [W] (≥ 0), step means."""
+        return self.heating_by_thermostat.sum(axis=1).rename("heating")
+
+    @property
+    def cooling(self) -> pd.Series:
+        """Total cooling power [W] (≥ 0, heat removed), step means."""
+        return self.cooling_by_thermostat.sum(axis=1).rename("cooling")
+
+    # --------------------------------------------------------------- balance
+    def _node_set(self, nodes):
+        if isinstance(nodes, str):
+            nodes = [nodes]
+        nodes = list(nodes)
+        if not nodes:
+            raise NetworkError("balance(): give at least one node")
+        for n in nodes:
+            if n in self._net.boundaries:
+                raise NetworkError(f"balance(): {n!r} is a boundary; a control volume is made "
+                                   "of free nodes only")
+            if n not in self._net.nodes:
+                raise NetworkError(f"balance(): unknown node {n!r}; known: "
+                                   f"{', '.join(self._net.nodes)}")
+        return set(nodes)
+
+    def balance_w(self, nodes) -> pd.DataFrame:
+        """Mean power [W] per step by path into the node set (see :meth:`balance`)."""
+        c, t = self._c, self._t
+        inside = np.zeros(c.nf + c.nb, dtype=bool)
+        inside[[c.free.index(n) for n in self._node_set(nodes)]] = True
+        cols: dict[str, np.ndarray] = {}
+        n = len(t.S)
+
+        def add(key, values):
+            cols[key] = cols.get(key, np.zeros(n)) + values
+
+        sign = inside[c.link_b].astype(float) - inside[c.link_a].astype(float)
+        for j in np.flatnonzero(sign):
+            add(c.link_paths[j], sign[j] * self._flows[:, j])
+        for j, node in enumerate(c.source_node):
+            if inside[node]:
+                add(c.source_paths[j], t.U[:, c.nb + j])
+        heat = np.zeros(n)
+        cool = np.zeros(n)
+        for j, node in enumerate(c.thermostat_node):
+            if inside[node]:
+                p = self._power[:, j]
+                heat += np.clip(p, 0, None)
+                cool += np.clip(p, None, 0)
+        cols["heating"] = heat
+        cols["cooling"] = cool
+        cap = np.flatnonzero(inside[:c.nc])
+        cols["storage"] = -((t.X[:, cap] - t.Xstart[:, cap]) @ c.C[cap]) / c.step_s
+        df = pd.DataFrame(cols, index=self.index)
+        df["residual"] = df.sum(axis=1)
+        return df
+
+    def balance(self, nodes, freq: str | None = None) -> pd.DataFrame:
+        """Energy balance [kWh] by heat path of any set of free nodes.
+
+        Parameters
+        ----------
+        nodes : str or list of str
+            The control volume (free nodes).
+        freq : str, optional
+            None: one row per step. A pandas offset alias (``"D"``, ``"MS"``, ``"YS"``): sums
+            per period; a step belongs to the period of its interval mid-point, and each row is
+            labelled by the period's start.
+
+        Returns
+        -------
+        pandas.DataFrame
+            One column per path of the links crossing the boundary of the set and of the
+            sources inside it (positive = heat into the set), then ``heating`` (≥ 0),
+            ``cooling`` (≤ 0, heat removed), ``storage`` (heat released by the set's fabric,
+            i.e. minus the increase of stored energy) and ``residual`` (row sum of all the
+            others, rounding noise).
+        """
+        df = self.balance_w(nodes) * (self._c.step_s / J_PER_KWH)
+        if freq is None:
+            return df
+        mid = df.index - pd.Timedelta(seconds=self._c.step_s / 2)
+        out = df.set_axis(mid).resample(freq).sum()
+        out["residual"] = out.drop(columns="residual").sum(axis=1)
+        return out
+
+    # --------------------------------------------------------------- summary
+    def summary(self) -> pd.Series:
+        """Heating and cooling energy [kWh] and peaks [W] over the reported period."""
+        h = self._c.step_s / J_PER_KWH
+        return pd.Series({
+            "heating_kwh": float(self.heating.sum() * h),
+            "cooling_kwh": float(self.cooling.sum() * h),
+            "peak_heating_w": float(self.heating.max()) if self._c.m else 0.0,
+            "peak_cooling_w": float(self.cooling.max()) if self._c.m else 0.0,
+        })
+
+    def worst_residual(self) -> float:
+        """Largest |residual| / largest |term| over steps, for the whole network."""
+        b = self.balance_w(list(self._net.nodes))
+        terms = b.drop(columns="residual").abs().to_numpy()
+        scale = max(terms.max(), 1e-300)
+        return float(np.abs(b["residual"].to_numpy()).max() / scale)
+
+    def __repr__(self):
+        i = self.info
+        return (f"Results({i['method']}, {i['steps']} steps of {i['step_s']:.0f} s, "
+                f"{i['states']} state(s), {i.get('seconds', float('nan')):.3f} s)")
