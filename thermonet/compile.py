@@ -55,7 +55,8 @@ class Compiled:
     qc: np.ndarray
     switch_names: list[str]
     switch_link_factor: np.ndarray     # (nsw, n_links)
-    switch_source_factor: np.ndarray   # (nsw, n_src)
+    switch_source_factor: np.ndarray   # (nsw, n_src) factor while on
+    switch_source_factor_off: np.ndarray  # (nsw, n_src) factor while off
     switch_initial: np.ndarray         # (nsw,) bool
     terms: np.ndarray                  # (n_terms, 6) float: kind_a, idx_a, kind_b, idx_b, op, thr
     term_clause: np.ndarray            # (n_terms,) clause id
@@ -204,12 +205,14 @@ def compile_network(net, weather: pd.DataFrame, *, step=None) -> Compiled:
     srcs = list(net.sources.values())
     src_pos = {s.name: i for i, s in enumerate(srcs)}
     SLF = np.ones((nsw, len(links)))
+    SLF_off = np.ones((nsw, len(links)))
     SSF = np.ones((nsw, len(srcs)))
+    SSF_off = np.ones((nsw, len(srcs)))
     for k, s in enumerate(sw):
-        for ln, f in s.link_factors.items():
-            SLF[k, link_pos[ln]] = f
-        for sn, f in s.source_factors.items():
-            SSF[k, src_pos[sn]] = f
+        for ln, (f_off, f_on) in s.link_factors.items():
+            SLF[k, link_pos[ln]], SLF_off[k, link_pos[ln]] = f_on, f_off
+        for sn, (f_off, f_on) in s.source_factors.items():
+            SSF[k, src_pos[sn]], SSF_off[k, src_pos[sn]] = f_on, f_off
 
     G_states = np.empty((n_sched * (1 << nsw), len(links)))
     for si in range(n_sched):
@@ -218,8 +221,7 @@ def compile_network(net, weather: pd.DataFrame, *, step=None) -> Compiled:
         for bits in range(1 << nsw):
             gg = g.copy()
             for k in range(nsw):
-                if bits >> k & 1:
-                    gg *= SLF[k]
+                gg *= SLF[k] if bits >> k & 1 else SLF_off[k]
             G_states[si * (1 << nsw) + bits] = gg
     for s_id, g in enumerate(G_states):
         ok = _connected(len(free), link_a, link_b, g, len(bnames))
@@ -317,6 +319,7 @@ def compile_network(net, weather: pd.DataFrame, *, step=None) -> Compiled:
         U=U, hsp=hsp, csp=csp, qh=np.array([t.max_heating_w for t in th], dtype=float),
         qc=np.array([t.max_cooling_w for t in th], dtype=float),
         switch_names=[s.name for s in sw], switch_link_factor=SLF, switch_source_factor=SSF,
+        switch_source_factor_off=SSF_off,
         switch_initial=np.array([s.initial for s in sw], dtype=bool),
         terms=np.array(terms, dtype=float).reshape(-1, 6),
         term_clause=np.array(term_clause, dtype=np.int64),

@@ -74,8 +74,8 @@ def _control(T0, M, hsp, csp, qh, qc, P):
 
 
 def step_loop(Phi, Gam, Rx, Ru, M, Yx, Yu, x0, U, sched, hsp, csp, qh, qc,
-              SSF, sw_init, has_off, terms, term_clause, clause_cond, signals, nb,
-              X, P_out, S_out, U_out):
+              SSF, SSF_off, sw_init, has_off, terms, term_clause, clause_cond,
+              signals, nb, X, P_out, S_out, U_out):
     """Step all rows of ``U``; fills X (end states), P_out, S_out (state ids), U_out.
 
     Reference (numpy) implementation. Shapes: Phi (ns, nc, nc), Gam (ns, nc, nu),
@@ -112,8 +112,7 @@ def step_loop(Phi, Gam, Rx, Ru, M, Yx, Yu, x0, U, sched, hsp, csp, qh, qc,
         s = sched[k] * (1 << nsw) + bits
         u = U[k].copy()
         for w in range(nsw):
-            if on[w]:
-                u[nb:nb + nsrc] *= SSF[w]
+            u[nb:nb + nsrc] *= SSF[w] if on[w] else SSF_off[w]
         x1 = Phi[s] @ x + Gam[s] @ u
         if m:
             T0 = Rx[s] @ x1 + Ru[s] @ u
@@ -147,8 +146,8 @@ if HAVE_NUMBA:
 
     @numba.njit(cache=True)
     def step_loop_numba(Phi, Gam, Rx, Ru, M, Yx, Yu, x0, U, sched, hsp, csp, qh, qc,
-                        SSF, sw_init, has_off, terms, term_clause, clause_cond, signals, nb,
-                        X, P_out, S_out, U_out):  # pragma: no cover - compiled
+                        SSF, SSF_off, sw_init, has_off, terms, term_clause, clause_cond,
+                        signals, nb, X, P_out, S_out, U_out):  # pragma: no cover - compiled
         n = U.shape[0]
         nc = x0.shape[0]
         m = hsp.shape[1]
@@ -186,9 +185,8 @@ if HAVE_NUMBA:
             for j in range(nu):
                 u[j] = U[k, j]
             for w in range(nsw):
-                if on[w]:
-                    for j in range(nsrc):
-                        u[nb + j] *= SSF[w, j]
+                for j in range(nsrc):
+                    u[nb + j] *= SSF[w, j] if on[w] else SSF_off[w, j]
             Ph = Phi[s]
             Ga = Gam[s]
             for i in range(nc):

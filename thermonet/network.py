@@ -115,8 +115,8 @@ class Switch:
     name: str
     on: Condition
     off: Condition | None
-    link_factors: dict[str, float]
-    source_factors: dict[str, float]
+    link_factors: dict[str, tuple[float, float]]   # name -> (factor_off, factor_on)
+    source_factors: dict[str, tuple[float, float]]
     initial: bool = False
 
 
@@ -535,9 +535,13 @@ class Network:
         off : Condition, optional
             Turns it off again; default: ``on`` no longer holds.
         links : dict, optional
-            ``{link name: factor}``: while on, the link's conductance is multiplied by factor ≥ 0.
+            ``{link name: factor}`` or ``{link name: (factor_off, factor_on)}``: the link's
+            conductance is multiplied by ``factor_on`` while on and by ``factor_off`` (default
+            1) while off; factors ≥ 0. A window that is shut unless the switch is on:
+            ``{window: (0.0, 1.0)}``. Several switches on one link multiply (use ``|`` within
+            one switch's condition for "either").
         sources : dict, optional
-            ``{source name: factor}``: while on, the source's power is multiplied by factor.
+            Same for sources' powers (e.g. a blind admitting 20 % of solar: ``{sun: 0.2}``).
         initial : bool, default False
             State before the first step.
 
@@ -551,16 +555,21 @@ class Network:
         sources = dict(sources or {})
         if not links and not sources:
             raise NetworkError("a switch needs links= and/or sources= to act on")
+        def pair(f, what):
+            off, on_ = (1.0, f) if not isinstance(f, (tuple, list)) else tuple(f)
+            return (_check_number(off, f"{what} factor_off"),
+                    _check_number(on_, f"{what} factor_on"))
+
         for ln, f in links.items():
             if ln not in self.links:
                 raise NetworkError(f"switch acts on unknown link {ln!r}; known: "
                                    f"{', '.join(sorted(self.links))}")
-            links[ln] = _check_number(f, f"switch factor of link {ln!r}")
+            links[ln] = pair(f, f"switch on link {ln!r}:")
         for sn, f in sources.items():
             if sn not in self.sources:
                 raise NetworkError(f"switch acts on unknown source {sn!r}; known: "
                                    f"{', '.join(sorted(self.sources))}")
-            sources[sn] = _check_number(f, f"switch factor of source {sn!r}", minimum=-math.inf)
+            sources[sn] = pair(f, f"switch on source {sn!r}:")
         for cond in (on, off):
             if cond is not None:
                 for ref in cond.node_refs():

@@ -200,7 +200,8 @@ def run_exact(comp: Compiled, warmup_steps: int, kernel: str = "auto") -> Trajec
         raise ValueError(f"kernel must be 'auto', 'numba' or 'numpy', got {kernel!r}")
     fn = kernels.step_loop_numba if use_numba else kernels.step_loop
     fn(Phi, Gam, Rx, Ru, M, Yx, Yu, x0, U, sched.astype(np.int64), hsp, csp, comp.qh, comp.qc,
-       comp.switch_source_factor, comp.switch_initial.copy(), comp.has_off, comp.terms,
+       comp.switch_source_factor, comp.switch_source_factor_off,
+       comp.switch_initial.copy(), comp.has_off, comp.terms,
        comp.term_clause, comp.clause_cond, sig, comp.nb, X, P, S, Ue)
     Xstart = np.vstack([x0[None, :], X[:-1]])
     w = warmup_steps
