@@ -11,6 +11,7 @@ a source's power is positive into its node.
 
 from __future__ import annotations
 
+import difflib
 import math
 from dataclasses import dataclass, field
 
@@ -118,6 +119,16 @@ class Switch:
     link_factors: dict[str, tuple[float, float]]   # name -> (factor_off, factor_on)
     source_factors: dict[str, tuple[float, float]]
     initial: bool = False
+
+
+def _suggest(name, known):
+    """'did you mean' text with close matches, or a short list of known names."""
+    close = difflib.get_close_matches(str(name), sorted(known), n=3)
+    if close:
+        return "did you mean " + " or ".join(map(repr, close)) + "?"
+    names = sorted(known)
+    shown = ", ".join(names[:12]) + (f", … ({len(names)} in all)" if len(names) > 12 else "")
+    return f"known: {shown or '(none yet)'}"
 
 
 def _check_name(name, what):
@@ -253,9 +264,8 @@ class Network:
 
     def _known(self, name, what):
         if name not in self.nodes and name not in self.boundaries:
-            known = ", ".join(sorted(self._all_point_names())) or "(none yet)"
             raise NetworkError(f"{what} {name!r} is not a node or boundary of this network; "
-                               f"known: {known}")
+                               f"{_suggest(name, self._all_point_names())}")
 
     def _unique(self, table, name, default, what):
         if name is None:

@@ -37,8 +37,8 @@ class Results:
     @cached_property
     def _xbar(self):
         t, c = self._t, self._c
-        if getattr(t, "Xbar", None) is not None:
-            return t.Xbar
+        if getattr(t, "free_mean", None) is not None:
+            return t.free_mean[:, :c.nc]
         out = np.empty_like(t.X)
         for s in np.unique(t.S):
             rows = t.S == s
@@ -58,14 +58,15 @@ class Results:
             out[rows] = X[rows] @ d.Yx.T + t.U[rows] @ d.Yu.T
         return out
 
-    def _points(self, X):
+    def _points(self, X, full=None):
         """Temperatures of free nodes then boundaries (n × (nf + nb)) [°C]."""
         c = self._c
-        return np.hstack([X, self._massless(X), self._t.U[:, :c.nb]])
+        free = full if full is not None else np.hstack([X, self._massless(X)])
+        return np.hstack([free, self._t.U[:, :c.nb]])
 
     @cached_property
     def _tmean(self):
-        return self._points(self._xbar)
+        return self._points(self._xbar, getattr(self._t, "free_mean", None))
 
     @cached_property
     def _flows(self):
@@ -83,7 +84,8 @@ class Results:
     def temperatures(self) -> pd.DataFrame:
         """Node and boundary temperatures [°C] at the end of each step."""
         c = self._c
-        return self._frame(self._points(self._t.X), c.free + c.boundaries, self._order)
+        return self._frame(self._points(self._t.X, getattr(self._t, "free_end", None)),
+                           c.free + c.boundaries, self._order)
 
     @cached_property
     def mean_temperatures(self) -> pd.DataFrame:
