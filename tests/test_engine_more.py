@@ -1,0 +1,143 @@
+"""Engine: sparse method, random networks (hypothesis), ISO 13786 wall convergence."""
+
+import numpy as np
+import pandas as pd
+import pytest
+from helpers_engine import TZ, hourly_weather
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+import thermonet as tn
+from thermonet import constructions as cons
+from thermonet.errors import NetworkError
+
+
+def random_network(seed, n_nodes, massless_share=0.3, thermostat=True):
+    rng = np.random.default_rng(seed)
+    net = tn.Network()
+    net.add_boundary("out", temperature="temp_air")
+    net.add_boundary("deep", temperature=float(rng.uniform(5, 12)), kind="ground")
+    names = []
+    for i in range(n_nodes):
+        cap = 0.0 if rng.random() < massless_share else float(10 ** rng.uniform(2, 8))
+        names.append(net.add_node(f"n{i}", kind="air", capacitance=cap))
+    # spanning tree to a boundary, then random extra links: always connected
+    for i, name in enumerate(names):
+        other = "out" if i == 0 else names[int(rng.integers(0, i))]
+        net.add_link(other, name, conductance=float(10 ** rng.uniform(-1, 3)),
+                     path=str(rng.choice(["opaque", "glazing", "internal"])))
+    for _ in range(n_nodes):
+        a, b = rng.choice(names + ["out", "deep"], size=2, replace=False)
+        if a in ("out", "deep") and b in ("out", "deep"):
+            continue
+        net.add_link(str(a), str(b), conductance=float(10 ** rng.uniform(-1, 3)),
+                     path=str(rng.choice(["ground", "buffer", "internal"])))
+    n = 24 * 5
+    w = hourly_weather(n, temp_air=rng.uniform(-10, 30, n))
+    net.add_source(names[-1], power=pd.Series(rng.uniform(0, 2000, n), index=w.index),
+                   path="solar")
+    if thermostat:
+        net.add_thermostat(names[0], heating_setpoint=19.0, cooling_setpoint=25.0,
+                           max_heating_w=float(rng.uniform(100, 5000)))
+    return net, w, names
+
+
+@settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(seed=st.integers(0, 10_000), n_nodes=st.integers(1, 12), data=st.data())
+def test_random_networks_close_their_balance(seed, n_nodes, data):
+    # Invariant of the method (energy conservation): for ANY set of nodes the paths across
+    # its boundary, the sources, heating/cooling and storage sum to zero every step.
+    net, w, names = random_network(seed, n_nodes)
+    res = tn.simulate(net, w, warmup_days=1)
+    subset = data.draw(st.lists(st.sampled_from(names), min_size=1, unique=True))
+    for freq in (None, "D"):
+        b = res.balance(subset, freq=freq)
+        scale = b.drop(columns="residual").abs().to_numpy().max()
+        assert np.abs(b["residual"].to_numpy()).max() <= 1e-6 * max(scale, 1e-12)
+
+
+@settings(max_examples=15, deadline=None)
+@given(seed=st.integers(0, 10_000))
+def test_random_invalid_inputs_raise_documented_errors(seed):
+    rng = np.random.default_rng(seed)
+    net = tn.Network()
+    net.add_boundary("out", temperature=0.0)
+    net.add_node("a", capacitance=1.0)
+    bad = rng.choice([-1.0, np.nan, np.inf, -np.inf, -1e-9])
+    kind = rng.integers(0, 4)
+    with pytest.raises((NetworkError, TypeError)):
+        if kind == 0:
+            net.add_link("a", "out", conductance=float(bad), path="x")
+        elif kind == 1:
+            net.add_node("b", capacitance=float(bad))
+        elif kind == 2:
+            net.add_airflow("out", "a", flow_m3h=float(bad), path="x")
+        else:
+            net.add_source("a", power=float(bad) if not np.isfinite(bad) else None, path="x")
+
+
+def test_sparse_method_agrees_with_exact():
+    # The contour-rational exponential (Weideman & Trefethen 2007) against the exact modal
+    # step on random stiff networks with massless nodes and a thermostat.
+    for seed in range(4):
+        net, w, _ = random_network(seed, 10)
+        a = tn.simulate(net, w, method="exact")
+        b = tn.simulate(net, w, method="sparse", sparse_tol=1e-9)
+        np.testing.assert_allclose(a.temperatures, b.temperatures, atol=1e-6)
+        np.testing.assert_allclose(a.heating, b.heating, atol=1e-4 * (1 + a.heating.max()))
+        assert b.worst_residual() < 1e-9
+        assert b.info["exp_error_bound"] <= 1e-9
+
+
+def test_sparse_contour_error_bound():
+    # The tabulated bound of the rational approximation of e^s on s ≤ 0 (a property of the
+    # quadrature, Trefethen, Weideman & Schmelzer 2006, BIT 46: ~2.85^−N for parabolas).
+    from thermonet.sparse import CONTOUR_ERROR, contour
+
+    s = -np.logspace(-8, 7, 4000)
+    for N, bound in CONTOUR_ERROR.items():
+        z, c = contour(N)
+        r = 2 * np.real(np.sum(c[None, :] / (z[None, :] - s[:, None]), axis=1))
+        assert np.abs(r - np.exp(s)).max() <= bound
+        assert bound <= max(3 * 2.85 ** (-N), 1e-13)  # floor: rounding of the sum
+
+
+def test_iso13786_wall_refined_converges_to_transfer_matrix():
+    # ISO 13786:2017 transfer-matrix method (thermonet.constructions, itself checked against
+    # the semi-infinite analytic limit in test_constructions) vs the wall simulated as an RC
+    # chain under a 24 h sinusoid: decrement factor and time shift converge as the wall is
+    # refined. Inside air held at 0 °C, outside air 10 cos ωt; inside surface flux measured.
+    wall = cons.Construction("heavy", [cons.Layer("gypsum_plaster_1300", 0.015),
+                                       cons.Layer("concrete_2200", 0.20),
+                                       cons.Layer("mineral_wool", 0.10),
+                                       cons.Layer("brick_clay", 0.01)])
+    dyn = cons.dynamic_characteristics(wall)
+    step = 600.0
+    n = int(8 * 86400 / step)
+    idx = pd.date_range("2025-06-01 00:10", periods=n, freq="10min", tz=TZ)
+    om = 2 * np.pi / 86400
+    t_mid = (np.arange(n) + 0.5) * step
+    w = pd.DataFrame({"temp_air": 10 * np.cos(om * t_mid)}, index=idx)
+    errors = []
+    for frac in (1.0, 1 / 3, 1 / 8):
+        chain = cons.rc_chain(wall, fraction_of_penetration_depth=frac)
+        net = tn.Network()
+        net.add_boundary("in", temperature=0.0)
+        net.add_boundary("out", temperature="temp_air")
+        nodes = [net.add_node(f"w{i}", kind="mass", capacitance=c)
+                 for i, c in enumerate(chain.capacitances)]
+        net.add_link("in", nodes[0], conductance=1 / 0.13, path="si")
+        for i, g in enumerate(chain.conductances):
+            net.add_link(nodes[i], nodes[i + 1], conductance=g, path="wall")
+        net.add_link(nodes[-1], "out", conductance=1 / 0.04, path="se")
+        res = tn.simulate(net, w, warmup_days=5)
+        q = -res.flows.iloc[:, 0].to_numpy()[-144 * 2:]  # heat into the room [W/m²]
+        t = t_mid[-144 * 2:]
+        a, b = np.linalg.lstsq(np.column_stack([np.cos(om * t), np.sin(om * t)]), q,
+                               rcond=None)[0]
+        f = np.hypot(a, b) / (10 * dyn.u_value)
+        lag_h = (np.arctan2(b, a) / om / 3600) % 24
+        errors.append((abs(f - dyn.decrement_factor), abs(lag_h - dyn.time_shift)))
+    assert errors[0][0] > errors[1][0] > errors[2][0]
+    assert errors[2][0] < 0.01 * dyn.decrement_factor
+    assert errors[2][1] < 0.1  # hours
