@@ -16,8 +16,8 @@ References
 
 from __future__ import annotations
 
-import numpy as np
 import numba
+import numpy as np
 
 
 @numba.njit(cache=True)

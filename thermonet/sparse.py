@@ -32,7 +32,6 @@ import time
 import numpy as np
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
-
 from scipy.sparse.csgraph import reverse_cuthill_mckee
 
 from . import kernels
