@@ -130,6 +130,22 @@ def step_loop(Phi, Gam, Rx, Ru, M, Yx, Yu, x0, U, sched, hsp, csp, qh, qc,
                 temps[nc:] = Yx[s] @ x + Yu[s] @ u
 
 
+def _modal_recursion_py(a, B, z0):
+    """``Z[k] = a ⊙ Z[k−1] + B[k]`` with ``Z[−1] = z0`` (reference implementation)."""
+    Z = np.empty_like(B)
+    z = z0.copy()
+    for k in range(B.shape[0]):
+        z = a * z + B[k]
+        Z[k] = z
+    return Z
+
+
+if HAVE_NUMBA:
+    modal_recursion = numba.njit(cache=True)(_modal_recursion_py)
+else:  # pragma: no cover
+    modal_recursion = _modal_recursion_py
+
+
 if HAVE_NUMBA:
     _eval_cond_nb = numba.njit(cache=True)(_eval_cond)
     _control_nb = numba.njit(cache=True)(_control)

@@ -39,6 +39,9 @@ class Results:
         t, c = self._t, self._c
         if getattr(t, "free_mean", None) is not None:
             return t.free_mean[:, :c.nc]
+        if getattr(t, "modal_mean", None) is not None:
+            zbar, q = t.modal_mean
+            return zbar @ q.T
         out = np.empty_like(t.X)
         for s in np.unique(t.S):
             rows = t.S == s

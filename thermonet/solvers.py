@@ -28,6 +28,7 @@ from __future__ import annotations
 
 import time
 from dataclasses import dataclass
+from functools import cached_property
 
 import numpy as np
 
@@ -36,6 +37,7 @@ from .compile import Compiled, compile_network, reduce_state
 from .errors import NetworkError
 
 AUTO_DENSE_LIMIT = 3000
+MODAL_VECTOR_MIN = 150  # capacitive nodes above which free-running runs use modal products
 
 
 def phi1(x):
@@ -61,21 +63,37 @@ def phi2(x):
     return out
 
 
-@dataclass
 class Discrete:
-    """One state's exact ZOH step: ``x⁺ = Φx + Γu``, mean ``x̄ = Φ̄x + Γ̄u``."""
+    """One state's exact ZOH step: ``x⁺ = Φx + Γu``, mean ``x̄ = Φ̄x + Γ̄u``.
 
-    Phi: np.ndarray
-    Gam: np.ndarray
-    Phibar: np.ndarray
-    Gambar: np.ndarray
-    Yx: np.ndarray
-    Yu: np.ndarray
-    K: np.ndarray
-    E: np.ndarray
-    lam: np.ndarray
-    Q: np.ndarray
-    W: np.ndarray
+    Built from the modal data (λ, Q, W); the dense matrices are formed on first use, so the
+    vectorised modal path for large free-running networks never builds them.
+    """
+
+    def __init__(self, lam, Q, W, C, h, red):
+        self.lam, self.Q, self.W, self.C, self.h = lam, Q, W, C, h
+        self.K, self.E, self.Yx, self.Yu = red.K, red.E, red.Yx, red.Yu
+        self._x = lam * h
+
+    @cached_property
+    def _QC(self):
+        return self.Q.T * self.C[None, :]
+
+    @cached_property
+    def Phi(self):
+        return (self.Q * np.exp(-self._x)) @ self._QC
+
+    @cached_property
+    def Gam(self):
+        return (self.Q * (self.h * phi1(self._x))) @ self.W
+
+    @cached_property
+    def Phibar(self):
+        return (self.Q * phi1(self._x)) @ self._QC
+
+    @cached_property
+    def Gambar(self):
+        return (self.Q * (self.h * phi2(self._x))) @ self.W
 
 
 def discretise_exact(comp: Compiled, g: np.ndarray) -> Discrete:
@@ -93,7 +111,6 @@ def discretise_exact(comp: Compiled, g: np.ndarray) -> Discrete:
     ``C(x⁺ − x) = h(−K x̄ + E u)`` exactly, so flows built from x̄ close the balance.
     """
     red = reduce_state(comp, g)
-    h = comp.step_s
     if comp.nc:
         cs = np.sqrt(comp.C)
         S = red.K / np.outer(cs, cs)
@@ -104,18 +121,9 @@ def discretise_exact(comp: Compiled, g: np.ndarray) -> Discrete:
                                "without a path to a boundary")
         Q = V / cs[:, None]
         W = Q.T @ red.E
-        x = lam * h
-        QC = Q.T * comp.C[None, :]
-        Phi = (Q * np.exp(-x)) @ QC
-        Gam = (Q * (h * phi1(x))) @ W
-        Phibar = (Q * phi1(x)) @ QC
-        Gambar = (Q * (h * phi2(x))) @ W
     else:
-        lam = np.zeros(0)
-        Q = W = np.zeros((0, 0))
-        Phi = Phibar = np.zeros((0, 0))
-        Gam = Gambar = np.zeros((0, comp.nu))
-    return Discrete(Phi, Gam, Phibar, Gambar, red.Yx, red.Yu, red.K, red.E, lam, Q, W)
+        lam, Q, W = np.zeros(0), np.zeros((0, 0)), np.zeros((0, comp.nu))
+    return Discrete(lam, Q, W, comp.C, comp.step_s, red)
 
 
 def control_maps(comp: Compiled, d: Discrete):
@@ -173,6 +181,9 @@ def run_exact(comp: Compiled, warmup_steps: int, kernel: str = "auto") -> Trajec
     disc = {s: discretise_exact(comp, comp.G_states[s]) for s in needed}
     ns = comp.n_states
     nc, m, nu = comp.nc, comp.m, comp.nu
+    if ns == 1 and m == 0 and nc > MODAL_VECTOR_MIN:
+        U = _warm_inputs(comp, warmup_steps)[0]
+        return _run_modal_vectorised(comp, disc[0], U, warmup_steps)
     na = comp.nf - nc
     Phi = np.zeros((ns, nc, nc))
     Gam = np.zeros((ns, nc, nu))
@@ -206,6 +217,29 @@ def run_exact(comp: Compiled, warmup_steps: int, kernel: str = "auto") -> Trajec
     Xstart = np.vstack([x0[None, :], X[:-1]])
     w = warmup_steps
     return Trajectory(X[w:], Xstart[w:], Ue[w:], S[w:], disc)
+
+
+def _run_modal_vectorised(comp: Compiled, d: Discrete, U: np.ndarray, w: int) -> Trajectory:
+    """Free-running single-state network: step in modal coordinates, all inputs at once.
+
+    ``z_k = e^{−λh} z_{k−1} + hφ₁(λh) W u_k`` is a diagonal recursion; inputs and outputs are
+    mapped with two matrix products (BLAS), so large networks cost little more than the
+    products ``U Wᵀ`` and ``Z Qᵀ``.
+    """
+    h = comp.step_s
+    x = d.lam * h
+    a = np.exp(-x)
+    WU = U @ d.W.T                                   # (n, nc) modal inputs
+    x0 = initial_state(comp, d, U[0], comp.free)
+    z0 = d.Q.T @ (comp.C * x0)
+    Z = kernels.modal_recursion(a, WU * (h * phi1(x)), z0)
+    Zstart = np.vstack([z0[None, :], Z[:-1]])
+    Zbar = Zstart * phi1(x) + WU * (h * phi2(x))
+    X = Z[w:] @ d.Q.T
+    traj = Trajectory(X, np.vstack([(Zstart[w] @ d.Q.T)[None, :], X[:-1]]), U[w:].copy(),
+                      np.zeros(len(X), dtype=np.int64), {0: d})
+    traj.modal_mean = (Zbar[w:], d.Q)  # x̄ = Z̄ Qᵀ, formed only if flows are asked for
+    return traj
 
 
 METHODS = ("auto", "exact", "sparse")

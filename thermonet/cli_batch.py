@@ -1,0 +1,726 @@
+"""The ``run`` and ``check`` sub-commands of the ``thermonet`` command line.
+
+``thermonet run MODEL --weather FILE --out DIR``
+    Simulate a model file against a weather CSV and write the results (temperatures, flows,
+    energy balance by month and year, comfort metrics, summary) as CSV and/or Parquet, plus a
+    ``provenance.json``.
+``thermonet check MODEL``
+    Validate a model file and print a summary: nodes by kind, links, U·A by heat path and the
+    network's time constants.
+
+:func:`add_batch_commands` registers both on an :mod:`argparse` sub-parser object;
+``thermonet/cli.py`` builds the top-level parser and calls ``args.func(args)``.
+
+Exit codes
+----------
+== ===================================================================================
+0  success
+1  unexpected error (a bug, or the outputs could not be written)
+2  bad usage: unknown option, missing file, unusable --step / --warmup-days / site
+3  invalid model file (:class:`~thermonet.errors.ModelFileError`, or a network the compiler
+   refuses, e.g. a node without a path to a boundary)
+4  invalid weather (:class:`~thermonet.errors.WeatherError`, or weather that does not fit the
+   model's schedules, :class:`~thermonet.errors.ScheduleError`)
+5  simulation failed (the solver raised)
+== ===================================================================================
+
+Weather files
+-------------
+A CSV whose first column is the time stamp (ISO 8601, preferably with UTC offset, labels at
+the END of each interval) and whose other columns carry pvlib names and thermonet units
+(``temp_air`` [°C], ``ghi``/``dni``/``dhi`` [W/m²], ...), as written by
+``weather_samples/generate.py``; lines starting with ``#`` are comments. The site comes from
+``--latitude/--longitude/--elevation/--tz`` or from a JSON sidecar next to the CSV with the
+same stem (``fernhollow_sample.json``: ``{"latitude": 48.3, "longitude": 11.9,
+"elevation": 480, "tz": "Etc/GMT-1", "name": "..."}``); options override the sidecar. The
+frame is checked with :func:`thermonet.weather.from_dataframe`; the columns the model reads
+are required.
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib.util
+import json
+import math
+import os
+import shlex
+import sys
+import time
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from . import comfort
+from .errors import ModelFileError, NetworkError, ScheduleError, ThermonetError, WeatherError
+from .io import read_model
+from .provenance import PROVENANCE_FILE, provenance_record, write_provenance
+
+__all__ = [
+    "EXIT_OK",
+    "EXIT_ERROR",
+    "EXIT_USAGE",
+    "EXIT_MODEL",
+    "EXIT_WEATHER",
+    "EXIT_SIMULATION",
+    "add_batch_commands",
+    "run_command",
+    "check_command",
+    "read_weather_csv",
+    "SiteMissingError",
+    "model_summary",
+    "format_model_summary",
+    "comfort_table",
+    "OUTPUT_TABLES",
+]
+
+EXIT_OK = 0
+EXIT_ERROR = 1
+EXIT_USAGE = 2
+EXIT_MODEL = 3
+EXIT_WEATHER = 4
+EXIT_SIMULATION = 5
+
+EXIT_HELP = """exit codes:
+  0  success
+  1  unexpected error (a bug, or the outputs could not be written)
+  2  bad usage (unknown option, missing file, unusable --step/--warmup-days/site)
+  3  invalid model file (or a network the compiler refuses)
+  4  invalid weather (or weather that does not fit the model's schedules)
+  5  simulation failed
+"""
+
+#: Comfort thresholds [°C]: hours above 25/26/28 °C (25 °C: very-low-energy overheating
+#: frequency, REFERENCES §5.5 [C]; 26 and 28 °C: common practice, no source).
+COMFORT_THRESHOLDS = (25.0, 26.0, 28.0)
+
+#: The tables ``thermonet run`` writes: name -> (description, unit).
+OUTPUT_TABLES = {
+    "temperatures": ("node and boundary temperatures at the end of each step", "°C"),
+    "temperatures_mean": ("node and boundary temperatures, means over each step", "°C"),
+    "flows": ("link flows, step means, positive from the link's node a to node b", "W"),
+    "sources": ("source powers as applied (after switch factors), step means", "W"),
+    "thermostats": ("heating and cooling power per thermostat (both ≥ 0), step means", "W"),
+    "balance_monthly": ("energy balance of all free nodes by heat path per month "
+                        "(positive into the building; storage = −increase of stored heat)",
+                        "kWh"),
+    "balance_annual": ("energy balance of all free nodes by heat path per year", "kWh"),
+    "comfort": ("per air node: hours above 25/26/28 °C [h], degree-hours above 26 °C [K·h], "
+                "overheating frequency above 25 °C [-], max and mean [°C], from step-mean "
+                "air temperatures", "mixed, see column names"),
+    "summary": ("heating/cooling energy and peaks, worst balance residual, steps", "see unit"),
+}
+
+_SITE_KEYS = ("latitude", "longitude", "elevation", "tz", "name")
+
+
+class _Fail(Exception):
+    """Stop a command with an exit code and a message."""
+
+    def __init__(self, code: int, message: str):
+        super().__init__(message)
+        self.code = code
+
+
+class SiteMissingError(WeatherError):
+    """The weather file's site (latitude, longitude) was given neither as option nor sidecar."""
+
+
+class _Progress:
+    """Progress messages on stderr with the elapsed time."""
+
+    def __init__(self, command: str, quiet: bool):
+        self.command, self.quiet, self.t0 = command, quiet, time.perf_counter()
+
+    def __call__(self, msg: str) -> None:
+        if not self.quiet:
+            print(f"thermonet {self.command}: {msg} [{time.perf_counter() - self.t0:.1f} s]",
+                  file=sys.stderr, flush=True)
+
+
+def _error(command: str, fail: _Fail) -> int:
+    kind = {EXIT_USAGE: "usage error", EXIT_MODEL: "invalid model", EXIT_WEATHER:
+            "invalid weather", EXIT_SIMULATION: "simulation failed"}.get(fail.code, "error")
+    print(f"thermonet {command}: {kind}: {fail}", file=sys.stderr, flush=True)
+    return fail.code
+
+
+# ============================================================================= parsing
+def _have_pyarrow() -> bool:
+    return importlib.util.find_spec("pyarrow") is not None
+
+
+def add_batch_commands(subparsers) -> None:
+    """Register the ``run`` and ``check`` sub-commands.
+
+    Parameters
+    ----------
+    subparsers : argparse._SubParsersAction
+        The object returned by ``parser.add_subparsers()``. Each sub-command sets
+        ``func=handler`` with ``handler(args) -> int`` (the exit code).
+    """
+    fmt = argparse.RawDescriptionHelpFormatter
+    run = subparsers.add_parser(
+        "run", help="simulate a model file against a weather CSV and write the results",
+        description="Simulate MODEL (a thermonet model file, JSON) against the weather CSV "
+                    "and write temperatures, flows, the energy balance by month and year, "
+                    "comfort metrics, a summary and provenance.json into DIR.",
+        epilog=EXIT_HELP, formatter_class=fmt)
+    run.add_argument("model", metavar="MODEL", help="model file (JSON) written by "
+                     "thermonet.io.save_model")
+    run.add_argument("--weather", required=True, metavar="FILE",
+                     help="weather CSV: time stamp column first (interval ENDING labels), "
+                          "pvlib column names; '#' lines are comments")
+    run.add_argument("--out", required=True, metavar="DIR", help="result folder (created)")
+    default_format = "both" if _have_pyarrow() else "csv"
+    run.add_argument("--format", choices=("csv", "parquet", "both"), default=default_format,
+                     help=f"output format (default here: {default_format}; Parquet needs "
+                          "pyarrow)")
+    run.add_argument("--step", default=None, metavar="STEP",
+                     help="simulation step, e.g. 15min (default: the weather's); must divide "
+                          "the weather's step")
+    run.add_argument("--warmup-days", type=float, default=14.0, metavar="DAYS",
+                     help="lead-in period run before the reported one [days] (default 14)")
+    run.add_argument("--method", choices=("auto", "exact", "sparse"), default="auto",
+                     help="solver (default auto)")
+    _site_options(run)
+    run.add_argument("--overwrite", action="store_true",
+                     help="write into DIR even if it holds results of an earlier run")
+    run.add_argument("-q", "--quiet", action="store_true", help="no progress messages")
+    run.set_defaults(func=run_command)
+
+    check = subparsers.add_parser(
+        "check", help="validate a model file and print a summary",
+        description="Validate MODEL and print nodes by kind, links, U·A by heat path "
+                    "[W/K] and time constants [h]. With --weather, also check that the "
+                    "weather file is valid for the model.",
+        epilog=EXIT_HELP, formatter_class=fmt)
+    check.add_argument("model", metavar="MODEL", help="model file (JSON)")
+    check.add_argument("--weather", default=None, metavar="FILE",
+                       help="also validate this weather CSV against the model")
+    _site_options(check)
+    check.add_argument("--json", action="store_true", help="print the summary as JSON")
+    check.set_defaults(func=check_command)
+
+
+def _site_options(p) -> None:
+    p.add_argument("--latitude", type=float, default=None, help="site latitude [°N]")
+    p.add_argument("--longitude", type=float, default=None, help="site longitude [°E]")
+    p.add_argument("--elevation", type=float, default=None, help="site elevation [m]")
+    p.add_argument("--tz", default=None, help="time zone of the weather index, e.g. "
+                   "Etc/GMT-1 (needed when the time stamps have no UTC offset)")
+    p.add_argument("--label", choices=("end", "start"), default="end",
+                   help="whether the CSV's time stamps mark interval ends (default) or starts")
+    p.add_argument("--no-closure-check", action="store_true",
+                   help="skip the ghi/dni/dhi closure test of thermonet.weather.validate")
+
+
+# ============================================================================= weather
+def _sidecar(path: Path) -> dict:
+    side = path.with_suffix(".json")
+    if not side.is_file():
+        return {}
+    try:
+        data = json.loads(side.read_text(encoding="utf-8"))
+    except (OSError, UnicodeDecodeError, json.JSONDecodeError) as exc:
+        raise WeatherError(f"site sidecar {side}: cannot be read as JSON ({exc})") from exc
+    if not isinstance(data, dict):
+        raise WeatherError(f"site sidecar {side}: must be a JSON object with keys "
+                           f"{', '.join(_SITE_KEYS)}")
+    for k in data:
+        if k not in _SITE_KEYS:
+            raise WeatherError(f"site sidecar {side}: unknown key {k!r}; allowed keys: "
+                               f"{', '.join(_SITE_KEYS)}")
+    return data
+
+
+def read_weather_csv(path, *, latitude=None, longitude=None, elevation=None, tz=None,
+                     name=None, label: str = "end", required=(),
+                     closure_check: bool = True) -> pd.DataFrame:
+    """Read a weather CSV into a validated thermonet weather frame.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        CSV with the time stamp in the first column; ``#`` lines are comments.
+    latitude, longitude : float, optional
+        Site [°N, °E]; default from the JSON sidecar ``<stem>.json``.
+    elevation : float, optional
+        Site elevation [m]; default from the sidecar, else 0.
+    tz : str, optional
+        Time zone: naive stamps are localised to it, aware ones converted; default from the
+        sidecar. Stamps with different UTC offsets (daylight saving) are read as instants.
+    name : str, optional
+        Site name.
+    label : {"end", "start"}, default "end"
+        Whether the stamps mark interval ends (thermonet's convention) or starts.
+    required : sequence of str
+        Columns that must be present (those the model reads).
+    closure_check : bool, default True
+        Apply the ghi/dni/dhi closure test (only when all three columns are present).
+
+    Returns
+    -------
+    pandas.DataFrame
+        As :func:`thermonet.weather.from_dataframe` returns it.
+
+    Raises
+    ------
+    OSError
+        If the file cannot be read.
+    SiteMissingError
+        If neither the options nor a sidecar give latitude and longitude.
+    WeatherError
+        Unparsable time stamps or numbers, or any check of
+        :func:`thermonet.weather.validate`.
+    """
+    from .weather import CLOSURE_LIMITS, from_dataframe
+
+    path = Path(path)
+    site = _sidecar(path)
+    for key, value in (("latitude", latitude), ("longitude", longitude),
+                       ("elevation", elevation), ("tz", tz), ("name", name)):
+        if value is not None:
+            site[key] = value
+    if "latitude" not in site or "longitude" not in site:
+        raise SiteMissingError(f"weather {path.name}: the site is unknown; pass --latitude and "
+                           f"--longitude (or write {path.with_suffix('.json').name} with "
+                           "latitude, longitude, elevation, tz)")
+    if not path.is_file():
+        raise FileNotFoundError(f"weather file {path} does not exist")
+    try:
+        raw = pd.read_csv(path, comment="#", index_col=0)
+    except (ValueError, pd.errors.ParserError, UnicodeDecodeError) as exc:
+        raise WeatherError(f"weather {path.name}: cannot be read as CSV ({exc})") from exc
+    if raw.empty:
+        raise WeatherError(f"weather {path.name}: no data rows")
+    labels = raw.index.astype(str)
+    try:
+        index = pd.DatetimeIndex(pd.to_datetime(labels, format="ISO8601"))
+    except (ValueError, TypeError):
+        try:
+            index = pd.DatetimeIndex(pd.to_datetime(labels, format="ISO8601", utc=True))
+        except (ValueError, TypeError) as exc:
+            bad = next((s for s in labels if pd.isna(pd.to_datetime(
+                s, format="ISO8601", errors="coerce"))), labels[0])
+            raise WeatherError(f"weather {path.name}: time stamp {bad!r} in the first "
+                               "column is not ISO 8601 (e.g. 2025-01-01T01:00+0100)") from exc
+    if index.tz is None and site.get("tz") is None:
+        raise WeatherError(f"weather {path.name}: time stamps have no UTC offset; pass --tz "
+                           "(e.g. Etc/GMT-1 for fixed UTC+1) or add \"tz\" to the sidecar")
+    raw.index = index
+    for col in raw.columns:
+        if not pd.api.types.is_numeric_dtype(raw[col]):
+            raise WeatherError(f"weather {path.name}: column {col!r} is not numeric (first "
+                               f"value {raw[col].iloc[0]!r}); fix the file")
+    df = raw.astype(float)
+    closure = CLOSURE_LIMITS if closure_check and {"ghi", "dni", "dhi"} <= set(df.columns) \
+        else None
+    try:
+        return from_dataframe(
+            df, latitude=site["latitude"], longitude=site["longitude"],
+            elevation=site.get("elevation", 0.0), tz=site.get("tz"),
+            name=str(site.get("name", "")), source=f"CSV file {path.name}", label=label,
+            required=list(required), closure_limits=closure)
+    except ScheduleError as exc:  # index problems reported by a shared helper
+        raise WeatherError(str(exc)) from exc
+
+
+def _weather_from_args(args, required) -> pd.DataFrame:
+    try:
+        return read_weather_csv(
+            args.weather, latitude=args.latitude, longitude=args.longitude,
+            elevation=args.elevation, tz=args.tz, label=args.label, required=required,
+            closure_check=not args.no_closure_check)
+    except OSError as exc:
+        raise _Fail(EXIT_USAGE, f"cannot read weather file: {exc}") from exc
+    except SiteMissingError as exc:
+        raise _Fail(EXIT_USAGE, str(exc)) from exc
+    except (WeatherError, ScheduleError) as exc:
+        raise _Fail(EXIT_WEATHER, str(exc)) from exc
+
+
+def _model_from_args(args):
+    try:
+        return read_model(args.model)
+    except ModelFileError as exc:
+        raise _Fail(EXIT_MODEL, str(exc)) from exc
+    except OSError as exc:
+        raise _Fail(EXIT_USAGE, f"cannot read model file: {exc}") from exc
+
+
+# ============================================================================= check
+def _series_index(net):
+    """Index of the first Series in the model (its own time axis), or None."""
+    from .controls import Signal
+
+    cands = [b.temperature for b in net.boundaries.values()]
+    for l in net.links.values():
+        cands += [l.conductance, l.params.get("flow_m3h")]
+    cands += [s.power for s in net.sources.values()]
+    for t in net.thermostats.values():
+        cands += [t.heating_setpoint, t.cooling_setpoint]
+    for s in net.switches.values():
+        for cond in (s.on, s.off):
+            if cond is not None:
+                cands += [r.series for t in cond.terms() for r in (t.a, t.b)
+                          if isinstance(r, Signal)]
+    for c in cands:
+        if isinstance(c, pd.Series):
+            return c.index
+    return None
+
+
+def _probe_weather(net, columns) -> pd.DataFrame:
+    """A weather frame on the model's own time axis (2 days hourly if none), columns = 0."""
+    index = _series_index(net)
+    if index is None:
+        index = pd.date_range("2025-01-01 01:00", periods=48, freq="h", tz="UTC")
+    return pd.DataFrame({c: np.zeros(len(index)) for c in columns}, index=index)
+
+
+def _compile(net, weather, step=None):
+    from .compile import compile_network
+
+    return compile_network(net, weather, step=step)
+
+
+def model_summary(net, weather: pd.DataFrame | None = None, *, max_eigen_nodes: int = 3000
+                  ) -> dict:
+    """Structure, U·A by heat path and time constants of a network.
+
+    Parameters
+    ----------
+    net : Network
+    weather : pandas.DataFrame, optional
+        Time axis to compile against (default: the model's own schedules' axis, or two days
+        hourly with the weather columns set to 0 °C); used for the whole-network checks
+        (connectivity) and the eigen time constants.
+    max_eigen_nodes : int, default 3000
+        Eigen time constants are skipped above this number of capacitive nodes.
+
+    Returns
+    -------
+    dict
+        ``nodes_by_kind`` {kind: {"count", "capacitance_j_per_k"}}, ``boundaries_by_kind``,
+        ``links_by_kind``, ``ua_by_path_w_per_k`` {path: Σ G [W/K]}, ``node_time_constants_h``
+        {node: C/ΣG [h]} (0 for massless nodes), ``eigen_time_constants_h``
+        {"slowest", "fastest", "count"} or None, and counts of sources, thermostats,
+        switches.
+
+    Raises
+    ------
+    NetworkError, WeatherError, ScheduleError
+        If the network cannot be compiled (e.g. a node without a path to a boundary).
+
+    Notes
+    -----
+    Scheduled conductances count with their mean over the schedule; switch factors are not
+    applied. U·A by path is Σ G of the links labelled with that path [W/K] (internal links
+    included under their own path). The node time constant is τ_i = C_i / Σ_j G_ij [s], the
+    time constant node i would have if all its neighbours were held fixed. The eigen time
+    constants are τ_k = 1/λ_k of the generalised eigenproblem K v = λ C v of the network with
+    massless nodes eliminated (Schur complement), at the first step's scheduled conductances
+    with every switch off; for a single node linked to a boundary both equal C/G (the RC time
+    constant, e.g. Incropera et al., Fundamentals of Heat and Mass Transfer, 6th ed., 2007,
+    §5.2 lumped capacitance).
+    """
+    from scipy.linalg import eigh
+
+    from .compile import reduce_state
+    from .io import required_weather_columns
+
+    def mean(v):
+        return float(np.mean(np.asarray(v, dtype=float)))
+
+    nodes_by_kind: dict = {}
+    for n in net.nodes.values():
+        d = nodes_by_kind.setdefault(n.kind, {"count": 0, "capacitance_j_per_k": 0.0})
+        d["count"] += 1
+        d["capacitance_j_per_k"] += float(n.capacitance)
+    boundaries_by_kind: dict = {}
+    for b in net.boundaries.values():
+        boundaries_by_kind[b.kind] = boundaries_by_kind.get(b.kind, 0) + 1
+    links_by_kind: dict = {}
+    ua: dict = {}
+    gsum = dict.fromkeys(net.nodes, 0.0)
+    for l in net.links.values():
+        links_by_kind[l.kind] = links_by_kind.get(l.kind, 0) + 1
+        g = mean(l.conductance)
+        ua[l.path] = ua.get(l.path, 0.0) + g
+        for end in (l.a, l.b):
+            if end in gsum:
+                gsum[end] += g
+    tau = {}
+    for name, n in net.nodes.items():
+        if n.capacitance == 0:
+            tau[name] = 0.0
+        else:
+            tau[name] = n.capacitance / gsum[name] / 3600.0 if gsum[name] > 0 else math.inf
+    if weather is None:
+        weather = _probe_weather(net, required_weather_columns(net))
+    comp = _compile(net, weather)
+    eigen = None
+    if 0 < comp.nc <= max_eigen_nodes:
+        g = comp.G_states[comp.state_id(int(comp.sched_of_step[0]), 0)]
+        red = reduce_state(comp, g)
+        lam = eigh(red.K, np.diag(comp.C), eigvals_only=True)
+        eigen = {"slowest": float(1.0 / lam.min() / 3600.0),
+                 "fastest": float(1.0 / lam.max() / 3600.0), "count": int(lam.size)}
+    return {
+        "name": net.name,
+        "nodes": len(net.nodes), "boundaries": len(net.boundaries), "links": len(net.links),
+        "sources": len(net.sources), "thermostats": len(net.thermostats),
+        "switches": len(net.switches),
+        "nodes_by_kind": nodes_by_kind, "boundaries_by_kind": boundaries_by_kind,
+        "links_by_kind": links_by_kind, "ua_by_path_w_per_k": ua,
+        "node_time_constants_h": tau, "eigen_time_constants_h": eigen,
+        "weather_columns": required_weather_columns(net),
+    }
+
+
+def format_model_summary(s: dict, *, max_nodes: int = 30) -> str:
+    """The text ``thermonet check`` prints for a :func:`model_summary`."""
+    lines = [f"network {s['name']!r}: {s['nodes']} nodes, {s['boundaries']} boundaries, "
+             f"{s['links']} links, {s['sources']} sources, {s['thermostats']} thermostats, "
+             f"{s['switches']} switches",
+             f"weather columns read: {', '.join(s['weather_columns']) or '(none)'}",
+             "nodes by kind:"]
+    for kind, d in s["nodes_by_kind"].items():
+        lines.append(f"  {kind:<10} {d['count']:>6}   C = {d['capacitance_j_per_k']:.4g} J/K")
+    lines.append("boundaries by kind: " + ", ".join(
+        f"{k} {v}" for k, v in s["boundaries_by_kind"].items()))
+    lines.append("links by kind: " + (", ".join(
+        f"{k} {v}" for k, v in s["links_by_kind"].items()) or "(none)"))
+    lines.append("U·A by path [W/K] (Σ conductance of the links of each path; schedules at "
+                 "their mean, switches not applied):")
+    for path, g in s["ua_by_path_w_per_k"].items():
+        lines.append(f"  {path:<20} {g:12.4g}")
+    tau = s["node_time_constants_h"]
+    lines.append("node time constants C/ΣG [h] (0 = massless):")
+    items = sorted(tau.items(), key=lambda kv: -kv[1])
+    if len(items) > max_nodes:
+        half = max_nodes // 2
+        shown = items[:half] + [("…", None)] + items[-half:]
+    else:
+        shown = items
+    for name, t in shown:
+        lines.append(f"  {name}" if t is None else f"  {name:<20} {t:12.4g}")
+    e = s["eigen_time_constants_h"]
+    if e is None:
+        lines.append("eigen time constants: not computed (no capacitive node, or too many)")
+    else:
+        lines.append(f"eigen time constants [h] ({e['count']} modes): slowest "
+                     f"{e['slowest']:.4g}, fastest {e['fastest']:.4g}")
+    return "\n".join(lines)
+
+
+def check_command(args) -> int:
+    """Handler of ``thermonet check``: validate a model file, print its summary."""
+    try:
+        mf = _model_from_args(args)
+        weather = None
+        if args.weather is not None:
+            weather = _weather_from_args(args, mf.weather_columns)
+        try:
+            summary = model_summary(mf.network, weather)
+        except NetworkError as exc:
+            raise _Fail(EXIT_MODEL, str(exc)) from exc
+        except (WeatherError, ScheduleError) as exc:
+            code = EXIT_WEATHER if weather is not None else EXIT_MODEL
+            raise _Fail(code, str(exc)) from exc
+    except _Fail as fail:
+        return _error("check", fail)
+    summary["model"] = {"path": str(mf.path), "sha256": mf.sha256,
+                        "schema_version": mf.schema_version}
+    if args.json:
+        print(json.dumps(summary, indent=2, ensure_ascii=False, default=str))
+    else:
+        print(f"model file {mf.path} (schema_version {mf.schema_version}, sha256 "
+              f"{mf.sha256[:16]}…): OK")
+        print(format_model_summary(summary))
+    return EXIT_OK
+
+
+# =============================================================================== run
+def comfort_table(res, net) -> pd.DataFrame:
+    """Comfort metrics of every air node from its step-mean temperature.
+
+    Columns: ``hours_above_25_h``, ``hours_above_26_h``, ``hours_above_28_h`` [h],
+    ``degree_hours_above_26_kh`` [K·h], ``overheating_frequency_25`` [-] (share of all hours
+    above 25 °C, the very-low-energy criterion of :func:`thermonet.comfort.overheating_frequency`),
+    ``max_c`` and ``mean_c`` [°C]. One row per node of kind ``air``.
+    """
+    rows = {}
+    tm = res.mean_temperatures
+    for name, node in net.nodes.items():
+        if node.kind != "air":
+            continue
+        t = tm[name]
+        row = {f"hours_above_{th:g}_h": comfort.hours_above(t, th) for th in COMFORT_THRESHOLDS}
+        row["degree_hours_above_26_kh"] = comfort.degree_hours_above(t, 26.0)
+        row["overheating_frequency_25"] = comfort.overheating_frequency(t, 25.0)
+        row["max_c"] = float(t.max())
+        row["mean_c"] = float(t.mean())
+        rows[name] = row
+    cols = [f"hours_above_{th:g}_h" for th in COMFORT_THRESHOLDS] + [
+        "degree_hours_above_26_kh", "overheating_frequency_25", "max_c", "mean_c"]
+    out = pd.DataFrame.from_dict(rows, orient="index", columns=cols)
+    out.index.name = "node"
+    return out
+
+
+def _tables(res, net) -> dict[str, pd.DataFrame]:
+    nodes = list(net.nodes)
+    th = pd.concat([res.heating_by_thermostat.add_suffix(" heating_w"),
+                    res.cooling_by_thermostat.add_suffix(" cooling_w")], axis=1)
+    summ = res.summary()
+    summary = pd.DataFrame({
+        "value": [float(summ[k]) for k in summ.index]
+        + [res.worst_residual(), float(res.info["steps"]), float(res.info["step_s"]),
+           float(res.info["warmup_steps"])],
+        "unit": ["kWh" if k.endswith("_kwh") else "W" for k in summ.index]
+        + ["-", "-", "s", "-"],
+    }, index=pd.Index([*summ.index, "worst_balance_residual", "steps", "step_s",
+                       "warmup_steps"], name="quantity"))
+    tables = {
+        "temperatures": res.temperatures,
+        "temperatures_mean": res.mean_temperatures,
+        "flows": res.flows,
+        "sources": res.sources,
+        "thermostats": th,
+        "balance_monthly": res.balance(nodes, freq="MS"),
+        "balance_annual": res.balance(nodes, freq="YS"),
+        "comfort": comfort_table(res, net),
+        "summary": summary,
+    }
+    for key in ("temperatures", "temperatures_mean", "flows", "sources", "thermostats"):
+        tables[key] = tables[key].rename_axis("time")
+    for key in ("balance_monthly", "balance_annual"):
+        tables[key] = tables[key].rename_axis("period_start")
+    return tables
+
+
+def _write_atomic(path: Path, writer) -> None:
+    tmp = path.with_name(f".{path.name}.tmp")
+    try:
+        writer(tmp)
+        os.replace(tmp, path)
+    finally:
+        if tmp.exists():
+            tmp.unlink()
+
+
+def _write_tables(tables: dict, out: Path, fmt: str) -> list[Path]:
+    written = []
+    for name, df in tables.items():
+        if fmt in ("csv", "both"):
+            p = out / f"{name}.csv"
+            _write_atomic(p, lambda t, df=df: df.to_csv(t))
+            written.append(p)
+        if fmt in ("parquet", "both"):
+            p = out / f"{name}.parquet"
+            _write_atomic(p, lambda t, df=df: df.to_parquet(t))
+            written.append(p)
+    return written
+
+
+def _command_line(args) -> list[str]:
+    """The equivalent ``thermonet run`` command of the parsed options."""
+    cmd = ["thermonet", "run", str(args.model), "--weather", str(args.weather), "--out",
+           str(args.out), "--format", args.format, "--warmup-days", repr(args.warmup_days),
+           "--method", args.method, "--label", args.label]
+    if args.step is not None:
+        cmd += ["--step", str(args.step)]
+    for opt in ("latitude", "longitude", "elevation", "tz"):
+        v = getattr(args, opt)
+        if v is not None:
+            cmd += [f"--{opt}", str(v)]
+    if args.no_closure_check:
+        cmd.append("--no-closure-check")
+    if args.overwrite:
+        cmd.append("--overwrite")
+    return cmd
+
+
+def run_command(args) -> int:
+    """Handler of ``thermonet run``: simulate a model file, write the results folder."""
+    from .solvers import simulate
+
+    say = _Progress("run", getattr(args, "quiet", False))
+    try:
+        out = Path(args.out)
+        if out.exists() and not out.is_dir():
+            raise _Fail(EXIT_USAGE, f"--out {out} exists and is not a folder")
+        if (out / PROVENANCE_FILE).exists() and not args.overwrite:
+            raise _Fail(EXIT_USAGE, f"--out {out} holds the results of an earlier run "
+                        f"({PROVENANCE_FILE}); choose another folder or pass --overwrite")
+        if args.format in ("parquet", "both") and not _have_pyarrow():
+            raise _Fail(EXIT_USAGE, f"--format {args.format} needs pyarrow, which is not "
+                        "installed; use --format csv or install pyarrow")
+        if not (math.isfinite(args.warmup_days) and args.warmup_days >= 0):
+            raise _Fail(EXIT_USAGE, f"--warmup-days must be a finite number ≥ 0 [days], got "
+                        f"{args.warmup_days}")
+        step = None
+        if args.step is not None:
+            try:
+                step = pd.Timedelta(args.step)
+            except (ValueError, TypeError) as exc:
+                raise _Fail(EXIT_USAGE, f"--step {args.step!r} is not a duration (e.g. 15min, "
+                            "1h)") from exc
+            if step <= pd.Timedelta(0):
+                raise _Fail(EXIT_USAGE, f"--step must be positive, got {args.step!r}")
+        say(f"reading model {args.model}")
+        mf = _model_from_args(args)
+        net = mf.network
+        say(f"model: {net!r}")
+        say(f"reading weather {args.weather}")
+        weather = _weather_from_args(args, mf.weather_columns)
+        wstep = weather.index[1] - weather.index[0]
+        if step is not None:
+            ratio = wstep / step
+            if step > wstep or abs(ratio - round(ratio)) > 1e-9:
+                raise _Fail(EXIT_USAGE, f"--step {args.step} must divide the weather's step "
+                            f"{wstep} evenly and not exceed it")
+        try:
+            _compile(net, weather, step)
+        except NetworkError as exc:
+            raise _Fail(EXIT_MODEL, str(exc)) from exc
+        except (WeatherError, ScheduleError) as exc:
+            raise _Fail(EXIT_WEATHER, str(exc)) from exc
+        try:
+            out.mkdir(parents=True, exist_ok=True)
+        except OSError as exc:
+            raise _Fail(EXIT_USAGE, f"cannot create --out {out}: {exc}") from exc
+        say(f"simulating {len(weather)} weather rows "
+            f"({weather.index[0]} … {weather.index[-1]}), warm-up {args.warmup_days:g} days, "
+            f"method {args.method}")
+        try:
+            res = simulate(net, weather, step=step, method=args.method,
+                           warmup_days=args.warmup_days)
+            tables = _tables(res, net)
+        except Exception as exc:  # any solver failure is reported with its type
+            raise _Fail(EXIT_SIMULATION, f"{type(exc).__name__}: {exc}") from exc
+        say(f"solved: {res!r}; writing {args.format} to {out}")
+    except _Fail as fail:
+        return _error("run", fail)
+    try:
+        written = _write_tables(tables, out, args.format)
+        settings = {"step": None if step is None else step.isoformat(),
+                    "warmup_days": args.warmup_days, "method": args.method,
+                    "label": args.label, "format": args.format,
+                    "closure_check": not args.no_closure_check}
+        rec = provenance_record(
+            model=mf.path, weather=args.weather, weather_frame=weather, info=res.info,
+            settings=settings, command=_command_line(args), outputs=written,
+            extra={"argv": " ".join(shlex.quote(a) for a in sys.argv),
+                   "model_schema_version": mf.schema_version,
+                   "tables": {k: {"description": d, "unit": u}
+                              for k, (d, u) in OUTPUT_TABLES.items()}})
+        write_provenance(out, rec)
+    except (OSError, ThermonetError, ValueError) as exc:
+        print(f"thermonet run: error: could not write the outputs: {exc}", file=sys.stderr)
+        return EXIT_ERROR
+    say(f"done: {len(written)} tables and {PROVENANCE_FILE} in {out}")
+    return EXIT_OK
