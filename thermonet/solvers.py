@@ -246,7 +246,7 @@ METHODS = ("auto", "exact", "sparse")
 
 
 def simulate(net, weather, *, step=None, method: str = "auto", warmup_days: float = 14.0,
-             kernel: str = "auto", sparse_tol: float = 1e-7):
+             kernel: str = "auto", sparse_tol: float = 1e-6):
     """Simulate a network over the weather's time axis.
 
     Parameters
@@ -265,7 +265,7 @@ def simulate(net, weather, *, step=None, method: str = "auto", warmup_days: floa
         state of the first step's inputs, so the initial state does not bias results.
     kernel : {"auto", "numba", "numpy"}
         Compiled or plain-numpy stepping loop (same numbers).
-    sparse_tol : float, default 1e-7
+    sparse_tol : float, default 1e-6
         Relative accuracy target of the rational exponential in ``method="sparse"``.
 
     Returns
