@@ -174,14 +174,22 @@ def _warm_inputs(comp: Compiled, w: int):
             cat(comp.signals))
 
 
-def run_exact(comp: Compiled, warmup_steps: int, kernel: str = "auto") -> Trajectory:
-    """Step the network with the exact ZOH discretisation (one cache entry per state)."""
+def run_exact(comp: Compiled, warmup_steps: int, kernel: str = "auto", *, x0=None,
+              switch_state=None, disc=None) -> Trajectory:
+    """Step the network with the exact ZOH discretisation (one cache entry per state).
+
+    ``x0`` (capacitive start state) and ``switch_state`` continue an earlier run; ``disc``
+    passes already discretised states (state id -> :class:`Discrete`).
+    """
     needed = sorted({comp.state_id(s, b) for s in range(comp.n_sched)
                      for b in range(1 << len(comp.switch_names))})
-    disc = {s: discretise_exact(comp, comp.G_states[s]) for s in needed}
+    disc = disc if disc is not None else {}
+    for s in needed:
+        if s not in disc:
+            disc[s] = discretise_exact(comp, comp.G_states[s])
     ns = comp.n_states
     nc, m, nu = comp.nc, comp.m, comp.nu
-    if ns == 1 and m == 0 and nc > MODAL_VECTOR_MIN:
+    if ns == 1 and m == 0 and nc > MODAL_VECTOR_MIN and x0 is None:
         U = _warm_inputs(comp, warmup_steps)[0]
         return _run_modal_vectorised(comp, disc[0], U, warmup_steps)
     na = comp.nf - nc
@@ -196,11 +204,13 @@ def run_exact(comp: Compiled, warmup_steps: int, kernel: str = "auto") -> Trajec
         Phi[s], Gam[s], Yx[s], Yu[s] = d.Phi, d.Gam, d.Yx, d.Yu
         Rx[s], Ru[s], M[s] = control_maps(comp, d)
     U, sched, hsp, csp, sig = _warm_inputs(comp, warmup_steps)
-    bits0 = sum(1 << k for k, v in enumerate(comp.switch_initial) if v)
+    sw0 = comp.switch_initial if switch_state is None else np.asarray(switch_state, bool)
+    bits0 = sum(1 << k for k, v in enumerate(sw0) if v)
     s0 = comp.state_id(int(sched[0]), bits0)
     u0 = U[0].copy()
     u0[comp.nb + comp.nsrc:] = 0.0
-    x0 = initial_state(comp, disc[s0], u0, comp.free)
+    if x0 is None:
+        x0 = initial_state(comp, disc[s0], u0, comp.free)
     n = U.shape[0]
     X = np.zeros((n, nc))
     P = np.zeros((n, m))
@@ -212,11 +222,18 @@ def run_exact(comp: Compiled, warmup_steps: int, kernel: str = "auto") -> Trajec
     fn = kernels.step_loop_numba if use_numba else kernels.step_loop
     fn(Phi, Gam, Rx, Ru, M, Yx, Yu, x0, U, sched.astype(np.int64), hsp, csp, comp.qh, comp.qc,
        comp.switch_source_factor, comp.switch_source_factor_off,
-       comp.switch_initial.copy(), comp.has_off, comp.terms,
+       sw0.copy(), comp.has_off, comp.terms,
        comp.term_clause, comp.clause_cond, sig, comp.nb, X, P, S, Ue)
     Xstart = np.vstack([x0[None, :], X[:-1]])
     w = warmup_steps
-    return Trajectory(X[w:], Xstart[w:], Ue[w:], S[w:], disc)
+    traj = Trajectory(X[w:], Xstart[w:], Ue[w:], S[w:], disc)
+    traj.final_switch_state = _switch_state_after(comp, S[-1]) if len(S) else sw0
+    return traj
+
+
+def _switch_state_after(comp: Compiled, state_id: int) -> np.ndarray:
+    bits = int(state_id) % (1 << len(comp.switch_names))
+    return np.array([(bits >> k) & 1 == 1 for k in range(len(comp.switch_names))], bool)
 
 
 def _run_modal_vectorised(comp: Compiled, d: Discrete, U: np.ndarray, w: int) -> Trajectory:
@@ -242,11 +259,79 @@ def _run_modal_vectorised(comp: Compiled, d: Discrete, U: np.ndarray, w: int) ->
     return traj
 
 
+def run_relinearised(net, comp: Compiled, w: int, kernel: str, freq: str):
+    """Run period by period, re-linearising radiation links at each period start.
+
+    Returns the joined trajectory and a copy of ``comp`` whose ``G_states`` hold every
+    (period linearisation × state) combination that was used.
+    """
+    import copy
+
+    import pandas as pd
+
+    from .network import radiation_conductance
+
+    rad = [i for i, l in enumerate(net.links.values()) if l.kind == "radiation"]
+    links = list(net.links.values())
+    n = len(comp.index)
+    mid = comp.index - pd.Timedelta(seconds=comp.step_s / 2)
+    groups = pd.Series(np.arange(n), index=mid).resample(freq)
+    chunks = [g.to_numpy() for _, g in groups if len(g)]
+    ns = comp.n_states
+    keys: dict = {}
+    G_all, parts, disc_all = [], [], {}
+    x, sw = None, None
+    temps = None
+    if w:  # lead-in at the reference linearisation, then carry its end state
+        chunks = [np.arange(min(w, n))] + chunks
+    for j, rows in enumerate(chunks):
+        if temps is None:
+            tm = [links[i].params["reference_temperature"] for i in rad]
+        else:
+            tm = [0.5 * (temps[links[i].a] + temps[links[i].b]) for i in rad]
+        key = tuple(round(2 * t) / 2 for t in tm)
+        if key not in keys:
+            keys[key] = len(keys)
+            G = comp.G_states.copy()
+            for i, t in zip(rad, key, strict=True):
+                p = dict(links[i].params)
+                p["reference_temperature"] = t
+                G[:, i] = radiation_conductance(
+                    p["area"], p["emissivity_a"], p["emissivity_b"], p["view_factor"],
+                    area_b=p["area_b"], reference_temperature=t) * (
+                    comp.G_states[:, i] / comp.G_states[0, i] if comp.G_states[0, i] else 1.0)
+            G_all.append(G)
+        kid = keys[key]
+        sub = copy.copy(comp)
+        sub.G_states = G_all[kid]
+        sub.index = comp.index[rows]
+        for name in ("U", "sched_of_step", "hsp", "csp", "signals"):
+            setattr(sub, name, getattr(comp, name)[rows])
+        cache = {s - kid * ns: d for s, d in disc_all.items() if s // ns == kid}
+        tr = run_exact(sub, 0, kernel, x0=x, switch_state=sw, disc=cache)
+        for s, d in tr.discrete.items():
+            disc_all[kid * ns + s] = d
+        tr.S = tr.S + kid * ns
+        if not (w and j == 0):
+            parts.append(tr)
+        x, sw = tr.X[-1], tr.final_switch_state
+        from .results import Results
+
+        t_end = Results(net, sub, tr, {}).temperatures.iloc[-1]
+        temps = t_end.to_dict()
+    out = copy.copy(comp)
+    out.G_states = np.vstack(G_all)
+    traj = Trajectory(np.vstack([p.X for p in parts]), np.vstack([p.Xstart for p in parts]),
+                      np.vstack([p.U for p in parts]), np.concatenate([p.S for p in parts]),
+                      disc_all)
+    return traj, out
+
+
 METHODS = ("auto", "exact", "sparse")
 
 
 def simulate(net, weather, *, step=None, method: str = "auto", warmup_days: float = 14.0,
-             kernel: str = "auto", sparse_tol: float = 1e-6):
+             kernel: str = "auto", sparse_tol: float = 1e-6, relinearise: str | None = None):
     """Simulate a network over the weather's time axis.
 
     Parameters
@@ -267,6 +352,11 @@ def simulate(net, weather, *, step=None, method: str = "auto", warmup_days: floa
         Compiled or plain-numpy stepping loop (same numbers).
     sparse_tol : float, default 1e-6
         Relative accuracy target of the rational exponential in ``method="sparse"``.
+    relinearise : str, optional
+        Pandas offset alias (``"D"``, ``"W"``, ``"MS"``): at the start of each such period,
+        every radiation link's h_r = 4σT_m³ is recomputed from the mean of its two nodes'
+        temperatures (rounded to 0.5 K so discretisations are cached and reused). None
+        (default): each link keeps its ``reference_temperature``. ``method="exact"`` only.
 
     Returns
     -------
@@ -287,7 +377,13 @@ def simulate(net, weather, *, step=None, method: str = "auto", warmup_days: floa
         method = "exact" if comp.nc <= AUTO_DENSE_LIMIT else "sparse"
     info = {"method": method, "steps": n, "warmup_steps": w, "step_s": comp.step_s,
             "states": comp.n_states, "kernel": kernel}
-    if method == "exact":
+    if relinearise is not None:
+        if method != "exact":
+            raise ValueError("relinearise= works with method='exact'; pass method='exact'")
+        traj, comp = run_relinearised(net, comp, w, kernel, relinearise)
+        info["relinearise"] = relinearise
+        info["states"] = comp.n_states
+    elif method == "exact":
         traj = run_exact(comp, w, kernel)
     else:
         from .sparse import run_sparse
