@@ -1,0 +1,65 @@
+"""Command line: ``thermonet demo | run | check`` (also ``python -m thermonet``).
+
+Exit codes: 0 success, 1 unexpected failure, 2 bad usage, 3 invalid model file,
+4 invalid weather, 5 simulation failed.
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+
+from . import __version__
+
+CAUTION = ("Results are estimates for design guidance, not a substitute for code-compliance "
+           "calculations; defer to local codes and licensed professionals.")
+
+
+def _demo(args) -> int:
+    from .scenarios.sunny_room import run_demo
+
+    run_demo(args.out, progress=not args.quiet, hours=args.hours)
+    return 0
+
+
+def build_parser() -> argparse.ArgumentParser:
+    p = argparse.ArgumentParser(
+        prog="thermonet",
+        description="Hourly lumped-RC thermal networks of buildings with a closed energy "
+                    "balance by heat path. " + CAUTION,
+        epilog="Exit codes: 0 ok, 1 unexpected failure, 2 bad usage, 3 invalid model file, "
+               "4 invalid weather, 5 simulation failed.")
+    p.add_argument("--version", action="version", version=f"thermonet {__version__}")
+    sub = p.add_subparsers(dest="command", metavar="COMMAND")
+    d = sub.add_parser(
+        "demo", help="run the invented sunny-room overheating study and write its report",
+        description="Runs the demo study: a sunny top-floor living room in the invented town "
+                    "of Fernhollow (invented weather), its design options (external blinds, "
+                    "night ventilation, added thermal mass, lower-g glazing, smaller window), "
+                    "and writes CSV tables, PNG figures and an HTML summary. " + CAUTION)
+    d.add_argument("--out", default="thermonet-report", help="report folder "
+                   "(default: thermonet-report)")
+    d.add_argument("--quiet", action="store_true", help="no progress messages")
+    d.add_argument("--hours", type=int, default=None,
+                   help="simulate only the first HOURS of the year (for quick checks)")
+    d.set_defaults(func=_demo)
+    try:
+        from .cli_batch import add_batch_commands
+    except ImportError:  # pragma: no cover
+        pass
+    else:
+        add_batch_commands(sub)
+    return p
+
+
+def main(argv=None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if not getattr(args, "func", None):
+        parser.print_help()
+        return 2
+    return int(args.func(args) or 0)
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())
