@@ -266,8 +266,12 @@ def _unit_factor(unit: str, floor_area) -> tuple[float, str]:
     return factor / area, f"{unit}/m²"
 
 
-def _fmt(v: float, signed: bool = True) -> str:
+def _fmt(v: float, signed: bool = True, scale: float = 0.0) -> str:
+    """A value for a label: thousands separated, 3 significant digits below 100, "≈ 0" for
+    rounding noise (below 1e-9 × ``scale``), a true minus sign."""
     a = abs(v)
+    if 0 < a < 1e-9 * scale:
+        return "\u2248 0"
     if a >= 100 or a == 0:
         s = f"{v:+,.0f}" if signed else f"{v:,.0f}"
     elif a >= 1:
@@ -277,23 +281,29 @@ def _fmt(v: float, signed: bool = True) -> str:
     return s.replace("-", "\u2212")
 
 
+def _hours(h: float) -> str:
+    return f"{h:,.0f}" if float(h).is_integer() else f"{h:,.1f}"
+
+
 def _residual_note(ax, residual: np.ndarray, terms: np.ndarray, rel_tol: float, unit: str):
     """Annotate the axes when the balance residual is not negligible; return the worst one."""
     worst = float(np.max(np.abs(residual))) if residual.size else 0.0
     scale = float(np.max(np.abs(terms))) if terms.size else 0.0
     if worst > rel_tol * max(scale, 1e-300):
-        ax.text(
-            0.01,
-            0.02,
+        # below the axes (under the x label), so it never hides a bar
+        ax.annotate(
             f"balance residual up to {_fmt(worst, False)} {unit} "
             f"({worst / max(scale, 1e-300):.1e} of the largest term): not drawn, check the "
             "control volume and the input",
-            transform=ax.transAxes,
+            xy=(0.0, 0.0),
+            xycoords="axes fraction",
+            xytext=(0, -44),
+            textcoords="offset points",
             fontsize=8,
             color="#D55E00",
             ha="left",
-            va="bottom",
-            bbox={"boxstyle": "round", "fc": "white", "ec": "#D55E00", "alpha": 0.9},
+            va="top",
+            annotation_clip=False,
         )
     return worst
 
@@ -429,6 +439,9 @@ def balance_bars(
         up = up + np.clip(v, 0.0, None)
         down = down + np.clip(v, None, 0.0)
     ax.axhline(0.0, color="black", linewidth=0.8)
+    lo, hi = float(down.min()), float(up.max())
+    pad = 0.05 * ((hi - lo) or 1.0)
+    ax.set_ylim(lo - pad, hi + pad)  # explicit: zero-height bars would pin the autoscale
     ax.set_xticks(x, _period_labels(balance_df.index))
     if len(x) > 24:
         step = int(np.ceil(len(x) / 24))
@@ -517,9 +530,11 @@ def balance_annual(
     for bar, v in zip(bars, vals, strict=True):
         pad = 0.01 * span
         ax.text(v + (pad if v >= 0 else -pad), bar.get_y() + bar.get_height() / 2,
-                f"{_fmt(v)} {label_unit}", va="center", ha="left" if v >= 0 else "right",
+                f"{_fmt(v, scale=span)} {label_unit}", va="center",
+                ha="left" if v >= 0 else "right",
                 fontsize=8.5)
-    ax.set_yticks(y, names)
+    ax.set_yticks(y[::-1], names[::-1])  # tick labels listed bottom → top
+    ax.set_ylabel("Heat path")
     ax.axvline(0.0, color="black", linewidth=0.8)
     lo = min(0.0, float(vals.min())) if len(vals) else -1.0
     hi = max(0.0, float(vals.max())) if len(vals) else 1.0
@@ -756,7 +771,7 @@ def heatmap(
     Each row is placed by its interval MID-POINT m = label − Δt/2 (see the module notes):
     column = local calendar day of m, counted as the day of year of the first mid-point's
     year (continuing past 365 for longer series), cell centred on that number; row =
-    ⌊(m − local midnight)/Δt⌋, spanning the interval the value describes.
+    ⌊(local clock time of m)/Δt⌋, spanning the interval the value describes.
     """
     if not isinstance(series, pd.Series):
         raise TypeError(f"series must be a pandas Series, got {type(series).__name__}")
@@ -771,9 +786,11 @@ def heatmap(
     slots = int(day // step)
     mid = series.index - step / 2
     midnight = mid.normalize()
-    start = pd.Timestamp(year=midnight[0].year, month=1, day=1, tz=midnight.tz)
-    doy = ((midnight - start) // day).to_numpy() + 1  # day of year, 1 = 1 January
-    slot = ((mid - midnight) // step).to_numpy().astype(int)
+    local = midnight.tz_localize(None)  # local calendar dates (days of 23/25 h under DST)
+    start = pd.Timestamp(year=local[0].year, month=1, day=1)
+    doy = ((local - start) // day).to_numpy() + 1  # day of year, 1 = 1 January
+    clock = mid.hour * 3600 + mid.minute * 60 + mid.second  # local wall clock [s]
+    slot = (np.asarray(clock) // int(step.total_seconds())).astype(int)
     d0, d1 = int(doy.min()), int(doy.max())
     grid = np.full((slots, d1 - d0 + 1), np.nan)
     count = np.zeros(grid.shape, dtype=int)
@@ -973,7 +990,7 @@ def adaptive_scatter(
     )
     for mask, color, marker, text in groups:
         ax.scatter(trm[mask], top[mask], s=7, color=color, marker=marker, alpha=0.55,
-                   linewidths=0, label=f"{text}: {_fmt(np.count_nonzero(mask) * dt, False)} h",
+                   linewidths=0, label=f"{text}: {_hours(np.count_nonzero(mask) * dt)} h",
                    rasterized=True)
     x_up = np.array([10.0, 30.0])
     x_low = np.array([15.0, 30.0])
@@ -1000,7 +1017,7 @@ def adaptive_scatter(
     ax.set_xlim(lo, hi)
     ax.grid(color="#EEEEEE", linewidth=0.6)
     ax.set_axisbelow(True)
-    ax.legend(loc="upper left", fontsize=8, frameon=False)
+    ax.legend(loc="upper left", fontsize=8, frameon=False, markerscale=2.0)
     ax.set_title(title if title is not None else
                  f"EN 16798-1 adaptive comfort, category {cat} (occupied hours)")
     return fig, ax
@@ -1106,7 +1123,7 @@ def compare_options(
         ax.text(v + (pad if v >= 0 else -pad), bar.get_y() + bar.get_height() / 2,
                 f"{_fmt(v, signed=False)} {unit}", va="center",
                 ha="left" if v >= 0 else "right", fontsize=8.5)
-    ax.set_yticks(y, labels)
+    ax.set_yticks(y[::-1], labels[::-1])  # tick labels listed bottom → top
     ax.axvline(0.0, color="black", linewidth=0.8)
     lo = min(0.0, float(vals.min()))
     hi = max(0.0, float(vals.max()))
