@@ -40,7 +40,7 @@ Room model (one zone)
   horizontal, 5.0 heat flow up, 0.7 down W/(m²K), ISO 6946:2007 Annex A, from memory) and
   long-wave radiation to a massless **radiant star node** with h_ri = 1/R_si − h_ci, so that the
   inside film is exactly the tabulated R_si (0.13 / 0.10 / 0.17 m²K/W): h_ri = 5.19 / 5.00 /
-  5.18 W/(m²K), within 1.3 % of ε·h_r0 = 5.13 W/(m²K) (ISO 52016-1, from memory). Each surface
+  5.18 W/(m²K), within 2.5 % of ε·h_r0 = 5.13 W/(m²K) (ISO 52016-1, from memory). Each surface
   exchanges with the star with h_ri·A_i — an area-weighted enclosure (exact when the view
   factors are F_ij = A_j/ΣA). Radiant gains are injected at the star.
 * **Outside surface to outdoor**: convection to the outdoor air and long-wave radiation with
@@ -77,7 +77,7 @@ from .constructions import (
     rc_chain,
     surface_resistances,
 )
-from .controls import Condition, Term, above, below, hours, warmer, when
+from .controls import Condition, above, below, hours, warmer, when
 from .errors import ConstructionError, NetworkError, WeatherError
 from .network import Network
 
@@ -103,7 +103,6 @@ __all__ = [
     "heat_flow_direction",
     "infiltration_rate",
     "iso13370_slab_u_value",
-    "negate",
     "night_ventilation",
     "slab_soil_depth",
     "surface_coefficients",
@@ -114,7 +113,7 @@ __all__ = [
 #: (ISO 6946:2007 Annex A table, from memory; 4σT³ = 4.62 at 273.15 K).
 EXTERNAL_RADIATIVE_COEFFICIENT_BLACK = 4.6
 
-#: Depth of the soil column under a slab as a multiple of B' = A/(0.5 P) [-]; see
+#: Depth of the soil column under a slab per B' = A/(0.5 P) [-] (plus w + λR_se); see
 #: :func:`slab_soil_depth` for the choice and its accuracy against ISO 13370.
 SLAB_SOIL_DEPTH_FACTOR = 0.4
 
@@ -292,6 +291,9 @@ class Element:
         Exposed perimeter P [m] of a floor on the ground (slab), needed for ``"ground"``.
     depth : float, optional
         Depth below ground z [m] of a basement wall, needed for ``"ground"`` walls.
+    wall_thickness : float, default 0.3
+        Thickness w of the perimeter walls of a floor on the ground [m] (ISO 13370's w, used
+        by :func:`slab_soil_depth`; 0.3 m typical, common practice, no source).
     soil : Soil, optional
         Soil for a ground element; default the ``soil`` given to :func:`add_room`.
     """
@@ -307,6 +309,7 @@ class Element:
     emissivity: float = 0.9
     perimeter: float | None = None
     depth: float | None = None
+    wall_thickness: float = 0.3
     soil: Soil | None = None
 
 
@@ -462,23 +465,48 @@ def iso13370_slab_u_value(area, exposed_perimeter, wall_thickness, floor_resista
     return lam / (0.457 * b + dt)
 
 
-def slab_soil_depth(area, exposed_perimeter):
-    """Default soil column depth under a slab [m]: D = 0.4 B', B' = A/(0.5 P).
+def slab_soil_depth(area, exposed_perimeter, wall_thickness=0.3, soil_conductivity=2.0,
+                    rse=0.04):
+    """Default soil column depth under a slab [m]: D = 0.4 B' + w + λ_g R_se.
+
+    Parameters
+    ----------
+    area, exposed_perimeter : float
+        Floor area A [m²] and exposed perimeter P [m]; B' = A/(0.5 P).
+    wall_thickness : float, default 0.3
+        Thickness w of the walls at the perimeter [m] (ISO 13370's w; 0.3 m typical,
+        common practice, no source).
+    soil_conductivity : float, default 2.0
+        λ_g [W/(mK)].
+    rse : float, default 0.04
+        External surface resistance of the ground surface [m²K/W] (ISO 13370's R_se).
+
+    Returns
+    -------
+    float
+        D [m].
 
     Notes
     -----
-    The ground loss of a slab leaves through the soil to the outdoor air around the
-    perimeter; the mean heat-path length grows with B'. In the well-insulated limit ISO 13370
-    gives U = λ/(0.457 B' + d_t), i.e. a soil layer of 0.457 B'; less insulated floors lose
-    more near the edge (shorter paths, ISO's equivalent soil layer λ/U − d_t = 0.32–0.46 B').
-    With D = 0.4 B', a 1-D column (R_si + R_f + D/λ) to a deep boundary at the annual mean
-    temperature gives steady losses within ±4 % of :func:`iso13370_slab_u_value` for
-    R_f ≥ 0.5 m²K/W and B' = 2 … 20 m, and −12 … +1 % for uninsulated slabs with B' ≤ 12 m
-    (−19 % at B' = 20 m) (computed here, w = 0.3 m, λ = 2 W/(mK)).
+    The ground loss of a slab leaves through the soil to the outdoor air beyond the
+    perimeter, passing beneath the perimeter walls and through the ground-surface film; the
+    mean heat-path length grows with B'. In its well-insulated limit ISO 13370 gives
+    U = λ/(0.457 B' + d_t), d_t = w + λ(R_si + R_f + R_se), which a 1-D column
+    R_si + R_f + D/λ reproduces exactly with D = 0.457 B' + w + λR_se. Less insulated floors
+    lose more near the edge (shorter paths): ISO's equivalent soil layer λ/U − d_t is
+    0.32–0.46 B'. With the factor 0.4 (:data:`SLAB_SOIL_DEPTH_FACTOR`) the steady loss of the
+    column (to a deep boundary at the annual mean temperature) is, against
+    :func:`iso13370_slab_u_value` for B' = 2 … 20 m, λ = 2 W/(mK), w = 0.3 m (computed here):
+    within ±4 % for R_f ≥ 1 m²K/W; −8 … +3 % for R_f = 0.5; and −12 … +1 % for an uninsulated
+    slab with B' ≤ 12 m (−19 % at B' = 20 m, where ISO's perimeter-dominated loss is least
+    like a uniform column). The column is 1-D: it has no separate edge path, so the
+    distribution of the loss over the floor and its annual lag are approximate.
     """
     a = _num(area, "area [m²]", low=0.0, low_open=True)
     p = _num(exposed_perimeter, "exposed_perimeter [m]", low=0.0, low_open=True)
-    return SLAB_SOIL_DEPTH_FACTOR * a / (0.5 * p)
+    w = _num(wall_thickness, "wall_thickness [m]", low=0.0)
+    lam = _num(soil_conductivity, "soil_conductivity [W/(mK)]", low=0.0, low_open=True)
+    return SLAB_SOIL_DEPTH_FACTOR * a / (0.5 * p) + w + lam * _num(rse, "rse [m²K/W]", low=0.0)
 
 
 def basement_wall_soil_depth(depth, wall_resistance, soil_conductivity=2.0, rsi=0.13):
@@ -801,6 +829,7 @@ def add_room(net: Network, name: str, *, floor_area: float, height: float,
                 _num(elem.perimeter, f"{ew}: perimeter [m]", low=0.0, low_open=True)
             if elem.depth is not None:
                 _num(elem.depth, f"{ew}: depth [m]", low=0.0, low_open=True)
+            _num(elem.wall_thickness, f"{ew}: wall_thickness [m]", low=0.0)
         if b == "outdoor" and elem.windows:
             rse = surface_resistances(direction).rse
         else:
@@ -924,7 +953,7 @@ def add_room(net: Network, name: str, *, floor_area: float, height: float,
                 if el_soil.depth is not None:
                     d = el_soil.depth
                 elif direction == "down":
-                    d = slab_soil_depth(area, elem.perimeter)
+                    d = slab_soil_depth(area, elem.perimeter, elem.wall_thickness, lam)
                 else:
                     d = basement_wall_soil_depth(elem.depth, r_lay, lam, rsi_)
                 gb = _boundary(net, ground, ground_temperature, "ground", what)
@@ -1219,22 +1248,6 @@ def add_ventilation(net: Network, zone, *, flow_m3h, heat_recovery: float = 0.0,
         if hasattr(zone, "switches"):
             zone.switches.append(sw)
     return ln
-
-
-def negate(condition: Condition) -> Condition:
-    """The logical negation of a condition (De Morgan), e.g. "window shut" from "open".
-
-    ``above`` ↔ ``below`` at the same threshold (equality has measure zero), ``hours(a, b)``
-    ↔ ``hours(b, a)``, ``when(mask)`` ↔ ``when(~mask)``.
-    """
-    if not isinstance(condition, Condition):
-        raise TypeError(f"negate() needs a Condition, got {type(condition).__name__}")
-    flip = {">": "<", "<": ">"}
-    clauses = [[]]
-    for clause in condition.clauses:  # not(OR of ANDs) = AND of (OR of negated terms)
-        neg = [Term(t.a, t.b, flip[t.op], t.threshold) for t in clause]
-        clauses = [c + [t] for c in clauses for t in neg]
-    return Condition(clauses)
 
 
 def night_ventilation(air: str, outdoor: str = "outdoor", *, indoor_above: float = 24.0,

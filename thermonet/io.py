@@ -39,7 +39,7 @@ Schema, version 1
 
 Keys marked ``?`` are optional (their defaults are those of the ``add_*`` methods); element
 names are optional for links, sources, thermostats and switches (the method's default name is
-used) but always written.
+used) but always written; a link's ``"kind"`` defaults to ``"conductance"``.
 
 *Schedule* (a :class:`pandas.Series` on a tz-aware index), either compact for a regular index
 ``{"start": ISO-8601 with offset, "step": ISO-8601 duration, "tz": IANA name, "values": [...]}``
@@ -282,6 +282,10 @@ class _ScheduleTable:
 def _decode_schedule(r: _Reader, x, where: str) -> pd.Series:
     if not isinstance(x, dict):
         raise r.err(where, f"must be a schedule object, got {_tname(x)} {_short(x)}")
+    if not any(k in x for k in ("start", "step", "index", "values")):
+        raise r.err(where, "must be a schedule reference {\"schedule\": key} or a schedule "
+                    "object ({\"start\", \"step\", \"values\"} or {\"index\", "
+                    f"\"values\"}}), got keys {sorted(x)}")
     compact = "start" in x or "step" in x
     keys = _COMPACT_KEYS if compact else _EXPLICIT_KEYS
     r.obj(x, where, *keys)
@@ -939,6 +943,10 @@ class _Builder:
             start = r.integer(span[0], f"{w}.hours[0]")
             end = r.integer(span[1], f"{w}.hours[1]")
             return self.call(w, hours, start=start, end=end)
+        if isinstance(x, dict) and "a" not in x and "op" not in x:
+            raise r.err(w, "a term is either {\"hours\": [start, end]} or {\"a\": ..., "
+                        "\"op\": \">\" or \"<\", \"threshold\": ...}; got keys "
+                        f"{', '.join(map(repr, x)) or '(none)'}")
         r.obj(x, w, *_TERM_KEYS)
         a = self.ref(x["a"], f"{w}.a")
         b = None if x.get("b") is None else self.ref(x["b"], f"{w}.b")
