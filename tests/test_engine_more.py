@@ -176,3 +176,112 @@ def test_relinearised_radiation_matches_stefan_boltzmann_exchange():
     b = relin.balance_w(list(net.nodes))
     assert b["residual"].abs().max() < 1e-9 * b.drop(columns="residual").abs().to_numpy().max()
     assert relin.info["states"] > 1
+
+
+# ------------------------------------------------------------ stiff networks, ZOH matrices
+def _stiff_chain_matrices(seed, n=6):
+    """K, E, C of a random chain with capacitances over 9 decades (well posed)."""
+    rng = np.random.default_rng(seed)
+    C = 10 ** rng.uniform(-1, 8, n)
+    g = 10 ** rng.uniform(-1, 4, n + 1)
+    K = np.zeros((n, n))
+    E = np.zeros((n, 3))            # two boundaries, one source
+    for i in range(n + 1):          # link i joins node i-1 and node i (ends: boundaries)
+        a, b = i - 1, i
+        for x in (a, b):
+            if 0 <= x < n:
+                K[x, x] += g[i]
+        if 0 <= a < n and b < n:
+            K[a, b] -= g[i]
+            K[b, a] -= g[i]
+    E[0, 0] = g[0]
+    E[n - 1, 1] = g[n]
+    E[n // 2, 2] = 1.0
+    return K, E, C
+
+
+@pytest.mark.parametrize("seed", [0, 1, 2])
+def test_doubling_matches_van_loan_expm(seed):
+    # Reference: the augmented-matrix exponential of Van Loan (1978, IEEE TAC 23(3),
+    # 395–404), computed with scipy.linalg.expm (Al-Mohy & Higham 2009), on a network that
+    # is mildly stiff so that expm itself is accurate. Φ, Γ, Φ̄ = (1/h)∫Φ, Γ̄ = (1/h)∫∫Φ B.
+    from scipy.linalg import expm
+
+    from thermonet.solvers import zoh_doubling
+
+    K, E, C = _stiff_chain_matrices(seed, n=5)
+    K *= 1e-3                         # keep ‖hA‖ moderate for the reference
+    E[:, :2] *= 1e-3                  # (boundary columns are conductances too)
+    h = 3600.0
+    n, nu = E.shape
+    A = -K / C[:, None]
+    B = E / C[:, None]
+    big = np.zeros((2 * n + nu, 2 * n + nu))
+    big[:n, :n] = A * h
+    big[:n, n:2 * n] = np.eye(n) * h
+    big[n:2 * n, 2 * n:] = B * h
+    X = expm(big)
+    Phi_ref = X[:n, :n]
+    J1 = X[:n, n:2 * n]               # ∫₀^h e^{sA} ds
+    J2B = X[:n, 2 * n:]               # ∫₀^h ∫₀^s e^{rA} dr ds B
+    Phi, Gam, Phibar, Gambar = zoh_doubling(K, E, C, h, nb=2)
+    assert np.allclose(Phi, Phi_ref, rtol=1e-11, atol=1e-13)
+    assert np.allclose(Gam, J1 @ B, rtol=1e-11, atol=1e-13)
+    assert np.allclose(Phibar, J1 / h, rtol=1e-11, atol=1e-13)
+    assert np.allclose(Gambar, J2B / h, rtol=1e-11, atol=1e-13)
+
+
+@pytest.mark.parametrize("seed", [3, 4])
+def test_doubling_agrees_with_modal_form_and_keeps_uniform_temperature(seed):
+    # Two independent constructions of the same exact step must agree; and with all
+    # boundaries at one temperature nothing changes: rows of [Φ, Γ_b] sum to 1 (the
+    # isothermal invariant the doubling enforces by construction, GTH 1985).
+    from thermonet.solvers import Discrete, modal_form, zoh_doubling
+
+    K, E, C = _stiff_chain_matrices(seed)
+    h = 900.0
+    lam, Q, W = modal_form(K, E, C)
+    d = Discrete(lam=lam, Q=Q, W=W, K=K, E=E, Yx=np.zeros((0, len(C))),
+                 Yu=np.zeros((0, 3)), C=C, h=h)
+    Phi, Gam, Phibar, Gambar = zoh_doubling(K, E, C, h, nb=2)
+    for ref, got in ((d.Phi, Phi), (d.Gam, Gam), (d.Phibar, Phibar), (d.Gambar, Gambar)):
+        assert np.allclose(got, ref, rtol=1e-8, atol=1e-10)
+    assert np.abs(Phi.sum(axis=1) + Gam[:, :2].sum(axis=1) - 1).max() < 1e-14
+    assert np.abs(Phibar.sum(axis=1) + Gambar[:, :2].sum(axis=1) - 1).max() < 1e-12
+
+
+def test_phi2_large_arguments():
+    # (x − 1 + e^{−x})/x² has no cancellation for x ≥ 1, so the direct formula is a
+    # reference there; for huge x it tends to 1/x (and x² would overflow beyond 1e154)
+    from thermonet.solvers import phi2
+
+    x = np.array([1.0001, 1.5, 3.0, 10.0, 1e3, 1e6, 1e12])
+    assert np.allclose(phi2(x), (x - 1 + np.exp(-x)) / x**2, rtol=1e-14, atol=0)
+    huge = np.array([1e160, 1e300])
+    assert np.allclose(phi2(huge), 1 / huge, rtol=1e-14)
+    # continuous across the switch-over points 1e-2 and 1
+    for x0 in (1e-2, 1.0):
+        lo, hi = phi2(np.array([x0 * (1 - 1e-12), x0 * (1 + 1e-12)]))
+        assert abs(hi - lo) < 1e-12
+
+
+def test_heated_building_starts_at_its_setpoint():
+    # With constant weather and a thermostat, the start state is the steady state with the
+    # thermostat acting, so from the very first step the heating power is U·A·ΔT exactly
+    # (steady conduction through series resistances; Incropera et al. 2007, §3.1).
+    w = hourly_weather(48, temp_air=-5.0)
+    net = tn.Network()
+    net.add_boundary("out", temperature="temp_air")
+    net.add_node("room", kind="air", capacitance=5e5)
+    net.add_node("wall", capacitance=2e7)
+    net.add_link("out", "wall", conductance=30.0, path="opaque")
+    net.add_link("wall", "room", conductance=120.0, path="internal")
+    net.add_airflow("out", "room", flow_m3h=60.0, path="infiltration")
+    net.add_thermostat("room", heating_setpoint=20.0)
+    res = tn.simulate(net, w, warmup_days=0)
+    ua = 1 / (1 / 30.0 + 1 / 120.0) + 60.0 * 1200.0 / 3600.0
+    assert np.allclose(res.heating.to_numpy(), ua * 25.0, rtol=1e-12)
+    assert np.allclose(res.temperatures["room"].to_numpy(), 20.0, atol=1e-10)
+    # the same start in the sparse method
+    sp_ = tn.simulate(net, w, warmup_days=0, method="sparse", sparse_tol=1e-10)
+    assert np.allclose(sp_.heating.to_numpy(), ua * 25.0, rtol=1e-8)

@@ -134,10 +134,17 @@ def winter_sun(days=4):
     return w
 
 
-def test_template_from_room_description_vs_detailed_room():
+@pytest.mark.parametrize("sunny,offset,rel", [(True, -9.0, 0.10), (False, 0.0, 0.03)])
+def test_template_from_room_description_vs_detailed_room(sunny, offset, rel):
     # Same description, same weather, infiltration 0.5 1/h, 300 W of gains, thermostat 20 °C
-    # at the air node of each. Documented in iso13790_from_room: heating within 10 %.
+    # at the air node of each. Documented in iso13790_from_room: heating within 10 % on
+    # cold clear days (−12 ± 3 °C), within 3 % on overcast days (no solar at all), where
+    # only the conductances and the warm-up differ. Tolerances: common practice, no source
+    # (a simplified method is expected within ~10 % of a detailed one on heating energy).
     w = winter_sun()
+    w["temp_air"] += offset
+    if not sunny:
+        w[["ghi", "dni", "dhi"]] = 0.0
     desc = dict(floor_area=20.0, height=2.5, weather=w, sky=None, elements=[
         Element("south", WALL, 12.5, 90, 180, windows=[Window("win", 4.5, 0.8, 0.5)]),
         Element("north", WALL, 12.5, 90, 0),
@@ -161,8 +168,10 @@ def test_template_from_room_description_vs_detailed_room():
         results[label] = b
     d, t = results["detailed"], results["iso13790"]
     print("\n", pd.DataFrame(results).round(3))
-    assert t["heating"] == pytest.approx(d["heating"], rel=0.10)
-    assert d["solar"] > 0 and t["solar"] > 0
+    assert d["heating"] > 10.0   # a real heating load, so the comparison means something
+    assert t["heating"] == pytest.approx(d["heating"], rel=rel)
+    if sunny:
+        assert d["solar"] > 0 and t["solar"] > 0
 
 
 def test_errors():

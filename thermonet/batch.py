@@ -51,12 +51,12 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from . import kernels
+from . import batch_simd, kernels
 from .compile import Compiled, _connected, _series_or_const, compile_network, sim_index
 from .constants import J_PER_KWH
 from .controls import HourWindow, Signal
 from .errors import NetworkError
-from .solvers import Discrete, Trajectory, phi1, phi2
+from .solvers import MODAL_DEFECT_LIMIT, Discrete, Trajectory, phi1, phi2, zoh_doubling
 
 #: Default memory budget of one batch of variants [bytes] (arrays of the kernel and of the
 #: batched discretisation; the column bank; traces when kept).
@@ -467,6 +467,12 @@ def discretise_batch(layout: Layout, C: np.ndarray, G: np.ndarray, h: float) -> 
         Gam = (Q * (h * e1)[..., None, :]) @ W
         Phibar = (Q * e1[..., None, :]) @ QC
         Gambar = (Q * (h * phi2(x))[..., None, :]) @ W
+        # the same check and fallback as solvers.discretise_exact, variant by variant
+        defect = np.abs(Phi.sum(axis=-1) + Gam[..., :nb].sum(axis=-1) - 1.0).max(axis=-1)
+        for v, si in zip(*np.nonzero(defect > MODAL_DEFECT_LIMIT), strict=True):
+            if errors[v] is None:
+                Phi[v, si], Gam[v, si], Phibar[v, si], Gambar[v, si] = zoh_doubling(
+                    K[v, si], Er[v, si], C[v], h, nb)
     else:
         lam = np.zeros((V, ns, 0))
         Q = np.zeros((V, ns, 0, 0))
@@ -799,7 +805,7 @@ def _run_group(layout: Layout, plist: list, store: ColumnStore, warm: int, opts:
         col = store.cols[key]
         bank[warm:, j] = col
         bank[:warm, j] = col[:warm]
-    # initial state: steady state of the first step's inputs, no thermostat power
+    # initial state: steady state of the first step's inputs, thermostats acting
     nsw = layout.nsw
     sw_init = np.array([p.sw_init for p in plist], dtype=bool).reshape(V, nsw)
     bits0 = (sw_init * (1 << np.arange(nsw))[None, :]).sum(axis=1).astype(np.int64)
@@ -814,6 +820,21 @@ def _run_group(layout: Layout, plist: list, store: ColumnStore, warm: int, opts:
         E0 = bd.E[rows, s0]
         K0[~ok] = np.eye(nc)
         x0 = np.linalg.solve(K0, (E0 @ u0[:, :, None]))[..., 0]
+        if m:   # thermostats act in the start state, as solvers.steady_start
+            pc = nb + nsrc + np.arange(m)
+            hsp0 = np.where(hcol[:, :] >= 0, bank[0, np.maximum(hcol, 0)], hconst)
+            csp0 = np.where(ccol[:, :] >= 0, bank[0, np.maximum(ccol, 0)], cconst)
+            Xp = np.linalg.solve(K0, E0[:, :, pc])                      # (V, nc, m)
+            Rx0, Ru0 = bd.Rx[rows, s0], bd.Ru[rows, s0]
+            T0 = (Rx0 @ x0[:, :, None])[..., 0] + (Ru0 @ u0[:, :, None])[..., 0]
+            Mss = Rx0 @ Xp + Ru0[:, :, pc]
+            P0 = np.zeros(m)
+            for v in np.flatnonzero(ok):
+                if np.isnan(hsp0[v]).all() and np.isnan(csp0[v]).all():
+                    continue
+                kernels._control(T0[v], Mss[v], hsp0[v], csp0[v], plist[v].qh, plist[v].qc,
+                                 P0)
+                x0[v] += Xp[v] @ P0
         for v, p in enumerate(plist):
             for i, val in p.initial:
                 x0[v, i] = val
@@ -846,19 +867,28 @@ def _run_group(layout: Layout, plist: list, store: ColumnStore, warm: int, opts:
         outs = [pick(a) for a in (heat, cool, peak_h, peak_c, hrs, dgh, tstat, xs_sum, u_sum,
                                   cnt, x_first, x_last)]
         tr = [pick(a) if keep else a for a in (Xtr, Utr, Str)]
-        step_batch(
-            pick(np.ascontiguousarray(np.swapaxes(bd.Phi, -1, -2))),
-            pick(np.ascontiguousarray(np.swapaxes(bd.Gam, -1, -2))),
-            pick(bd.Rx), pick(bd.Ru), pick(bd.M), pick(bd.Yx), pick(bd.Yu), pick(x0), bank,
-            pick(ucol), pick(uconst), pick(hcol), pick(hconst), pick(ccol), pick(cconst),
-            pick(scol), pick(sconst), pick(schcol[:, 0]), pick(schconst[:, 0]),
-            pick(np.array([p.qh for p in plist]).reshape(V, m)),
-            pick(np.array([p.qc for p in plist]).reshape(V, m)),
-            pick(np.array([p.SSF for p in plist]).reshape(V, nsw, nsrc)),
-            pick(np.array([p.SSF_off for p in plist]).reshape(V, nsw, nsrc)),
-            pick(sw_init), c.has_off.astype(np.bool_), pick(_terms(c.terms, plist)),
-            c.term_clause, c.clause_cond, int(nb), int(warm), int(cidx), thr_h, thr_d,
-            *outs, keep, *tr)
+        if batch_simd.applicable(ns, layout.nsw, m, keep):  # variants on the SIMD lanes
+            batch_simd.step_group(
+                pick(bd.Phi), pick(bd.Gam), pick(bd.Rx), pick(bd.Ru), pick(bd.M),
+                pick(bd.Yx), pick(bd.Yu), pick(x0), bank, pick(ucol), pick(uconst),
+                pick(hcol), pick(hconst), pick(ccol), pick(cconst),
+                pick(np.array([p.qh for p in plist]).reshape(V, m)),
+                pick(np.array([p.qc for p in plist]).reshape(V, m)),
+                int(nb), int(warm), int(cidx), thr_h, thr_d, *outs)
+        else:
+            step_batch(
+                pick(np.ascontiguousarray(np.swapaxes(bd.Phi, -1, -2))),
+                pick(np.ascontiguousarray(np.swapaxes(bd.Gam, -1, -2))),
+                pick(bd.Rx), pick(bd.Ru), pick(bd.M), pick(bd.Yx), pick(bd.Yu), pick(x0), bank,
+                pick(ucol), pick(uconst), pick(hcol), pick(hconst), pick(ccol), pick(cconst),
+                pick(scol), pick(sconst), pick(schcol[:, 0]), pick(schconst[:, 0]),
+                pick(np.array([p.qh for p in plist]).reshape(V, m)),
+                pick(np.array([p.qc for p in plist]).reshape(V, m)),
+                pick(np.array([p.SSF for p in plist]).reshape(V, nsw, nsrc)),
+                pick(np.array([p.SSF_off for p in plist]).reshape(V, nsw, nsrc)),
+                pick(sw_init), c.has_off.astype(np.bool_), pick(_terms(c.terms, plist)),
+                c.term_clause, c.clause_cond, int(nb), int(warm), int(cidx), thr_h, thr_d,
+                *outs, keep, *tr)
         if sel.size < V:
             for full, part in zip((heat, cool, peak_h, peak_c, hrs, dgh, tstat, xs_sum, u_sum,
                                    cnt, x_first, x_last), outs, strict=True):
@@ -947,9 +977,9 @@ def _results_for(layout, p: VariantParams, bd: BatchDiscrete, v, x_start0, X, U,
     comp = p.comp
     disc = {}
     for s in range(layout.ns):
-        disc[s] = Discrete(bd.Phi[v, s], bd.Gam[v, s], bd.Phibar[v, s], bd.Gambar[v, s],
-                           bd.Yx[v, s], bd.Yu[v, s], bd.K[v, s], bd.E[v, s], bd.lam[v, s],
-                           bd.Q[v, s], bd.W[v, s])
+        disc[s] = Discrete(Phi=bd.Phi[v, s], Gam=bd.Gam[v, s], Phibar=bd.Phibar[v, s],
+                           Gambar=bd.Gambar[v, s], K=bd.K[v, s], E=bd.E[v, s],
+                           Yx=bd.Yx[v, s], Yu=bd.Yu[v, s], C=p.C, h=comp.step_s, how="batch")
     Xstart = np.vstack([x_start0[None, :], X[:-1]]) if len(X) else X.copy()
     traj = Trajectory(X.copy(), Xstart, U.copy(), S.astype(np.int64), disc)
     info = {"method": "exact", "steps": len(comp.index), "warmup_steps": warm,
@@ -1025,6 +1055,7 @@ def run_batch(nets, weather: pd.DataFrame, *, step=None, warmup_days: float = 14
     errors: list = [None] * N
     traces: list = [None] * N
     groups: dict = {}     # key -> (layout, [positions], [params])
+    fast_groups: dict = {}  # structure_key -> the group of a layout read from Networks
 
     def fail(pos, exc):
         errors[pos] = exc
@@ -1041,8 +1072,8 @@ def run_batch(nets, weather: pd.DataFrame, *, step=None, warmup_days: float = 14
             if not isinstance(net, Network):
                 raise TypeError(f"expected a thermonet Network, got {type(net).__name__}")
             key = structure_key(net)
-            grp = groups.get(key)
-            if grp is not None and grp[0].fast and not keep_traces:
+            grp = fast_groups.get(key)
+            if grp is not None and not keep_traces:
                 params = params_fast(net, grp[0], store)
             else:
                 comp = compile_network(net, weather, step=step)
@@ -1055,6 +1086,8 @@ def run_batch(nets, weather: pd.DataFrame, *, step=None, warmup_days: float = 14
                     for nodes in sets.values():
                         _check_nodes(layout, nodes, "balance_nodes")
                     grp = groups[key] = (layout, [], [])
+                    if layout.fast:
+                        fast_groups[key[0]] = grp
                 params = params_from_compiled(comp, store, net=net, keep_comp=keep_traces)
             grp[1].append(pos)
             grp[2].append(params)

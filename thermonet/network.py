@@ -167,6 +167,22 @@ def _check_series(series, what, *, minimum=None):
     return series.astype(float)
 
 
+#: Largest link conductance accepted [W/K]. A flow is G·ΔT and ΔT is known to about
+#: 1e−14 K near room temperature, so beyond ~1e12 W/K flows (and the balance) would be
+#: rounding noise; no building element comes near it (1e6 W/K is a 10 000 m² slab contact).
+MAX_CONDUCTANCE = 1e12
+
+
+def _check_conductance(g, what):
+    """Refuse conductances [W/K] above :data:`MAX_CONDUCTANCE` (constant or Series)."""
+    top = float(np.max(np.asarray(g, dtype=float))) if np.size(g) else 0.0
+    if top > MAX_CONDUCTANCE:
+        raise NetworkError(f"{what} is {top:.3g} W/K, above the {MAX_CONDUCTANCE:.0e} W/K that "
+                           "flows can resolve (flow = G·ΔT with ΔT known to ~1e-14 K); merge "
+                           "the two nodes into one instead of joining them so tightly")
+    return g
+
+
 def _value(value, what, *, minimum=0.0, strict=False):
     """Validate a constant or a Series input."""
     if isinstance(value, pd.Series):
@@ -373,7 +389,8 @@ class Network:
         self._link_ends(a, b)
         _check_name(path, "path")
         name = self._unique(self.links, name, f"{a}-{b}:{path}", "link")
-        g = _value(conductance, f"link {name!r} conductance [W/K]")
+        g = _check_conductance(_value(conductance, f"link {name!r} conductance [W/K]"),
+                               f"link {name!r} conductance")
         self.links[name] = Link(name, a, b, g, path)
         return name
 
@@ -438,6 +455,7 @@ class Network:
         else:
             flow = _value(flow_m3h, f"airflow {name!r} flow_m3h [m³/h]")
         g = flow * (rho_cp / 3600.0) * (1.0 - eta)  # m³/h → m³/s
+        _check_conductance(g, f"airflow {name!r} conductance ρc_p·V̇·(1 − η)")
         params = {"flow_m3h": flow, "heat_recovery": eta, "rho_cp": rho_cp}
         self.links[name] = Link(name, a, b, g, path, kind="airflow", params=params)
         return name
@@ -457,6 +475,7 @@ class Network:
         name = self._unique(self.links, name, f"{a}-{b}:{path}", "link")
         g = radiation_conductance(area, emissivity_a, emissivity_b, view_factor, area_b=area_b,
                                   reference_temperature=reference_temperature)
+        _check_conductance(g, f"radiation link {name!r} conductance")
         params = dict(area=area, emissivity_a=emissivity_a, emissivity_b=emissivity_b,
                       view_factor=view_factor, area_b=area_b,
                       reference_temperature=reference_temperature)

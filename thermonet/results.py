@@ -221,10 +221,15 @@ class Results:
         })
 
     def worst_residual(self) -> float:
-        """Largest |residual| / largest |term| over steps, for the whole network."""
+        """Largest |residual| of the whole network's balance, relative to its largest term.
+
+        Over all steps: ``max|residual| / max(max|term|, 1 W)``. The 1 W floor keeps a
+        network in which nothing really flows (all terms at rounding level) from reporting
+        rounding noise as a 100 % error.
+        """
         b = self.balance_w(list(self._net.nodes))
         terms = b.drop(columns="residual").abs().to_numpy()
-        scale = max(terms.max(), 1e-300)
+        scale = max(float(terms.max()) if terms.size else 0.0, 1.0)
         return float(np.abs(b["residual"].to_numpy()).max() / scale)
 
     def __repr__(self):

@@ -5,7 +5,10 @@ Method registry (``simulate(..., method=...)``):
 ``"exact"``
     Exact discretisation of ``C dx/dt = −K x + E u`` for inputs held constant over each step
     (zero-order hold), through the symmetric modal form ``S = C^{-1/2} K C^{-1/2} = V Λ Vᵀ``.
-    Exact to rounding for any step; dense, for up to a few thousand capacitive nodes.
+    Exact to rounding for any step; dense, for up to a few thousand capacitive nodes. Each
+    discretisation is checked (rows of ``[Φ, Γ_b]`` must sum to one); very stiff networks
+    that fail the check are discretised by conservative scaling and doubling instead
+    (:func:`zoh_doubling`), which keeps every entry's relative accuracy.
 ``"sparse"``
     For large networks: the same exact-in-principle step ``x⁺ = x_eq + e^{−hC⁻¹K}(x − x_eq)``
     with the matrix exponential applied by a rational (contour-quadrature) approximation, one
@@ -52,28 +55,67 @@ def phi1(x):
 
 
 def phi2(x):
-    """``(x − 1 + e^{−x})/x²`` with its limit 1/2 at x = 0 (series for small x)."""
+    """``(x − 1 + e^{−x})/x²`` with its limit 1/2 at x = 0 (series for small x).
+
+    For x > 1 it is evaluated as ``(1 − φ₁(x))/x``, which cannot overflow for huge x
+    (x² would beyond 1e154) and loses no accuracy there (1 − φ₁ ≥ 0.36).
+    """
     x = np.asarray(x, dtype=float)
     out = np.empty_like(x)
-    big = x > 1e-2
+    mid = (x > 1e-2) & (x <= 1.0)
+    xm = x[mid]
+    out[mid] = (xm + np.expm1(-xm)) / xm**2
+    big = x > 1.0
     xb = x[big]
-    out[big] = (xb + np.expm1(-xb)) / xb**2
-    xs = x[~big]
-    out[~big] = 0.5 - xs / 6 + xs**2 / 24 - xs**3 / 120 + xs**4 / 720
+    out[big] = (1.0 + np.expm1(-xb) / xb) / xb
+    small = x <= 1e-2
+    xs = x[small]
+    out[small] = 0.5 - xs / 6 + xs**2 / 24 - xs**3 / 120 + xs**4 / 720
     return out
+
+
+#: Largest isothermal defect max|Φ·1 + Γ_b·1 − 1| accepted from the modal form; beyond it
+#: the step is recomputed by :func:`zoh_doubling` (see :func:`discretise_exact`).
+MODAL_DEFECT_LIMIT = 1e-11
 
 
 class Discrete:
     """One state's exact ZOH step: ``x⁺ = Φx + Γu``, mean ``x̄ = Φ̄x + Γ̄u``.
 
-    Built from the modal data (λ, Q, W); the dense matrices are formed on first use, so the
-    vectorised modal path for large free-running networks never builds them.
+    Built either from the modal data (λ, Q, W) — the dense matrices are then formed on first
+    use, so the vectorised modal path for large free-running networks never builds them — or
+    from the four matrices directly (``modal`` is then False).
+
+    Attributes
+    ----------
+    K, E : ndarray
+        Reduced conductance matrix [W/K] and input matrix of ``C dx/dt = −Kx + Eu``.
+    Yx, Yu : ndarray
+        Massless-node temperatures ``y = Yx x + Yu u``.
+    C : ndarray
+        Capacitances [J/K]; ``h`` the step [s].
+    modal : bool
+        True when ``lam`` [1/s], ``Q`` and ``W`` hold the modal form.
+    how : str
+        ``"modal"`` or ``"doubling"`` (see :func:`discretise_exact`).
     """
 
-    def __init__(self, lam, Q, W, C, h, red):
-        self.lam, self.Q, self.W, self.C, self.h = lam, Q, W, C, h
-        self.K, self.E, self.Yx, self.Yu = red.K, red.E, red.Yx, red.Yu
-        self._x = lam * h
+    def __init__(self, *, K, E, Yx, Yu, C, h, lam=None, Q=None, W=None, Phi=None, Gam=None,
+                 Phibar=None, Gambar=None, how="modal"):
+        self.K, self.E, self.Yx, self.Yu, self.C, self.h = K, E, Yx, Yu, C, h
+        self.lam, self.Q, self.W = lam, Q, W
+        self.modal = lam is not None
+        self.how = how
+        for key, value in (("Phi", Phi), ("Gam", Gam), ("Phibar", Phibar), ("Gambar", Gambar)):
+            if value is not None:
+                self.__dict__[key] = value   # takes the place of the cached property
+        if not self.modal and any(v is None for v in (Phi, Gam, Phibar, Gambar)):
+            raise ValueError("Discrete needs either lam, Q, W or all of Phi, Gam, Phibar, "
+                             "Gambar")
+
+    @cached_property
+    def _x(self):
+        return self.lam * self.h
 
     @cached_property
     def _QC(self):
@@ -96,8 +138,134 @@ class Discrete:
         return (self.Q * (self.h * phi2(self._x))) @ self.W
 
 
+def modal_form(K, E, C):
+    """Symmetric modal form of ``C dx/dt = −Kx + Eu``: (λ [1/s], Q, W = QᵀE).
+
+    ``S = C^{-1/2} K C^{-1/2} = V Λ Vᵀ`` (LAPACK ``syevd`` through :func:`numpy.linalg.eigh`),
+    ``Q = C^{-1/2} V`` so that ``Qᵀ C Q = I`` and ``K Q = C Q Λ``.
+    """
+    cs = np.sqrt(C)
+    S = K / np.outer(cs, cs)
+    lam, V = np.linalg.eigh(0.5 * (S + S.T))
+    Q = V / cs[:, None]
+    return lam, Q, Q.T @ E
+
+
+def isothermal_defect(lam, Q, W, C, h, nb):
+    """``max |Φ·1 + Γ_b·1 − 1|`` of the modal step, in O(n²) without forming Φ.
+
+    When every boundary and node is at the same temperature nothing may change, so the rows
+    of ``[Φ, Γ_b]`` sum to one. The modal form meets this to rounding unless the symmetric
+    eigensolver's absolute error ``ε‖S‖`` is comparable with the slowest rates, as in
+    networks that couple a node of tiny capacitance tightly to heavy ones.
+    """
+    x = lam * h
+    ones_c = Q.T @ C
+    row = Q @ (np.exp(-x) * ones_c) + Q @ (h * phi1(x) * W[:, :nb].sum(axis=1))
+    return float(np.abs(row - 1.0).max()) if len(row) else 0.0
+
+
+def zoh_doubling(K, E, C, h, nb):
+    r"""ZOH matrices (Φ, Γ, Φ̄, Γ̄) by conservative scaling and doubling, for stiff networks.
+
+    Parameters
+    ----------
+    K : ndarray (n, n)
+        Reduced conductance matrix [W/K] (an M-matrix: off-diagonal ≤ 0).
+    E : ndarray (n, nu)
+        Input matrix (≥ 0); its first ``nb`` columns are the boundary temperatures.
+    C : ndarray (n,)
+        Capacitances [J/K], > 0.
+    h : float
+        Step [s].
+    nb : int
+        Number of boundary columns of ``E``.
+
+    Returns
+    -------
+    Phi, Gam, Phibar, Gambar : ndarray
+
+    Notes
+    -----
+    ``A = −C⁻¹K`` is a generator of heat exchange: its off-diagonal entries and
+    ``B = C⁻¹E`` are ≥ 0 and each row of ``[A, B_b]`` sums to zero (a uniform temperature
+    is steady). The step is split into ``2^s`` sub-steps with ``‖hA‖/2^s ≤ 1/4``; on one
+    sub-step τ the off-diagonal part of ``e^{τA}``, ``J₁ = ∫₀^τ e^{rA} dr`` and
+    ``J₂ = ∫₀^τ∫₀^r e^{qA} dq dr`` come from their Taylor series, then ``s`` doublings
+
+    .. math::
+        Φ(2τ) = Φ(τ)^2,\quad Γ_b(2τ) = Γ_b(τ) + Φ(τ)Γ_b(τ),\quad
+        J_1(2τ) = J_1 + ΦJ_1,\quad J_2(2τ) = J_2 + τJ_1 + ΦJ_2
+
+    add only non-negative numbers. As in the Grassmann–Taksar–Heyman algorithm, the diagonal
+    of Φ is never formed by subtraction inside the products: it is recomputed after each
+    doubling as ``1 − Σ_{j≠i} Φ_ij − Σ_b Γ_b,ib``. Every entry thus keeps a small *relative*
+    error, including the slow rates that the symmetric eigensolver loses when a node of tiny
+    capacitance is tightly coupled to heavy ones (stiffness ratios ≳ 1e10). Then
+    ``Γ = J₁B`` (boundary columns: the doubled ``Γ_b``), ``Φ̄ = J₁/h``, ``Γ̄ = J₂B/h``.
+    The cost is about ``3(s + 5)`` dense products of n × n matrices, so it is used only when
+    the modal form fails its check.
+
+    References
+    ----------
+    .. [1] Van Loan, C. F., Computing integrals involving the matrix exponential, IEEE
+       Transactions on Automatic Control 23(3) (1978) 395–404.
+    .. [2] Grassmann, W. K., Taksar, M. I., Heyman, D. P., Regenerative analysis and steady
+       state distributions for Markov chains, Operations Research 33(5) (1985) 1107–1116.
+    .. [3] Higham, N. J., The scaling and squaring method for the matrix exponential
+       revisited, SIAM J. Matrix Anal. Appl. 26(4) (2005) 1179–1193.
+    """
+    n = len(C)
+    B = E / C[:, None]
+    off = -K / C[:, None]
+    np.fill_diagonal(off, 0.0)
+    # entries that are zero in exact arithmetic may come out as −1e−30 from the Schur
+    # complement; the generator's signs are known, so such rounding is set to zero
+    np.maximum(off, 0.0, out=off)
+    Bb = np.maximum(B[:, :nb], 0.0)
+    rate = off.sum(axis=1) + Bb.sum(axis=1)          # −A_ii [1/s]
+    A = off - np.diag(rate)
+    norm = 2.0 * float(rate.max()) * h if n else 0.0
+    s = max(0, int(np.ceil(np.log2(max(norm, 1e-300) / 0.25))))
+    tau = h / 2.0**s
+    M = tau * A
+    term = np.eye(n)
+    P = np.eye(n)
+    J1 = np.eye(n)
+    J2 = 0.5 * np.eye(n)
+    for k in range(1, 40):
+        term = term @ M / k
+        P += term
+        J1 += term / (k + 1)
+        J2 += term / ((k + 1) * (k + 2))
+        if np.abs(term).max() <= 1e-18:
+            break
+    J1 *= tau
+    J2 *= tau * tau
+    np.maximum(J1, 0.0, out=J1)
+    np.maximum(J2, 0.0, out=J2)
+    Gb = J1 @ Bb
+
+    def conserve(P, Gb):
+        np.fill_diagonal(P, 0.0)
+        np.maximum(P, 0.0, out=P)
+        np.fill_diagonal(P, np.maximum(1.0 - P.sum(axis=1) - Gb.sum(axis=1), 0.0))
+        return P
+
+    P = conserve(P, Gb)
+    for _ in range(s):
+        J2 = J2 + tau * J1 + P @ J2
+        J1 = J1 + P @ J1
+        Gb = Gb + P @ Gb
+        P = conserve(P @ P, Gb)
+        tau *= 2.0
+    Gam = J1 @ B
+    Gam[:, :nb] = Gb
+    return P, Gam, J1 / h, (J2 @ B) / h
+
+
 def discretise_exact(comp: Compiled, g: np.ndarray) -> Discrete:
-    """Exact ZOH discretisation for conductances ``g`` [W/K] via the symmetric modal form.
+    """Exact ZOH discretisation for conductances ``g`` [W/K].
 
     Notes
     -----
@@ -109,34 +277,31 @@ def discretise_exact(comp: Compiled, g: np.ndarray) -> Discrete:
 
     with φ₁(x) = (1 − e^{−x})/x and φ₂(x) = (x − 1 + e^{−x})/x². The step mean satisfies
     ``C(x⁺ − x) = h(−K x̄ + E u)`` exactly, so flows built from x̄ close the balance.
+
+    The modal form is checked by its isothermal defect (:func:`isothermal_defect`); when
+    that exceeds :data:`MODAL_DEFECT_LIMIT` (very stiff networks, whose slow rates the
+    eigensolver cannot resolve) the four matrices come from :func:`zoh_doubling` instead.
     """
     red = reduce_state(comp, g)
-    if comp.nc:
-        cs = np.sqrt(comp.C)
-        S = red.K / np.outer(cs, cs)
-        lam, V = np.linalg.eigh(0.5 * (S + S.T))
-        if lam.min() <= 0:
-            raise NetworkError("the network's conductance matrix is singular or indefinite "
-                               f"(smallest eigenvalue {lam.min():.3g}); check for nodes "
-                               "without a path to a boundary")
-        Q = V / cs[:, None]
-        W = Q.T @ red.E
-    else:
-        lam, Q, W = np.zeros(0), np.zeros((0, 0)), np.zeros((0, comp.nu))
-    return Discrete(lam, Q, W, comp.C, comp.step_s, red)
+    common = dict(K=red.K, E=red.E, Yx=red.Yx, Yu=red.Yu, C=comp.C, h=comp.step_s)
+    if not comp.nc:
+        return Discrete(lam=np.zeros(0), Q=np.zeros((0, 0)), W=np.zeros((0, comp.nu)),
+                        **common)
+    lam, Q, W = modal_form(red.K, red.E, comp.C)
+    if lam.min() <= 0:
+        raise NetworkError("the network's conductance matrix is singular or indefinite "
+                           f"(smallest eigenvalue {lam.min():.3g}); check for nodes "
+                           "without a path to a boundary")
+    if isothermal_defect(lam, Q, W, comp.C, comp.step_s, comp.nb) <= MODAL_DEFECT_LIMIT:
+        return Discrete(lam=lam, Q=Q, W=W, **common)
+    Phi, Gam, Phibar, Gambar = zoh_doubling(red.K, red.E, comp.C, comp.step_s, comp.nb)
+    return Discrete(Phi=Phi, Gam=Gam, Phibar=Phibar, Gambar=Gambar, how="doubling", **common)
 
 
 def control_maps(comp: Compiled, d: Discrete):
     """Rows giving controlled-node end temperatures, and the unit-power response matrix."""
-    m, nc = comp.m, comp.nc
-    Rx = np.zeros((m, nc))
-    Ru = np.zeros((m, comp.nu))
-    for i, node in enumerate(comp.thermostat_node):
-        if node < nc:
-            Rx[i, node] = 1.0
-        else:
-            Rx[i] = d.Yx[node - nc]
-            Ru[i] = d.Yu[node - nc]
+    m = comp.m
+    Rx, Ru = thermostat_rows(comp, d.Yx, d.Yu)
     pcols = comp.nb + comp.nsrc + np.arange(m)
     M = Rx @ d.Gam[:, pcols] + Ru[:, pcols]
     if m and (np.diag(M) <= 0).any():
@@ -157,11 +322,57 @@ class Trajectory:
     discrete: dict        # state id -> Discrete
 
 
-def initial_state(comp: Compiled, d: Discrete, u0: np.ndarray, names) -> np.ndarray:
-    """Steady state of the first step's inputs (no thermostat power), then user overrides."""
+def thermostat_rows(comp: Compiled, Yx: np.ndarray, Yu: np.ndarray):
+    """Rows ``Rx`` (m × nc), ``Ru`` (m × nu) giving each controlled node's temperature."""
+    m, nc = comp.m, comp.nc
+    Rx = np.zeros((m, nc))
+    Ru = np.zeros((m, comp.nu))
+    for i, node in enumerate(comp.thermostat_node):
+        if node < nc:
+            Rx[i, node] = 1.0
+        else:
+            Rx[i] = Yx[node - nc]
+            Ru[i] = Yu[node - nc]
+    return Rx, Ru
+
+
+def steady_start(K, E, Rx, Ru, u0, pcols, hsp0, csp0, qh, qc):
+    """Steady state [°C] of constant inputs ``u0``, with the thermostats acting.
+
+    Solves ``K x = E u`` where the thermostat powers ``P`` in ``u[pcols]`` hold each
+    controlled node at its first heating/cooling setpoint when the free steady state lies
+    outside them, within the capacity limits (the same projected Gauss–Seidel as each step,
+    on the steady-state response ``Rx K⁻¹ E_P + Ru_P``). A heated building thus starts warm
+    rather than at its free-running temperature, so the warm-up need not heat up its fabric.
+    """
+    u = np.array(u0, dtype=float)
+    u[pcols] = 0.0
+    x = np.linalg.solve(K, E @ u)
+    m = len(pcols)
+    if m and not (np.isnan(hsp0).all() and np.isnan(csp0).all()):
+        Xp = np.linalg.solve(K, E[:, pcols])          # steady response to 1 W at each node
+        T0 = Rx @ x + Ru @ u
+        Mss = Rx @ Xp + Ru[:, pcols]
+        P = np.zeros(m)
+        kernels._control(T0, Mss, hsp0, csp0, qh, qc, P)
+        x = x + Xp @ P
+    return x
+
+
+def initial_state(comp: Compiled, d: Discrete, u0: np.ndarray, names, hsp0=None,
+                  csp0=None) -> np.ndarray:
+    """Start state [°C]: steady state of the first step's inputs, then user overrides.
+
+    With ``hsp0``/``csp0`` (first setpoints [°C], NaN = none) the thermostats act in that
+    steady state (:func:`steady_start`); without them they are off.
+    """
     if not comp.nc:
         return np.zeros(0)
-    x0 = np.linalg.solve(d.K, d.E @ u0)
+    pcols = comp.nb + comp.nsrc + np.arange(comp.m)
+    if hsp0 is None:
+        hsp0 = csp0 = np.full(comp.m, np.nan)
+    Rx, Ru = thermostat_rows(comp, d.Yx, d.Yu)
+    x0 = steady_start(d.K, d.E, Rx, Ru, u0, pcols, hsp0, csp0, comp.qh, comp.qc)
     for i, name in enumerate(names[:comp.nc]):
         if name in comp.initial:
             x0[i] = comp.initial[name]
@@ -189,7 +400,7 @@ def run_exact(comp: Compiled, warmup_steps: int, kernel: str = "auto", *, x0=Non
             disc[s] = discretise_exact(comp, comp.G_states[s])
     ns = comp.n_states
     nc, m, nu = comp.nc, comp.m, comp.nu
-    if ns == 1 and m == 0 and nc > MODAL_VECTOR_MIN and x0 is None:
+    if ns == 1 and m == 0 and nc > MODAL_VECTOR_MIN and x0 is None and disc[0].modal:
         U = _warm_inputs(comp, warmup_steps)[0]
         return _run_modal_vectorised(comp, disc[0], U, warmup_steps)
     na = comp.nf - nc
@@ -210,7 +421,7 @@ def run_exact(comp: Compiled, warmup_steps: int, kernel: str = "auto", *, x0=Non
     u0 = U[0].copy()
     u0[comp.nb + comp.nsrc:] = 0.0
     if x0 is None:
-        x0 = initial_state(comp, disc[s0], u0, comp.free)
+        x0 = initial_state(comp, disc[s0], u0, comp.free, hsp[0], csp[0])
     n = U.shape[0]
     X = np.zeros((n, nc))
     P = np.zeros((n, m))
@@ -346,8 +557,10 @@ def simulate(net, weather, *, step=None, method: str = "auto", warmup_days: floa
     method : {"auto", "exact", "sparse"}
         See the module docstring.
     warmup_days : float, default 14
-        Lead-in [days]: the first ``warmup_days`` of inputs are run first, from the steady
-        state of the first step's inputs, so the initial state does not bias results.
+        Lead-in [days]: the first ``warmup_days`` of inputs are run first, so the initial
+        state does not bias results. The run starts from the steady state of the first
+        step's inputs with the thermostats acting (a heated building starts at its
+        setpoint, :func:`steady_start`), then any node's ``initial=`` temperature.
     kernel : {"auto", "numba", "numpy"}
         Compiled or plain-numpy stepping loop (same numbers).
     sparse_tol : float, default 1e-6
