@@ -8,7 +8,11 @@ Sources named beside each check:
 - ISO 13789 / ISO 13790 ρ_a c_a = 1200 J/(m³K) (from memory); 0.33 Wh/(m³K) (common practice).
 - Meier (1986) "Infiltration: just ACH50 divided by 20?" [C]; ISO 13789 / EN 832 shielding
   coefficient e (from memory, REFERENCES.md §4).
-- ISO 13370:2017 slab-on-ground formula (from memory, REFERENCES.md brief).
+- ISO 13370:2017 slab-on-ground and heated-basement-wall formulas (from memory,
+  REFERENCES.md brief).
+- EN ISO 10077-1:2017 whole-window U_w from U_g, U_f and ψ_g (from memory).
+- Dry-air ρ·c_p from the ideal gas law (R_d = 287.05 J/(kg·K)) and c_p = 1005 J/(kg·K)
+  (both from memory).
 - ISO 52016-1 convective fraction 0.4 of internal gains, 0.1 of solar gains (from memory).
 """
 
@@ -32,12 +36,16 @@ from thermonet.builders import (
     add_infiltration,
     add_room,
     add_ventilation,
+    add_window,
     add_window_opening,
     infiltration_rate,
+    iso13370_basement_wall_u_value,
     iso13370_slab_u_value,
     night_ventilation,
+    rooms,
     surface_coefficients,
     window_solar_gain,
+    window_u_value,
 )
 from thermonet.constructions import Construction, dynamic_characteristics
 from thermonet.errors import ConstructionError, NetworkError, ScheduleError, WeatherError
@@ -179,10 +187,15 @@ def test_infiltration_heat_flow_is_033_w_per_m3h_k():
     ln2 = add_infiltration(net, room, ach=0.4, name="r:infiltration2")   # 40 m³/h
     net.add_thermostat(room.air, heating_setpoint=20.0)
     res = tn.simulate(net, const_weather(60, temp_air=0.0), warmup_days=60)
+    # ρ·c_p of dry air at 20 °C and 101 325 Pa from its properties: ρ = p/(R_d T) with
+    # R_d = 287.05 J/(kg·K) (ideal gas, from memory) = 1.2041 kg/m³, c_p = 1005 J/(kg·K)
+    # (from memory) -> 1210.1 J/(m³K); the builders' 1200 lies within 1 % of it.
+    rho_cp_20 = 101_325.0 / (287.05 * 293.15) * 1005.0
     for name, flow in ((ln, 100.0), (ln2, 40.0)):
         q = res.flows[name].iloc[-1]           # positive outdoor → room: a loss is negative
         assert -q == pytest.approx(0.33 * flow * 20.0, rel=0.011)
         assert -q == pytest.approx(1200.0 / 3600.0 * flow * 20.0, rel=1e-9)
+        assert -q == pytest.approx(rho_cp_20 / 3600.0 * flow * 20.0, rel=0.01)
 
 
 def test_infiltration_from_airtightness():
@@ -498,3 +511,155 @@ def test_airflow_errors():
         add_window_opening(net, room, open_when=tn.above("r", 24))
     with pytest.raises(TypeError, match="Room"):
         add_infiltration(net, "r", ach=1.0)
+
+
+def test_basement_wall_steady_loss_is_iso13370():
+    # ISO 13370:2017 heated basement wall (from memory, REFERENCES.md brief): with
+    # d_w = λ(R_si + R_w + R_se) and the floor's d_t (here d_t = d_w, the builder's default),
+    # U_bw = 2λ/(πz) · (1 + 0.5 d_t/(d_t + z)) · ln(z/d_w + 1). Hand value for λ = 2 W/(mK),
+    # z = 2 m, R_w = 0.2 m²K/W: d_w = 0.74 m, 0.63662 × 1.135036 × ln 3.7027 = 0.94591.
+    assert iso13370_basement_wall_u_value(2.0, 0.2) == pytest.approx(0.94591, abs=5e-6)
+    # a better-insulated floor (d_t < d_w) lowers the factor; d_t > d_w is replaced by d_w
+    lam, z, r_w = 2.0, 2.0, 0.2
+    d_w = lam * (0.13 + r_w + 0.04)
+    u_dt = 2 * lam / (math.pi * z) * (1 + 0.5 * 0.3 / (0.3 + z)) * math.log(z / d_w + 1)
+    assert iso13370_basement_wall_u_value(2.0, 0.2, floor_equivalent_thickness=0.3) == (
+        pytest.approx(u_dt, rel=1e-12))
+    assert iso13370_basement_wall_u_value(2.0, 0.2, floor_equivalent_thickness=5.0) == (
+        pytest.approx(0.94591, abs=5e-6))
+    # the built wall (soil column to a deep-ground boundary at the outdoor annual mean)
+    # loses exactly U_bw·A·ΔT in steady state, for an uninsulated and an insulated wall
+    for layers in ([("concrete_2200", 0.30)], [("concrete_2200", 0.25), ("eps", 0.12)]):
+        wall = Construction("basement wall", layers)
+        r_w = wall.thermal_resistance
+        d_w = lam * (0.13 + r_w + 0.04)
+        u_iso = 2 * lam / (math.pi * z) * (1 + 0.5 * d_w / (d_w + z)) * math.log(z / d_w + 1)
+        net = tn.Network()
+        room = add_room(net, "cellar", floor_area=30, height=2.4, sky=None,
+                        ground_temperature=0.0, elements=[
+                            Element("wall", wall, 40.0, 90, 0, boundary="ground", depth=z)])
+        net.add_thermostat(room.air, heating_setpoint=20.0)
+        net.add_thermostat(room.star, heating_setpoint=20.0)
+        res = tn.simulate(net, const_weather(800, temp_air=0.0), warmup_days=800)
+        loss = -res.balance_w(room.nodes)["ground"].iloc[-1]
+        assert loss == pytest.approx(u_iso * 40.0 * 20.0, rel=1e-6)
+
+
+def test_window_u_value_hand_calculation():
+    # EN ISO 10077-1 (from memory): U_w = (A_g U_g + A_f U_f + l_g ψ_g) / A_w.
+    # A_w = 2.5 m², frame fraction 0.3, U_g = 0.6, U_f = 1.0 W/(m²K), ψ_g = 0.04 W/(mK),
+    # l_g = 6.0 m: 0.7·0.6 + 0.3·1.0 + 0.04·6.0/2.5 = 0.42 + 0.30 + 0.096 = 0.816 W/(m²K).
+    assert window_u_value(0.6, 1.0, 0.3, psi=0.04, glazing_perimeter=6.0, area=2.5) == (
+        pytest.approx(0.816, rel=1e-12))
+    assert window_u_value(1.1, 1.1, 0.25) == pytest.approx(1.1, rel=1e-12)
+    with pytest.raises(NetworkError, match="area"):
+        window_u_value(0.6, 1.0, 0.3, psi=0.04, glazing_perimeter=6.0)
+    with pytest.raises(NetworkError, match="frame_fraction"):
+        window_u_value(0.6, 1.0, 1.0)
+    with pytest.raises(NetworkError, match="glazing_u"):
+        window_u_value(0.0, 1.0, 0.3)
+
+
+def _hand_net():
+    net = tn.Network()
+    net.add_boundary("outdoor", temperature="temp_air")
+    net.add_node("room", kind="air", capacitance=1.2e5, volume=50.0)
+    net.add_node("floor", kind="mass", capacitance=4e6)
+    net.add_link("room", "floor", conductance=80.0, path="internal")
+    return net
+
+
+def test_add_window_one_call_for_a_hand_built_network():
+    w = sunny_weather()
+    win = Window("south", 3.0, 0.8, 0.5, frame_fraction=0.25, height=1.5, width=1.6,
+                 overhang=solar.Overhang(0.6),
+                 shading=solar.MovableShading(0.3, "irradiance", on_above=300, off_below=200))
+    net = _hand_net()
+    added = add_window(net, "room", win, tilt=90, azimuth=180, weather=w,
+                       receivers={"room": 0.1, "floor": 0.9})
+    link = net.links[added.link]
+    assert (link.a, link.b, link.path) == ("outdoor", "room", "glazing")
+    assert link.conductance == pytest.approx(0.8 * 3.0, rel=1e-15)   # U_w·A, air to air
+    gain = window_solar_gain(w, win, 90, 180)
+    np.testing.assert_allclose(added.gain, gain, rtol=1e-15)
+    assert gain.max() > 100.0                                     # the sun is really there
+    assert [net.sources[s].node for s in added.sources] == ["room", "floor"]
+    np.testing.assert_allclose(net.sources[added.sources[1]].power, 0.9 * gain, rtol=1e-15)
+    assert {net.sources[s].path for s in added.sources} == {"solar"}
+    # the balance of room + floor shows exactly the transmitted solar under "solar"
+    res = tn.simulate(net, w, warmup_days=0)
+    b = res.balance(["room", "floor"]).sum()
+    assert b["solar"] == pytest.approx(gain.sum() / 1000.0, rel=1e-12)
+
+
+def test_add_window_steady_loss_is_u_a_delta_t_and_door_is_opaque():
+    # U_w is the air-to-air transmittance (EN ISO 10077-1 definition, from memory): in steady
+    # state, with no sun, the thermostat replaces exactly U_w·A·ΔT.
+    net = _hand_net()
+    add_window(net, "room", Window("w", 2.0, 1.1, 0.6))
+    door = add_window(net, "room", Door("front door", 2.2, 1.3))
+    assert net.links[door.link].path == "opaque" and door.gain is None
+    net.add_thermostat("room", heating_setpoint=20.0)
+    res = tn.simulate(net, const_weather(60, temp_air=-5.0), warmup_days=60)
+    assert res.heating.iloc[-1] == pytest.approx((1.1 * 2.0 + 1.3 * 2.2) * 25.0, rel=1e-9)
+
+
+def test_add_window_temperature_controlled_blind_is_a_switch():
+    w = sunny_weather(days=2)
+    blind = solar.MovableShading(0.2, "temperature", on_above=23.0, off_below=22.0,
+                                 node="room")
+    net = _hand_net()
+    added = add_window(net, "room", Window("big", 6.0, 1.0, 0.6, shading=blind), weather=w)
+    assert added.switches == ["big:shading"]
+    res = tn.simulate(net, w, warmup_days=0)
+    applied = res.sources[added.sources].sum(axis=1)
+    ratio = (applied / added.gain)[added.gain > 1.0]
+    assert set(np.round(ratio.unique(), 9)) <= {0.2, 1.0} and (ratio < 0.5).any()
+
+
+@pytest.mark.parametrize("kwargs,match", [
+    (dict(node="kitchen"), r"window 'w'.*node 'kitchen' is not a free node.*'room'"),
+    (dict(node="outdoor"), r"node 'outdoor' is not a free node"),
+    (dict(receivers={"room": 0.5, "floor": 0.4}), r"shares must sum to 1.*room=0.5"),
+    (dict(receivers={"room": 0.5, "attic": 0.5}), r"receiver 'attic' is not a free node"),
+    (dict(receivers={"room": 1.5, "floor": -0.5}), r"share of receiver 'room'"),
+    (dict(tilt=190), r"window 'w'.*tilt"),
+    (dict(azimuth=-10), r"window 'w'.*azimuth"),
+    (dict(window=Window("w", 2.0, 1.0, 1.4)), r"window 'w'.*g_value"),
+    (dict(window=Window("w", 2.0, 1.0, 0.5, shading=solar.MovableShading(
+        0.2, "temperature", on_above=24, off_below=23, node="loft"))),
+     r"shading control node 'loft'"),
+])
+def test_add_window_errors_name_the_window_and_the_fix(kwargs, match):
+    net = _hand_net()
+    args = dict(node="room", window=Window("w", 2.0, 1.0, 0.5))
+    args.update(kwargs)
+    with pytest.raises(NetworkError, match=match):
+        add_window(net, args.pop("node"), args.pop("window"), **args)
+    assert "w:transmission" not in net.links           # nothing half-added
+
+
+def test_add_window_twice_is_a_duplicate():
+    net = _hand_net()
+    add_window(net, "room", Window("w", 2.0, 1.0, 0.5))
+    with pytest.raises(NetworkError, match="w:transmission"):
+        add_window(net, "room", Window("w", 2.0, 1.0, 0.5))
+
+
+def test_room_records_travel_in_net_meta():
+    net = tn.Network()
+    room = add_room(net, "r", floor_area=20, height=2.5, sky=None,
+                    elements=[Element("wall", WALL, 10.0, windows=[Window("w", 2, 1, 0.5)])])
+    ln = add_infiltration(net, room, ach=0.5)
+    names = tg.add_internal_gains(net, room, [tg.occupants(2)],
+                                  const_weather(24, "h").index)
+    rec = rooms(net)["r"]
+    assert rec == room
+    assert ln in rec.links and set(names) <= set(rec.sources)   # later additions recorded
+    import json
+
+    json.dumps(net.meta)                                         # plain JSON
+    net.meta["builders"]["rooms"]["r"].pop("star")
+    with pytest.raises(NetworkError, match=r"rooms'\]\['r'\] lacks \['star'\]"):
+        rooms(net)
+    assert rooms(tn.Network()) == {}

@@ -83,6 +83,8 @@ from .network import Network
 
 __all__ = [
     "EXTERNAL_RADIATIVE_COEFFICIENT_BLACK",
+    "META_KEY",
+    "AddedWindow",
     "SLAB_SOIL_DEPTH_FACTOR",
     "SOIL_CLAY_SILT",
     "SOIL_ROCK",
@@ -98,15 +100,19 @@ __all__ = [
     "add_infiltration",
     "add_room",
     "add_ventilation",
+    "add_window",
     "add_window_opening",
+    "rooms",
     "basement_wall_soil_depth",
     "heat_flow_direction",
     "infiltration_rate",
+    "iso13370_basement_wall_u_value",
     "iso13370_slab_u_value",
     "night_ventilation",
     "slab_soil_depth",
     "surface_coefficients",
     "window_solar_gain",
+    "window_u_value",
 ]
 
 #: h_r0 = 4σT³ at 0 °C [W/(m²K)] used for exterior long-wave exchange, h_re = ε·h_r0
@@ -365,6 +371,70 @@ class Room:
                 f"{len(self.links)} links, {len(self.sources)} sources)")
 
 
+#: Key of ``net.meta`` under which builders keep their records (plain JSON, so they travel
+#: with the model file: see :func:`rooms`).
+META_KEY = "builders"
+
+_ROOM_FIELDS = ("air", "star", "heated", "floor_area", "height", "volume", "outdoor", "nodes",
+                "surfaces", "areas", "elements", "soil_nodes", "links", "sources", "switches",
+                "u_values")
+
+
+def _meta_section(net: Network, section: str) -> dict:
+    meta = getattr(net, "meta", None)
+    if not isinstance(meta, dict):
+        meta = {}
+        net.meta = meta
+    return meta.setdefault(META_KEY, {}).setdefault(section, {})
+
+
+def _keep_room(net: Network, rec: Room) -> None:
+    """Record ``rec`` in ``net.meta`` sharing its lists and dicts, so later additions
+    (airflows, gains) appear in the record too."""
+    _meta_section(net, "rooms")[rec.name] = {k: getattr(rec, k) for k in _ROOM_FIELDS}
+
+
+def rooms(net: Network) -> dict[str, Room]:
+    """The zones built by :func:`add_room` / :func:`add_buffer` in ``net``, by name.
+
+    The records live in ``net.meta["builders"]["rooms"]`` as plain JSON and are written to
+    model files by :func:`thermonet.io.save_model`, so a loaded model still knows which
+    nodes, links and sources make up each room (e.g. for ``res.balance(room.nodes)``).
+    The returned :class:`Room` objects share their lists with the record: airflows and
+    gains added to them later are recorded as well.
+
+    Parameters
+    ----------
+    net : Network
+
+    Returns
+    -------
+    dict of str to Room
+        Empty when no room was built.
+
+    Raises
+    ------
+    NetworkError
+        If a record is malformed (e.g. edited by hand); the message names the room and key.
+    """
+    section = (getattr(net, "meta", None) or {}).get(META_KEY, {}).get("rooms", {})
+    out = {}
+    for name, d in section.items():
+        if not isinstance(d, dict):
+            raise NetworkError(f"net.meta['{META_KEY}']['rooms'][{name!r}] must be an object "
+                               f"with keys {list(_ROOM_FIELDS)}")
+        missing = [k for k in _ROOM_FIELDS if k not in d]
+        if missing:
+            raise NetworkError(f"net.meta['{META_KEY}']['rooms'][{name!r}] lacks {missing}; "
+                               "rebuild the room with add_room")
+        unknown = [n for n in d["nodes"] if n not in net.nodes]
+        if unknown:
+            raise NetworkError(f"room {name!r}: its record names node(s) {unknown[:5]} that "
+                               "are not in the network; the record is stale — rebuild the room")
+        out[name] = Room(name, **{k: d[k] for k in _ROOM_FIELDS})
+    return out
+
+
 # ------------------------------------------------------------------------ surface physics
 def heat_flow_direction(tilt: float) -> str:
     """ISO 6946 direction of heat flow (inside → outside) of an element of given tilt.
@@ -509,21 +579,93 @@ def slab_soil_depth(area, exposed_perimeter, wall_thickness=0.3, soil_conductivi
     return SLAB_SOIL_DEPTH_FACTOR * a / (0.5 * p) + w + lam * _num(rse, "rse [m²K/W]", low=0.0)
 
 
-def basement_wall_soil_depth(depth, wall_resistance, soil_conductivity=2.0, rsi=0.13):
-    """Default soil thickness behind a basement wall [m] (quarter-circle heat paths).
+def iso13370_basement_wall_u_value(depth, wall_resistance, *, floor_equivalent_thickness=None,
+                                   soil_conductivity=2.0, rsi=0.13, rse=0.04):
+    """Thermal transmittance of the wall of a heated basement, ISO 13370 (from memory).
+
+    Parameters
+    ----------
+    depth : float
+        Depth z of the basement floor below the ground surface [m], > 0.
+    wall_resistance : float
+        Thermal resistance R_w of the wall construction (all layers) [m²K/W], ≥ 0.
+    floor_equivalent_thickness : float, optional
+        Equivalent thickness d_t of the basement floor [m] (ISO 13370's
+        d_t = w + λ(R_si + R_f + R_se)); default None: d_t = d_w (the wall's own, see Notes).
+    soil_conductivity : float, default 2.0
+        λ [W/(mK)].
+    rsi, rse : float, default 0.13, 0.04
+        Surface resistances [m²K/W] (horizontal heat flow; outside).
+
+    Returns
+    -------
+    float
+        U_bw [W/(m²K)] per m² of wall below ground.
 
     Notes
     -----
-    Derived here, no published check: heat leaving the wall at depth y reaches the ground
-    surface along a quarter circle of length πy/2, so the local transmittance is
-    λ/(d_w + πy/2), d_w = λ(R_si + R_w). Averaged over the wall depth z,
-    U = (2λ/(πz)) ln(1 + πz/(2 d_w)); the equivalent soil layer is D = λ/U − d_w.
+    With d_w = λ(R_si + R_w + R_se):
+
+    .. math:: U_{bw} = \\frac{2\\lambda}{\\pi z}\\left(1 + \\frac{0.5\\,d_t}{d_t + z}\\right)
+              \\ln\\left(\\frac{z}{d_w} + 1\\right)
+
+    valid for d_w ≥ d_t; when d_w < d_t, d_t is replaced by d_w (ISO 13370's rule). Without
+    the floor's d_t, thermonet takes d_t = d_w, the largest value the rule allows (the
+    loss is then at most (1 + 0.5 d_w/(d_w + z))/(1 + 0.5 d_t/(d_t + z)) ≤ 1.5 times the
+    value for a better-insulated floor; pass the floor's d_t for the exact figure).
+
+    References
+    ----------
+    ISO 13370:2017, Thermal performance of buildings — Heat transfer via the ground —
+    Calculation methods, heated basement, walls — formula from memory, not verified.
     """
     z = _num(depth, "basement wall depth [m]", low=0.0, low_open=True)
     lam = _num(soil_conductivity, "soil conductivity [W/(mK)]", low=0.0, low_open=True)
-    dw = lam * (rsi + _num(wall_resistance, "wall resistance [m²K/W]", low=0.0))
-    u = 2.0 * lam / (math.pi * z) * math.log(1.0 + math.pi * z / (2.0 * dw))
-    return max(lam / u - dw, 1e-3)
+    rw = _num(wall_resistance, "wall resistance [m²K/W]", low=0.0)
+    dw = lam * (_num(rsi, "rsi [m²K/W]", low=0.0) + rw + _num(rse, "rse [m²K/W]", low=0.0))
+    if dw <= 0.0:
+        raise NetworkError("basement wall: R_si + R_w + R_se must be > 0 m²K/W")
+    dt = dw if floor_equivalent_thickness is None else _num(
+        floor_equivalent_thickness, "floor_equivalent_thickness [m]", low=0.0, low_open=True)
+    dt = min(dt, dw)
+    return 2.0 * lam / (math.pi * z) * (1.0 + 0.5 * dt / (dt + z)) * math.log(z / dw + 1.0)
+
+
+def basement_wall_soil_depth(depth, wall_resistance, soil_conductivity=2.0, rsi=0.13, rse=0.04,
+                             floor_equivalent_thickness=None):
+    """Default soil thickness behind a basement wall [m], from ISO 13370 (from memory).
+
+    Parameters
+    ----------
+    depth : float
+        Depth z of the basement below ground [m].
+    wall_resistance : float
+        R_w of the wall construction [m²K/W].
+    soil_conductivity : float, default 2.0
+        λ [W/(mK)].
+    rsi, rse : float, default 0.13, 0.04
+        Surface resistances [m²K/W].
+    floor_equivalent_thickness : float, optional
+        d_t of the basement floor [m]; see :func:`iso13370_basement_wall_u_value`.
+
+    Returns
+    -------
+    float
+        D [m] such that the 1-D column R_si + R_w + D/λ has the steady transmittance U_bw of
+        :func:`iso13370_basement_wall_u_value`: D = λ/U_bw − λ(R_si + R_w) (at least 1 mm).
+
+    Notes
+    -----
+    The wall's steady loss to a deep-ground boundary at the annual mean outdoor temperature
+    is then exactly ISO 13370's U_bw·A·ΔT; the 1-D column has no separate path near the
+    ground surface, so the distribution of the loss over the wall depth and its seasonal lag
+    are approximate.
+    """
+    lam = _num(soil_conductivity, "soil conductivity [W/(mK)]", low=0.0, low_open=True)
+    u = iso13370_basement_wall_u_value(depth, wall_resistance,
+                                       floor_equivalent_thickness=floor_equivalent_thickness,
+                                       soil_conductivity=lam, rsi=rsi, rse=rse)
+    return max(lam / u - lam * (rsi + float(wall_resistance)), 1e-3)
 
 
 def _soil_cells(depth: float, first: float) -> list[float]:
@@ -620,6 +762,204 @@ def window_solar_gain(weather, window: Window, tilt: float, azimuth: float, *, s
                                      iam_model=window.iam_model, shading=admitted)
 
 
+def window_u_value(glazing_u, frame_u, frame_fraction, *, psi=0.0, glazing_perimeter=0.0,
+                   area=None):
+    """Thermal transmittance U_w of a whole window from its glazing and frame, ISO 10077-1.
+
+    Parameters
+    ----------
+    glazing_u : float
+        U_g of the glazing (centre of pane) [W/(m²K)], > 0.
+    frame_u : float
+        U_f of the frame [W/(m²K)], > 0.
+    frame_fraction : float
+        Frame share A_f/A_w of the window area [-], 0 ≤ f < 1.
+    psi : float, default 0
+        Linear thermal transmittance ψ_g of the glazing edge (spacer) [W/(mK)], ≥ 0.
+    glazing_perimeter : float, default 0
+        Visible perimeter l_g of the glazing [m], ≥ 0; with ``psi > 0`` also give ``area``.
+    area : float, optional
+        Window area A_w [m²] (opening including the frame), needed when ψ_g·l_g > 0.
+
+    Returns
+    -------
+    float
+        U_w [W/(m²K)], the value :class:`Window` takes as ``u_value``.
+
+    Notes
+    -----
+    .. math:: U_w = \\frac{A_g U_g + A_f U_f + l_g \\psi_g}{A_g + A_f}
+              = (1 - f) U_g + f U_f + \\frac{l_g \\psi_g}{A_w}
+
+    (EN ISO 10077-1:2017, single window, from memory).
+
+    References
+    ----------
+    EN ISO 10077-1:2017, Thermal performance of windows, doors and shutters — Calculation
+    of thermal transmittance — Part 1: General (from memory).
+    """
+    ug = _num(glazing_u, "glazing_u [W/(m²K)]", low=0.0, low_open=True)
+    uf = _num(frame_u, "frame_u [W/(m²K)]", low=0.0, low_open=True)
+    f = _num(frame_fraction, "frame_fraction [-]", low=0.0, high=1.0, high_open=True)
+    ps = _num(psi, "psi [W/(mK)]", low=0.0)
+    lg = _num(glazing_perimeter, "glazing_perimeter [m]", low=0.0)
+    edge = ps * lg
+    if edge > 0.0:
+        if area is None:
+            raise NetworkError("window_u_value: psi·glazing_perimeter > 0 needs area= [m²] of "
+                               "the window (opening including the frame)")
+        edge /= _num(area, "area [m²]", low=0.0, low_open=True)
+    return (1.0 - f) * ug + f * uf + edge
+
+
+@dataclass
+class AddedWindow:
+    """What :func:`add_window` created.
+
+    Attributes
+    ----------
+    name : str
+        The window's name (prefix of everything it created).
+    link : str
+        Transmission link outdoor → node, conductance U_w·A [W/K].
+    sources : list of str
+        Solar sources (path ``"solar"``), one per receiving node.
+    switches : list of str
+        The shading switch of a temperature-controlled device (else empty).
+    gain : pandas.Series or None
+        Transmitted solar gain [W] with external shading and any irradiance- or
+        schedule-controlled device applied (a temperature-controlled device acts through
+        the switch); None without weather or with g = 0.
+    """
+
+    name: str
+    link: str
+    sources: list = field(default_factory=list)
+    switches: list = field(default_factory=list)
+    gain: pd.Series | None = None
+
+
+def add_window(net: Network, node: str, window: Window, *, tilt: float = 90.0,
+               azimuth: float = 180.0, weather=None, receivers: Mapping | None = None,
+               outdoor: str = "outdoor", outdoor_temperature="temp_air", sky_model="perez",
+               latitude=None, longitude=None, solpos=None) -> AddedWindow:
+    """Add one window (or door) to a hand-built network in one call.
+
+    Adds the air-to-air transmission link ``outdoor → node`` with conductance U_w·A (path
+    ``"glazing"``, ``"opaque"`` for a :class:`Door`) and, with ``weather``, the transmitted
+    solar gain as sources (path ``"solar"``) on the receiving nodes, including external
+    shading (overhang, fins, far horizon) and movable shading; a temperature-controlled
+    device becomes a switch on those sources. Use it for networks wired by hand;
+    :func:`add_room` does the same for the windows of its elements (with surface nodes and
+    films instead of one air-to-air link).
+
+    Parameters
+    ----------
+    net : Network
+    node : str
+        Free node the window's indoor side is coupled to: the room air (U_w is an air-to-air
+        transmittance), or the node that stands for the indoor temperature in a simple model.
+    window : Window or Door
+    tilt, azimuth : float, default 90, 180
+        Orientation of the window [°] (pvlib's convention, 180 = south).
+    weather : pandas.DataFrame, optional
+        ``ghi``, ``dni``, ``dhi`` [W/m²] with the site in ``attrs["site"]``; without it only
+        the transmission link is added.
+    receivers : mapping, optional
+        Node → share [-] of the transmitted solar, shares summing to 1 (e.g. ``{"room":
+        0.1, "floor": 0.9}``); default ``{node: 1.0}``.
+    outdoor, outdoor_temperature : str, and str, float or Series
+        Outdoor-air boundary, reused if it exists, else created (default weather column
+        ``"temp_air"``).
+    sky_model : {"isotropic", "haydavies", "perez"}, default "perez"
+    latitude, longitude : float, optional
+        Site [°] when the weather has no ``attrs["site"]``.
+    solpos : pandas.DataFrame, optional
+        Solar position on the weather index (see :func:`thermonet.solar.solar_position`),
+        to share between windows.
+
+    Returns
+    -------
+    AddedWindow
+
+    Raises
+    ------
+    NetworkError
+        Unknown node or receiver (the known free nodes are listed), shares not summing to 1,
+        invalid window values, orientation out of range, a temperature-controlled shading
+        device on a node that does not exist, a name already used.
+    WeatherError
+        Weather without site coordinates or irradiance columns.
+
+    Examples
+    --------
+    >>> import thermonet as tn
+    >>> from thermonet.builders import Window, add_window
+    >>> net = tn.Network()
+    >>> net.add_boundary("outdoor", temperature="temp_air")
+    >>> net.add_node("room", kind="air", capacitance=1.2e5)
+    >>> added = add_window(net, "room", Window("south", 3.0, 0.8, 0.5))
+    >>> round(net.links[added.link].conductance, 9)   # U_w·A = 0.8 × 3.0 [W/K]
+    2.4
+    """
+    if not isinstance(net, Network):
+        raise TypeError(f"net must be a thermonet Network, got {type(net).__name__}")
+    if not isinstance(window, Window):
+        raise TypeError(f"window must be a Window or Door, got {type(window).__name__}")
+    kind = "door" if window.is_door else "window"
+    what = f"{kind} {window.name!r}"
+
+    def free_node(n, role):
+        if n not in net.nodes:
+            shown = ", ".join(repr(k) for k in list(net.nodes)[:20])
+            raise NetworkError(f"{what}: {role} {n!r} is not a free node of the network; "
+                               f"add it first with net.add_node (free nodes: {shown or 'none'})")
+        return n
+
+    free_node(node, "node")
+    _check_window(window, None)
+    tilt, azimuth = _check_orientation(tilt, azimuth, what)
+    shares = {node: 1.0} if receivers is None else dict(receivers)
+    if not shares:
+        raise NetworkError(f"{what}: receivers is empty; give node -> share, shares summing "
+                           "to 1")
+    for n, v in shares.items():
+        free_node(n, "receiver")
+        shares[n] = _num(v, f"{what}: solar share of receiver {n!r} [-]", low=0.0, high=1.0)
+    total = math.fsum(shares.values())
+    if abs(total - 1.0) > 1e-9:
+        listed = ", ".join(f"{n}={v:g}" for n, v in shares.items())
+        raise NetworkError(f"{what}: receiver shares must sum to 1, got {total:.6g} "
+                           f"({listed}); scale them")
+    dev = window.shading
+    if dev is not None and dev.control == "temperature":
+        free_node(dev.node, "shading control node")
+    out = _boundary(net, outdoor, outdoor_temperature, "air", what)
+    path = "opaque" if window.is_door else "glazing"
+    rec = AddedWindow(window.name, net.add_link(
+        out, node, conductance=float(window.u_value) * float(window.area), path=path,
+        name=f"{window.name}:transmission"))
+    if weather is None or float(window.g_value) == 0.0:
+        return rec
+    if not isinstance(weather, pd.DataFrame):
+        raise TypeError("weather must be a pandas DataFrame")
+    if solpos is None:
+        solpos = _solpos(weather, latitude, longitude)
+    gain = window_solar_gain(weather, window, tilt, azimuth, solpos=solpos,
+                             sky_model=sky_model).rename(None)
+    rec.gain = gain
+    for n, share in shares.items():
+        if share > 0.0:
+            rec.sources.append(net.add_source(n, power=gain * share, path="solar",
+                                              name=f"{window.name}:solar>{n}"))
+    if dev is not None and dev.control == "temperature":
+        rec.switches.append(net.add_switch(
+            on=above(dev.node, dev.on_above), off=below(dev.node, dev.off_below),
+            sources={s: float(dev.factor) for s in rec.sources},
+            name=f"{window.name}:shading"))
+    return rec
+
+
 # ------------------------------------------------------------------------------ helpers
 def _boundary(net: Network, name: str, temperature, kind: str, what: str) -> str:
     """Reuse boundary ``name`` or create it with ``temperature``."""
@@ -653,10 +993,13 @@ def _resolve_construction(elem: Element, constructions) -> Construction:
 
 
 def _check_window(win, elem_name):
+    """Validate a Window or Door; ``elem_name`` None for a window added on its own."""
     if not isinstance(win, Window):
         raise TypeError(f"element {elem_name!r}: windows must be Window or Door, got "
                         f"{type(win).__name__}")
-    what = f"{'door' if win.is_door else 'window'} {win.name!r} in element {elem_name!r}"
+    what = f"{'door' if win.is_door else 'window'} {win.name!r}"
+    if elem_name is not None:
+        what += f" in element {elem_name!r}"
     _num(win.area, f"{what}: area [m²]", low=0.0, low_open=True)
     _num(win.u_value, f"{what}: u_value [W/(m²K)]", low=0.0, low_open=True)
     _num(win.g_value, f"{what}: g_value [-]", low=0.0, high=1.0)
@@ -1021,6 +1364,7 @@ def add_room(net: Network, name: str, *, floor_area: float, height: float,
                 rec.switches.append(net.add_switch(
                     on=above(dev.node, dev.on_above), off=below(dev.node, dev.off_below),
                     sources={s: float(dev.factor) for s in srcs}, name=f"{tag}:shading"))
+    _keep_room(net, rec)
     return rec
 
 
@@ -1231,7 +1575,9 @@ def add_ventilation(net: Network, zone, *, flow_m3h, heat_recovery: float = 0.0,
     flow = q
     if schedule is not None:
         if not isinstance(schedule, pd.Series):
-            raise TypeError("schedule must be a pandas Series of flow fractions [-]")
+            raise TypeError(f"ventilation of {zone.name!r}: schedule must be a pandas Series "
+                            f"of flow fractions [-] on the weather index, got "
+                            f"{type(schedule).__name__}")
         vals = np.asarray(schedule, dtype=float)
         if not np.isfinite(vals).all() or (vals < 0).any():
             raise NetworkError(f"ventilation of {zone.name!r}: schedule fractions must be finite "
@@ -1284,7 +1630,9 @@ def add_window_opening(net: Network, zone, *, open_when: Condition, close_when=N
     """
     zone = _zone(zone, "add_window_opening")
     if not isinstance(open_when, Condition):
-        raise TypeError("open_when must be a thermonet Condition")
+        raise TypeError(f"window opening of {zone.name!r}: open_when must be a thermonet "
+                        f"Condition (e.g. night_ventilation(...)), got "
+                        f"{type(open_when).__name__}")
     kw = dict(ach=ach, volume=zone.volume) if ach is not None else dict(flow_m3h=flow_m3h)
     if (flow_m3h is None) == (ach is None):
         raise NetworkError(f"window opening of {zone.name!r}: give exactly one of flow_m3h= or "
@@ -1318,12 +1666,17 @@ def add_buffer_exchange(net: Network, room, buffer, *, flow_m3h, schedule=None,
     """
     for z, w in ((room, "room"), (buffer, "buffer")):
         _zone(z, f"add_buffer_exchange {w}")
-    q = _num(flow_m3h, "buffer exchange flow_m3h [m³/h]", low=0.0)
+    what = f"air exchange {room.name!r} ↔ {buffer.name!r}"
+    q = _num(flow_m3h, f"{what}: flow_m3h [m³/h]", low=0.0)
     flow = q
     if schedule is not None:
+        if not isinstance(schedule, pd.Series):
+            raise TypeError(f"{what}: schedule must be a pandas Series of fractions [-] on the "
+                            f"weather index, got {type(schedule).__name__}")
         vals = np.asarray(schedule, dtype=float)
         if not np.isfinite(vals).all() or (vals < 0).any():
-            raise NetworkError("buffer exchange schedule fractions must be finite and ≥ 0")
+            raise NetworkError(f"{what}: schedule fractions must be finite and ≥ 0 (a door "
+                               "opening share, 0 = shut)")
         flow = (schedule.astype(float) * q).rename(None)
     ln = net.add_airflow(room.air, buffer.air, path="buffer", flow_m3h=flow,
                          name=name or f"{room.name}-{buffer.name}:exchange")

@@ -154,6 +154,14 @@ OFFICE_APPLIANCES = GainProfile(
     _hours((8, 18, 1.0), base=0.2), _hours(base=0.2), "office appliances", _NS)
 
 
+def _number(value, gain: str, what: str) -> float:
+    """``value`` as a float, or a TypeError naming the gain and the parameter."""
+    if isinstance(value, bool) or not isinstance(value, (int, float, np.integer, np.floating)):
+        raise TypeError(f"gain {gain!r}: {what} must be a number, got "
+                        f"{type(value).__name__} {value!r}")
+    return float(value)
+
+
 @dataclass(frozen=True)
 class Gain:
     """One internal gain: a peak power, its profile and its convective fraction.
@@ -184,9 +192,10 @@ class Gain:
             raise NetworkError(f"gain {self.name!r}: give exactly one of power_w [W] or "
                                "w_per_m2 [W/m²]")
         for v, what in ((self.power_w, "power_w [W]"), (self.w_per_m2, "w_per_m2 [W/m²]")):
-            if v is not None and (not math.isfinite(float(v)) or float(v) < 0):
+            if v is not None and (not math.isfinite(_number(v, self.name, what))
+                                  or float(v) < 0):
                 raise NetworkError(f"gain {self.name!r}: {what} must be finite and ≥ 0, got {v!r}")
-        f = float(self.convective_fraction)
+        f = _number(self.convective_fraction, self.name, "convective_fraction [-]")
         if not 0.0 <= f <= 1.0:
             raise NetworkError(f"gain {self.name!r}: convective_fraction must lie in 0 … 1, got "
                                f"{self.convective_fraction!r}")
@@ -222,10 +231,10 @@ def occupants(people: float, *, w_per_person: float = SENSIBLE_HEAT_PER_PERSON,
               profile=RESIDENTIAL_OCCUPANCY, convective_fraction: float = CONVECTIVE_FRACTION,
               name: str = "occupants") -> Gain:
     """Occupants: ``people`` × ``w_per_person`` [W] (sensible heat) × profile."""
-    p = float(people)
+    p = _number(people, name, "people")
     if not math.isfinite(p) or p < 0:
         raise NetworkError(f"gain {name!r}: people must be finite and ≥ 0, got {people!r}")
-    w = float(w_per_person)
+    w = _number(w_per_person, name, "w_per_person [W]")
     if not math.isfinite(w) or w < 0:
         raise NetworkError(f"gain {name!r}: w_per_person [W] must be finite and ≥ 0, got "
                            f"{w_per_person!r}")
