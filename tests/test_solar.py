@@ -84,6 +84,22 @@ def test_spa_worked_example_incidence_through_surface_irradiance():
     assert irr["aoi"].iloc[0] == pytest.approx(25.187000, abs=1e-4)
 
 
+def test_spa_worked_example_incidence_through_the_default_path():
+    # The path every builder uses: surface_irradiance without solpos reads the site from
+    # weather.attrs["site"], pressure [Pa] and temp_air [°C] from the frame, and places the
+    # sun at the mid-point of the hour ENDING at the label (13:00:30 -> the SPA instant
+    # 12:30:30). Reda & Andreas (2004) worked example: incidence 25.187000° on a 30° slope
+    # facing 170° (REFERENCES.md §3 [C]); the beam on the plane is DNI·cos θ.
+    idx = pd.DatetimeIndex(["2003-10-17 12:00:30", "2003-10-17 13:00:30"], tz="Etc/GMT+7")
+    weather = pd.DataFrame({"ghi": 500.0, "dni": 700.0, "dhi": 100.0, "temp_air": 11.0,
+                            "pressure": 82000.0}, index=idx)
+    weather.attrs["site"] = dict(SPA_SITE)
+    irr = solar.surface_irradiance(weather, 30.0, 170.0)
+    assert irr["aoi"].iloc[1] == pytest.approx(25.187000, abs=1e-4)
+    assert irr["beam"].iloc[1] == pytest.approx(700.0 * math.cos(math.radians(25.187)),
+                                                abs=1e-3)
+
+
 def test_interval_ending_is_mid_point():
     # thermonet convention (module docstring): label t describes (t − Δt, t], sun at
     # t − Δt/2. Same SPA inputs, one hour ending 13:00:30 -> the SPA instant 12:30:30.
@@ -180,6 +196,22 @@ def test_annual_irradiation_greensboro(greensboro_planes):
     iso = greensboro_planes["isotropic"]["south"]["total"].sum()
     assert greensboro_planes["perez"]["south"]["total"].sum() > iso
     assert greensboro_planes["haydavies"]["south"]["total"].sum() > iso
+
+
+def test_vertical_to_horizontal_ratio_grows_with_latitude(greensboro_planes):
+    # Solar geometry (Duffie & Beckman, Solar Engineering of Thermal Processes, ch. 1-2):
+    # the lower the sun, the more a south wall receives relative to the horizontal. The two
+    # NREL TMY3 files shipped with pvlib, read in place through thermonet.weather.read_tmy3:
+    # Sand Point AK (703165, 55.3° N) must show a higher annual south-vertical/horizontal
+    # ratio than Greensboro NC (723170, 36.1° N), for every sky model.
+    from thermonet import weather
+
+    sand = weather.read_tmy3(pathlib.Path(pvlib.__file__).parent / "data" / "703165TY.csv")
+    for model, planes in greensboro_planes.items():
+        low = planes["south"]["total"].sum() / planes["horizontal"]["total"].sum()
+        high = (solar.surface_irradiance(sand, 90.0, 180.0, model=model)["total"].sum()
+                / solar.surface_irradiance(sand, 0.0, 180.0, model=model)["total"].sum())
+        assert high > low + 0.05, (model, low, high)
 
 
 def test_components_sum_and_site_from_attrs(greensboro, greensboro_planes):

@@ -595,3 +595,90 @@ def test_write_sample_csv_round_trip(tmp_path, sample):
     pd.testing.assert_frame_equal(sw.load_sample_weather(path), sample, check_exact=True,
                                   check_freq=False)
     assert path.read_bytes() == sw.SAMPLE_CSV.read_bytes()
+
+
+# ------------------------------------------------------------------------------------------
+# the library's one solar-position path, and a second real typical year
+# ------------------------------------------------------------------------------------------
+def test_weather_solar_position_reproduces_the_spa_worked_example():
+    # Reda & Andreas (2004), NREL/TP-560-34302, worked example (REFERENCES.md §3 [C]):
+    # 2003-10-17 12:30:30 local standard time, UTC−7; 39.742476 N, −105.1786 E, 1830.14 m;
+    # 820 mbar, 11 °C, ΔT = 67 s -> topocentric (refracted) zenith 50.111622°, azimuth
+    # 194.340241°. As a weather frame: the hour ENDING 13:00:30 has its sun at 12:30:30,
+    # and pressure [Pa] and temperature come from the frame's own columns.
+    idx = pd.DatetimeIndex(["2003-10-17 12:00:30", "2003-10-17 13:00:30"], tz="Etc/GMT+7")
+    frame = pd.DataFrame({"temp_air": 11.0, "pressure": 82_000.0}, index=idx)
+    site = w.Site(latitude=39.742476, longitude=-105.1786, elevation=1830.14)
+    sp = w.solar_position(frame, site)
+    assert sp.index.equals(idx)
+    assert sp["apparent_zenith"].iloc[1] == pytest.approx(50.111622, abs=1e-4)
+    assert sp["azimuth"].iloc[1] == pytest.approx(194.340241, abs=1e-4)
+
+
+SAND_POINT = pathlib.Path(pvlib.__file__).parent / "data" / "703165TY.csv"
+
+
+def test_second_shipped_tmy3_file_reads_and_passes_every_check():
+    # NREL TMY3 station 703165, Sand Point AK, shipped with pvlib (read in place). Header
+    # line read by hand: 703165,"SAND POINT",AK,-9.0,55.317,-160.517,7. The file passes
+    # every validation check, the BSRN-style closure test included (real data, 55° N).
+    df = w.read_tmy3(SAND_POINT)
+    assert len(df) == 8760 and str(df.index.tz) == "Etc/GMT+9"
+    site = w.site_of(df)
+    assert (site.latitude, site.longitude, site.elevation) == (55.317, -160.517, 7.0)
+    assert site.name == "SAND POINT"
+    assert df.index[0] == pd.Timestamp("2025-01-01 01:00", tz="Etc/GMT+9")
+
+
+# ------------------------------------------------------------------------------------------
+# remaining documented errors of the readers and derived boundaries
+# ------------------------------------------------------------------------------------------
+def test_pvgis_file_without_location_and_bad_label(tmy):
+    recs = _pvgis_records(tmy)
+    buf = _pvgis_json(recs)
+    data = json.loads(buf.getvalue())
+    data["inputs"] = {"meteo_data": {}}
+    with pytest.raises(WeatherError, match="no readable location"):
+        w.read_pvgis_tmy(io.StringIO(json.dumps(data)), pvgis_format="json")
+    with pytest.raises(WeatherError, match="label must be"):
+        w.read_pvgis_tmy(_pvgis_json(recs), pvgis_format="json", label="middle")
+
+
+def test_restamp_needs_two_rows():
+    with pytest.raises(WeatherError, match="at least 2 rows"):
+        w.restamp(_month(2013, 2).iloc[:1])
+
+
+def test_fit_annual_cycle_refuses_nan():
+    idx = pd.date_range("2025-01-01 01:00", periods=8760, freq="h", tz="Etc/GMT-1")
+    temp = pd.Series(10.0, index=idx)
+    temp.iloc[100] = np.nan
+    with pytest.raises(WeatherError, match="temp_air has NaN"):
+        w.fit_annual_cycle(temp)
+
+
+def test_add_ground_temperature_without_air_temperature_names_the_fix(tmy):
+    no_air = tmy.drop(columns="temp_air")
+    with pytest.raises(WeatherError, match="t_mean, amplitude and day_min"):
+        w.add_ground_temperature(no_air)
+    # with the cycle given explicitly, temp_air is not needed
+    out = w.add_ground_temperature(no_air, depth=1.0, t_mean=12.0, amplitude=9.0,
+                                   day_min=25.0)
+    assert "temp_ground_1m" in out.columns
+    with pytest.raises(WeatherError, match="temp_air"):
+        w.add_sky_temperature(no_air, method="swinbank")
+
+
+@pytest.mark.parametrize(("col", "value", "match"), [
+    ("albedo", 1.2, r"'albedo'.*0 … 1"),
+    ("cloud_cover", 11.0, r"'cloud_cover'.*0 … 10 tenths"),
+    ("wind_direction", 400.0, r"'wind_direction'"),
+    ("temp_dew", -95.0, r"'temp_dew'.*-90 … 60"),
+])
+def test_range_of_the_optional_columns(june, col, value, match):
+    # the plausible ranges of COLUMN_SPECS (common practice, no source), one per column
+    df = june.copy() if col in june.columns else june.assign(**{col: 0.3})
+    w.validate(df)
+    df.iloc[7, df.columns.get_loc(col)] = value
+    with pytest.raises(WeatherError, match=match):
+        w.validate(df)

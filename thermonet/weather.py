@@ -89,6 +89,7 @@ import pvlib
 
 from thermonet.constants import ZERO_CELSIUS
 from thermonet.errors import ThermonetWarning, WeatherError
+from thermonet.solar import solar_position as _solar_position
 
 __all__ = [
     "REFERENCE_YEAR",
@@ -388,8 +389,10 @@ def solar_times(df: pd.DataFrame | pd.Series | pd.DatetimeIndex) -> pd.DatetimeI
 def solar_position(df: pd.DataFrame, site: Site | None = None) -> pd.DataFrame:
     """Solar position at the interval mid-points of a weather frame, through pvlib.
 
-    Calls :func:`pvlib.solarposition.get_solarposition` (method ``"nrel_numpy"``, the NREL
-    SPA) at :func:`solar_times`, with the site's elevation and, when present, the frame's
+    The same path as every other sun position in thermonet: it calls
+    :func:`thermonet.solar.solar_position` (``interval="ending"``), i.e.
+    :func:`pvlib.solarposition.get_solarposition` with the NREL SPA (``"nrel_numpy"``) at
+    :func:`solar_times`, with the site's elevation and, when present, the frame's
     ``pressure`` [Pa] and ``temp_air`` [°C] for the refraction correction.
 
     Parameters
@@ -411,16 +414,10 @@ def solar_position(df: pd.DataFrame, site: Site | None = None) -> pd.DataFrame:
     applications. Solar Energy 76(5), 577–589.
     """
     site = site if site is not None else site_of(df)
-    mid = solar_times(df)
-    kwargs: dict[str, Any] = {}
-    if "pressure" in df.columns:
-        kwargs["pressure"] = df["pressure"].to_numpy(dtype=float)
-    if "temp_air" in df.columns:
-        kwargs["temperature"] = df["temp_air"].to_numpy(dtype=float)
-    sp = pvlib.solarposition.get_solarposition(
-        mid, site.latitude, site.longitude, altitude=site.elevation, **kwargs
-    )
-    return sp.set_axis(df.index)
+    pressure = df["pressure"].to_numpy(dtype=float) if "pressure" in df.columns else None
+    temperature = df["temp_air"].to_numpy(dtype=float) if "temp_air" in df.columns else None
+    return _solar_position(df.index, site.latitude, site.longitude, site.elevation,
+                           pressure, temperature, interval="ending")
 
 
 # --------------------------------------------------------------------------------------------
