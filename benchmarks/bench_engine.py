@@ -31,7 +31,7 @@ import networks  # noqa: E402
 
 import thermonet as tn  # noqa: E402
 from thermonet.compile import compile_network, input_matrix, laplacian_blocks  # noqa: E402
-from thermonet.solvers import control_maps, discretise_exact  # noqa: E402
+from thermonet.solvers import control_maps, discretise_exact, initial_state  # noqa: E402
 from thermonet.sparse import laplacian_sparse  # noqa: E402
 
 
@@ -75,7 +75,8 @@ def numpy_zoh_loop(net, w):
     Rx, Ru, M = control_maps(comp, d)
     Phi, Gam = d.Phi, d.Gam
     pc = comp.nb + comp.nsrc + np.arange(comp.m)
-    x = np.linalg.solve(d.K, d.E @ np.where(np.arange(comp.nu) >= pc[0], 0, comp.U[0]))
+    # the same start as thermonet: steady state of the first inputs, thermostat acting
+    x = initial_state(comp, d, comp.U[0], comp.free, comp.hsp[0], comp.csp[0])
     out = np.empty((len(comp.U), comp.nc))
     for k, u in enumerate(comp.U):
         u = u.copy()

@@ -285,3 +285,22 @@ def test_heated_building_starts_at_its_setpoint():
     # the same start in the sparse method
     sp_ = tn.simulate(net, w, warmup_days=0, method="sparse", sparse_tol=1e-10)
     assert np.allclose(sp_.heating.to_numpy(), ua * 25.0, rtol=1e-8)
+
+
+def test_options_a_method_ignores_are_named_and_diagnostics():
+    w = hourly_weather(24, temp_air=0.0)
+    net = tn.Network()
+    net.add_boundary("out", temperature="temp_air")
+    net.add_node("room", kind="air", capacitance=1e5)
+    net.add_link("out", "room", conductance=10.0, path="opaque")
+    with pytest.warns(UserWarning, match="sparse_tol= is ignored by method='exact'"):
+        tn.simulate(net, w, method="exact", sparse_tol=1e-8)
+    with pytest.warns(UserWarning, match="kernel='numpy' is ignored by method='sparse'"):
+        tn.simulate(net, w, method="sparse", kernel="numpy")
+    with pytest.raises(ValueError, match="sparse_tol must be"):
+        tn.simulate(net, w, method="sparse", sparse_tol=-1.0)
+    with pytest.raises(ValueError, match="kernel must be"):
+        tn.simulate(net, w, kernel="gpu")
+    d = tn.simulate(net, w).diagnostics()
+    assert d["method"] == "exact" and d["steps"] == 24 and d["doubling_states"] == 0
+    assert d["worst_residual"] < 1e-12

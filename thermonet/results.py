@@ -232,6 +232,18 @@ class Results:
         scale = max(float(terms.max()) if terms.size else 0.0, 1.0)
         return float(np.abs(b["residual"].to_numpy()).max() / scale)
 
+    def diagnostics(self) -> pd.Series:
+        """How the run went: method, steps, step [s], cached states, time [s], and the worst
+        relative balance residual of the whole network (:meth:`worst_residual`)."""
+        i = self.info
+        out = {k: i.get(k) for k in ("method", "steps", "warmup_steps", "step_s", "states",
+                                     "kernel", "seconds")}
+        out.update({k: v for k, v in i.items() if k not in out})
+        disc = getattr(self._t, "discrete", {}) or {}
+        out["doubling_states"] = sum(getattr(d, "how", "") == "doubling" for d in disc.values())
+        out["worst_residual"] = self.worst_residual()
+        return pd.Series(out, dtype=object)
+
     def __repr__(self):
         i = self.info
         return (f"Results({i['method']}, {i['steps']} steps of {i['step_s']:.0f} s, "

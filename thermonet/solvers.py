@@ -30,6 +30,7 @@ References
 from __future__ import annotations
 
 import time
+import warnings
 from dataclasses import dataclass
 from functools import cached_property
 
@@ -541,8 +542,25 @@ def run_relinearised(net, comp: Compiled, w: int, kernel: str, freq: str):
 METHODS = ("auto", "exact", "sparse")
 
 
+def _warn_ignored(method: str, kernel: str, sparse_tol) -> None:
+    """Warn about options the chosen method does not use (nothing is silently ignored)."""
+    if kernel not in ("auto", "numba", "numpy"):
+        raise ValueError(f"kernel must be 'auto', 'numba' or 'numpy', got {kernel!r}")
+    if sparse_tol is not None:
+        if not (isinstance(sparse_tol, (int, float)) and 0 < sparse_tol < 1):
+            raise ValueError(f"sparse_tol must be a number in (0, 1), got {sparse_tol!r}")
+        if method == "exact":
+            warnings.warn("sparse_tol= is ignored by method='exact', which is exact to "
+                          "rounding; drop it or pass method='sparse'", UserWarning,
+                          stacklevel=3)
+    if kernel != "auto" and method == "sparse":
+        warnings.warn(f"kernel={kernel!r} is ignored by method='sparse' (it has its own "
+                      "loop); drop it or pass method='exact'", UserWarning, stacklevel=3)
+
+
 def simulate(net, weather, *, step=None, method: str = "auto", warmup_days: float = 14.0,
-             kernel: str = "auto", sparse_tol: float = 1e-6, relinearise: str | None = None):
+             kernel: str = "auto", sparse_tol: float | None = None,
+             relinearise: str | None = None):
     """Simulate a network over the weather's time axis.
 
     Parameters
@@ -563,8 +581,10 @@ def simulate(net, weather, *, step=None, method: str = "auto", warmup_days: floa
         setpoint, :func:`steady_start`), then any node's ``initial=`` temperature.
     kernel : {"auto", "numba", "numpy"}
         Compiled or plain-numpy stepping loop (same numbers).
-    sparse_tol : float, default 1e-6
-        Relative accuracy target of the rational exponential in ``method="sparse"``.
+    sparse_tol : float, optional
+        Accuracy target of the rational exponential in ``method="sparse"``, relative to each
+        step's departure from equilibrium (default 1e-6). Ignored, with a warning, by
+        ``method="exact"``.
     relinearise : str, optional
         Pandas offset alias (``"D"``, ``"W"``, ``"MS"``): at the start of each such period,
         every radiation link's h_r = 4σT_m³ is recomputed from the mean of its two nodes'
@@ -588,6 +608,7 @@ def simulate(net, weather, *, step=None, method: str = "auto", warmup_days: floa
     w = min(int(round(warmup_days * 86400.0 / comp.step_s)), n)
     if method == "auto":
         method = "exact" if comp.nc <= AUTO_DENSE_LIMIT else "sparse"
+    _warn_ignored(method, kernel, sparse_tol)
     info = {"method": method, "steps": n, "warmup_steps": w, "step_s": comp.step_s,
             "states": comp.n_states, "kernel": kernel}
     if relinearise is not None:
@@ -601,7 +622,7 @@ def simulate(net, weather, *, step=None, method: str = "auto", warmup_days: floa
     else:
         from .sparse import run_sparse
 
-        traj, extra = run_sparse(comp, w, tol=sparse_tol)
+        traj, extra = run_sparse(comp, w, tol=1e-6 if sparse_tol is None else sparse_tol)
         info.update(extra)
     res = Results(net, comp, traj, info)
     info["seconds"] = time.perf_counter() - t0
