@@ -1,6 +1,8 @@
 """``thermonet run`` and ``thermonet check`` (thermonet.cli_batch), end to end in tmp folders.
 
-The handlers are called through an argparse parser built here with ``add_batch_commands``.
+The handlers are called through an argparse parser built here with ``add_batch_commands``,
+and once each through the real entry point (``thermonet.cli.main``) and a fresh
+``python -m thermonet`` process.
 The weather is the INVENTED Fernhollow sample shipped in ``weather_samples/`` (demo data,
 used only to exercise the command, never as a reference value) or a slice of it.
 """
@@ -363,3 +365,136 @@ def test_eigen_time_constants_of_a_two_node_chain():
     e = cli_batch.model_summary(net)["eigen_time_constants_h"]
     assert e["slowest"] == pytest.approx(2 * c / ((3 - 5**0.5) * g) / 3600, rel=1e-12)
     assert e["fastest"] == pytest.approx(2 * c / ((3 + 5**0.5) * g) / 3600, rel=1e-12)
+
+
+# ------------------------------------------------------- a builder-made model, real entry point
+def builder_model(weather) -> tn.Network:
+    """An invented room made by the builders on the sample weather's index: a south window,
+    external walls and roof to outdoor air and sky, a slab on the ground (demo data)."""
+    from thermonet.builders import Element, Window, add_infiltration, add_room
+    from thermonet.constructions import Construction
+
+    wall = Construction("wall", [("gypsum_plaster_1300", 0.015), ("concrete_2000", 0.2),
+                                 ("mineral_wool", 0.16)])
+    slab = Construction("slab", [("concrete_2200", 0.15), ("eps", 0.12)])
+    net = tn.Network("built room")
+    room = add_room(net, "room", floor_area=25.0, height=2.6, weather=weather,
+                    ground_temperature="temp_ground_2m", elements=[
+                        Element("south", wall, 14.0, 90, 180,
+                                windows=[Window("win", 4.0, 0.8, 0.5)]),
+                        Element("north", wall, 14.0, 90, 0),
+                        Element("roof", Construction("roof", [("concrete_2200", 0.2),
+                                                              ("mineral_wool", 0.3)]),
+                                25.0, 0, 180),
+                        Element("slab", slab, 25.0, 180, 0, boundary="ground",
+                                perimeter=20.0)])
+    add_infiltration(net, room, ach=0.4)
+    net.add_thermostat("room", heating_setpoint=20.0)
+    return net
+
+
+@pytest.fixture(scope="module")
+def sample_weather():
+    """The sample CSV as the library reads it, with the sky temperature add_room checks for."""
+    from thermonet.weather import add_sky_temperature
+
+    return add_sky_temperature(cli_batch.read_weather_csv(
+        SAMPLE, latitude=48.3, longitude=11.9, elevation=480.0, tz="Etc/GMT-1"))
+
+
+def test_entry_point_runs_a_builder_model_end_to_end(sample_weather, tmp_path, capsys):
+    # The real command line (thermonet.cli.main, what the `thermonet` script calls) on a
+    # model made by add_room: the model reads temp_sky and temp_ground_2m, which the CSV
+    # lacks, so the command derives them (Berdahl–Martin, Kusuda–Achenbach) and says so.
+    from thermonet import cli
+    from thermonet.weather import add_ground_temperature
+
+    model = io.save_model(builder_model(sample_weather), tmp_path / "built.json")
+    out = tmp_path / "results"
+    code = cli.main(["run", str(model), "--weather", str(SAMPLE), "--out", str(out),
+                     "--latitude", "48.3", "--longitude", "11.9", "--elevation", "480",
+                     "--tz", "Etc/GMT-1", "--format", "parquet"])
+    assert code == 0
+    err = capsys.readouterr().err
+    assert "derived weather column(s) temp_sky, temp_ground_2m" in err
+    for name in TABLES:
+        assert (out / f"{name}.parquet").is_file()
+    rec = json.loads((out / "provenance.json").read_text(encoding="utf-8"))
+    assert "derived by thermonet: temp_sky, temp_ground_2m" in rec["weather"]["source"]
+    # the command's numbers are the library's numbers for the same derived weather
+    w = add_ground_temperature(sample_weather, depth=2.0)
+    res = tn.simulate(io.load_model(model), w)
+    temps = pd.read_parquet(out / "temperatures.parquet")
+    assert temps.index.equals(res.temperatures.index)
+    assert np.array_equal(temps.to_numpy(), res.temperatures.to_numpy())
+    annual = pd.read_parquet(out / "balance_annual.parquet")
+    assert annual["solar"].iloc[0] > 0 and annual["ground"].iloc[0] < 0
+    assert annual["heating"].iloc[0] == pytest.approx(res.heating.sum() / 1000.0, rel=1e-12)
+
+
+def test_derived_ground_column_needs_a_whole_year(sample_weather, short_weather, tmp_path,
+                                                  capsys):
+    model = io.save_model(builder_model(sample_weather), tmp_path / "built.json")
+    code, err = _code(["run", str(model), "--weather", str(short_weather), "--out",
+                       str(tmp_path / "o"), "-q"], capsys)
+    assert code == cli_batch.EXIT_WEATHER and "360 days" in err
+
+
+def test_python_m_thermonet_exit_codes(model, tmp_path):
+    # `python -m thermonet` in a fresh process: exit status and streams as a shell sees them
+    import subprocess
+    import sys
+
+    ok = subprocess.run([sys.executable, "-m", "thermonet", "check", str(model)],
+                        capture_output=True, text=True, check=False)
+    assert ok.returncode == 0, ok.stderr
+    assert "OK" in ok.stdout and "U·A by path [W/K]" in ok.stdout
+    bad = tmp_path / "bad.json"
+    bad.write_text('{"format": "thermonet-model", "schema_version": 99, "network": {}}',
+                   encoding="utf-8")
+    fail = subprocess.run([sys.executable, "-m", "thermonet", "check", str(bad)],
+                          capture_output=True, text=True, check=False)
+    assert fail.returncode == cli_batch.EXIT_MODEL
+    assert "schema_version 99" in fail.stderr
+
+
+def test_progress_lines_while_the_solver_runs(model, short_weather, tmp_path, capsys,
+                                              monkeypatch):
+    # The solver reports nothing until it returns; `run` prints "still simulating …" every
+    # --progress-every seconds meanwhile. The stand-in solver below waits until such a line
+    # has been printed (no timing is asserted), then solves for real.
+    import threading
+
+    import thermonet.solvers
+
+    seen = threading.Event()
+    original = cli_batch._Progress.__call__
+
+    def spy(self, msg):
+        original(self, msg)
+        if msg.startswith("still simulating"):
+            seen.set()
+
+    real = thermonet.solvers.simulate
+
+    def waits_for_progress(*args, **kwargs):
+        assert seen.wait(60), "no progress line while simulating"
+        return real(*args, **kwargs)
+
+    monkeypatch.setattr(cli_batch._Progress, "__call__", spy)
+    monkeypatch.setattr(thermonet.solvers, "simulate", waits_for_progress)
+    code = main(["run", str(model), "--weather", str(short_weather), "--out",
+                 str(tmp_path / "o"), "--progress-every", "0.01", "--format", "csv"])
+    assert code == 0
+    err = capsys.readouterr().err
+    assert "thermonet run: still simulating …" in err
+    assert err.rstrip().splitlines()[-1].startswith("thermonet run: done")  # beats stopped
+
+
+def test_quiet_and_bad_progress_interval(model, short_weather, tmp_path, capsys):
+    code, err = _code(["run", str(model), "--weather", str(short_weather), "--out",
+                       str(tmp_path / "o"), "--progress-every", "-1"], capsys)
+    assert code == cli_batch.EXIT_USAGE and "--progress-every" in err
+    code, err = _code(["run", str(model), "--weather", str(short_weather), "--out",
+                       str(tmp_path / "q"), "-q", "--format", "csv"], capsys)
+    assert code == 0 and err == ""

@@ -34,18 +34,33 @@ the END of each interval) and whose other columns carry pvlib names and thermone
 same stem (``fernhollow_sample.json``: ``{"latitude": 48.3, "longitude": 11.9,
 "elevation": 480, "tz": "Etc/GMT-1", "name": "..."}``); options override the sidecar. The
 frame is checked with :func:`thermonet.weather.from_dataframe`; the columns the model reads
-are required.
+are required, except two derived boundaries that typical-year files do not carry: when the
+model reads ``temp_sky`` or ``temp_ground_<depth>m`` (as models made by
+:func:`thermonet.builders.add_room` do) and the file lacks them, they are computed with
+:func:`thermonet.weather.add_sky_temperature` (Berdahl–Martin, needs ``temp_dew`` or
+``relative_humidity``) and :func:`thermonet.weather.add_ground_temperature` (Kusuda–Achenbach
+with the annual cycle fitted to ``temp_air``, needs a whole year); the progress messages and
+``provenance.json`` (weather ``source``) say so.
+
+Progress
+--------
+``run`` reports each stage on stderr with the elapsed time, and while the solver or the
+writers are busy a line ``still simulating …`` every ``--progress-every`` seconds (default
+10), so a long run is visibly alive. ``--quiet`` silences both.
 """
 
 from __future__ import annotations
 
 import argparse
+import contextlib
 import importlib.util
 import json
 import math
 import os
+import re
 import shlex
 import sys
+import threading
 import time
 from pathlib import Path
 
@@ -72,7 +87,9 @@ __all__ = [
     "model_summary",
     "format_model_summary",
     "comfort_table",
+    "add_derived_columns",
     "OUTPUT_TABLES",
+    "PROGRESS_EVERY",
 ]
 
 EXIT_OK = 0
@@ -127,16 +144,41 @@ class SiteMissingError(WeatherError):
     """The weather file's site (latitude, longitude) was given neither as option nor sidecar."""
 
 
+#: Default interval [s] of the "still ..." progress lines of ``thermonet run``.
+PROGRESS_EVERY = 10.0
+
+
 class _Progress:
     """Progress messages on stderr with the elapsed time."""
 
-    def __init__(self, command: str, quiet: bool):
+    def __init__(self, command: str, quiet: bool, every: float = PROGRESS_EVERY):
         self.command, self.quiet, self.t0 = command, quiet, time.perf_counter()
+        self.every = every
 
     def __call__(self, msg: str) -> None:
         if not self.quiet:
             print(f"thermonet {self.command}: {msg} [{time.perf_counter() - self.t0:.1f} s]",
                   file=sys.stderr, flush=True)
+
+    @contextlib.contextmanager
+    def busy(self, what: str):
+        """While the body runs, print ``still <what> …`` every ``self.every`` seconds."""
+        if self.quiet or not self.every > 0:
+            yield
+            return
+        stop = threading.Event()
+
+        def beat():
+            while not stop.wait(self.every):
+                self(f"still {what} …")
+
+        thread = threading.Thread(target=beat, name="thermonet-progress", daemon=True)
+        thread.start()
+        try:
+            yield
+        finally:
+            stop.set()
+            thread.join()
 
 
 def _error(command: str, fail: _Fail) -> int:
@@ -188,6 +230,9 @@ def add_batch_commands(subparsers) -> None:
     run.add_argument("--overwrite", action="store_true",
                      help="write into DIR even if it holds results of an earlier run")
     run.add_argument("-q", "--quiet", action="store_true", help="no progress messages")
+    run.add_argument("--progress-every", type=float, default=PROGRESS_EVERY, metavar="SECONDS",
+                     help="while simulating or writing, print a 'still ...' line every "
+                          f"SECONDS (default {PROGRESS_EVERY:g}; 0 = only stage messages)")
     run.set_defaults(func=run_command)
 
     check = subparsers.add_parser(
@@ -327,12 +372,78 @@ def read_weather_csv(path, *, latitude=None, longitude=None, elevation=None, tz=
         raise WeatherError(str(exc)) from exc
 
 
-def _weather_from_args(args, required) -> pd.DataFrame:
+_GROUND_COLUMN = re.compile(r"temp_ground_(\d+(?:\.\d+)?)m")
+
+
+def _derivable(column: str) -> bool:
+    return column == "temp_sky" or _GROUND_COLUMN.fullmatch(column) is not None
+
+
+def add_derived_columns(weather: pd.DataFrame, columns) -> tuple[pd.DataFrame, list[str]]:
+    """Add the derived boundaries ``temp_sky`` and ``temp_ground_<depth>m`` when asked for.
+
+    Parameters
+    ----------
+    weather : pandas.DataFrame
+        Validated weather frame (:func:`read_weather_csv`).
+    columns : sequence of str
+        Columns the model reads; those present are left alone.
+
+    Returns
+    -------
+    (pandas.DataFrame, list of str)
+        The frame with the added columns (a copy if any was added; ``attrs["source"]``
+        extended) and the names added.
+
+    Raises
+    ------
+    WeatherError
+        If a derived column cannot be computed (e.g. no dew point or humidity for the sky
+        temperature, less than 360 days for the ground temperature's annual cycle).
+
+    Notes
+    -----
+    ``temp_sky``: :func:`thermonet.weather.add_sky_temperature` (Berdahl & Martin 1984, with
+    the cloud cover when present). ``temp_ground_<d>m``: :func:`thermonet.weather.
+    add_ground_temperature` at depth d [m] (Kusuda & Achenbach 1965, annual cycle fitted to
+    ``temp_air``, default soil diffusivity).
+    """
+    from .weather import add_ground_temperature, add_sky_temperature
+
+    out, added = weather, []
+    for col in columns:
+        if col in out.columns:
+            continue
+        if col == "temp_sky":
+            out = add_sky_temperature(out)
+        else:
+            m = _GROUND_COLUMN.fullmatch(col)
+            if m is None:
+                continue
+            before = set(out.columns)
+            out = add_ground_temperature(out, depth=float(m.group(1)))
+            made = (set(out.columns) - before).pop()
+            out = out.rename(columns={made: col})
+        added.append(col)
+    if added:
+        src = out.attrs.get("source", "")
+        note = f"derived by thermonet: {', '.join(added)}"
+        out.attrs["source"] = f"{src}; {note}" if src else note
+    return out, added
+
+
+def _weather_from_args(args, required, say=None) -> pd.DataFrame:
     try:
-        return read_weather_csv(
+        weather = read_weather_csv(
             args.weather, latitude=args.latitude, longitude=args.longitude,
-            elevation=args.elevation, tz=args.tz, label=args.label, required=required,
+            elevation=args.elevation, tz=args.tz, label=args.label,
+            required=[c for c in required if not _derivable(c)],
             closure_check=not args.no_closure_check)
+        weather, added = add_derived_columns(weather, required)
+        if added and say is not None:
+            say(f"derived weather column(s) {', '.join(added)} (sky: Berdahl–Martin; "
+                "ground: Kusuda–Achenbach)")
+        return weather
     except OSError as exc:
         raise _Fail(EXIT_USAGE, f"cannot read weather file: {exc}") from exc
     except SiteMissingError as exc:
@@ -648,7 +759,8 @@ def run_command(args) -> int:
     """Handler of ``thermonet run``: simulate a model file, write the results folder."""
     from .solvers import simulate
 
-    say = _Progress("run", getattr(args, "quiet", False))
+    say = _Progress("run", getattr(args, "quiet", False),
+                    getattr(args, "progress_every", PROGRESS_EVERY))
     try:
         out = Path(args.out)
         if out.exists() and not out.is_dir():
@@ -659,6 +771,9 @@ def run_command(args) -> int:
         if args.format in ("parquet", "both") and not _have_pyarrow():
             raise _Fail(EXIT_USAGE, f"--format {args.format} needs pyarrow, which is not "
                         "installed; use --format csv or install pyarrow")
+        if not (math.isfinite(say.every) and say.every >= 0):
+            raise _Fail(EXIT_USAGE, f"--progress-every must be a finite number ≥ 0 [s], got "
+                        f"{say.every}")
         if not (math.isfinite(args.warmup_days) and args.warmup_days >= 0):
             raise _Fail(EXIT_USAGE, f"--warmup-days must be a finite number ≥ 0 [days], got "
                         f"{args.warmup_days}")
@@ -676,7 +791,7 @@ def run_command(args) -> int:
         net = mf.network
         say(f"model: {net!r}")
         say(f"reading weather {args.weather}")
-        weather = _weather_from_args(args, mf.weather_columns)
+        weather = _weather_from_args(args, mf.weather_columns, say)
         wstep = weather.index[1] - weather.index[0]
         if step is not None:
             ratio = wstep / step
@@ -694,19 +809,21 @@ def run_command(args) -> int:
         except OSError as exc:
             raise _Fail(EXIT_USAGE, f"cannot create --out {out}: {exc}") from exc
         say(f"simulating {len(weather)} weather rows "
-            f"({weather.index[0]} … {weather.index[-1]}), warm-up {args.warmup_days:g} days, "
-            f"method {args.method}")
+            f"({weather.index[0]} … {weather.index[-1]}) for {len(net.nodes)} nodes, "
+            f"warm-up {args.warmup_days:g} days, method {args.method}")
         try:
-            res = simulate(net, weather, step=step, method=args.method,
-                           warmup_days=args.warmup_days)
-            tables = _tables(res, net)
+            with say.busy("simulating"):
+                res = simulate(net, weather, step=step, method=args.method,
+                               warmup_days=args.warmup_days)
+                tables = _tables(res, net)
         except Exception as exc:  # any solver failure is reported with its type
             raise _Fail(EXIT_SIMULATION, f"{type(exc).__name__}: {exc}") from exc
         say(f"solved: {res!r}; writing {args.format} to {out}")
     except _Fail as fail:
         return _error("run", fail)
     try:
-        written = _write_tables(tables, out, args.format)
+        with say.busy("writing"):
+            written = _write_tables(tables, out, args.format)
         settings = {"step": None if step is None else step.isoformat(),
                     "warmup_days": args.warmup_days, "method": args.method,
                     "label": args.label, "format": args.format,
