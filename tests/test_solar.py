@@ -233,6 +233,8 @@ def test_components_sum_and_site_from_attrs(greensboro, greensboro_planes):
 
 def test_albedo_column_and_parameter():
     w, _ = _clear_day()
+    # ground-reflected irradiance on a plane of tilt β: GHI·ρ·(1 − cos β)/2, isotropic
+    # ground (Liu & Jordan 1963, Solar Energy 7(2)); a vertical wall sees half the ground
     base = solar.surface_irradiance(w, 90.0, 180.0, model="isotropic")
     np.testing.assert_allclose(base["ground_reflected"], w["ghi"] * 0.2 * 0.5)  # default 0.2
     p = solar.surface_irradiance(w, 90.0, 180.0, model="isotropic", albedo=0.5)
@@ -296,6 +298,8 @@ def test_window_normal_incidence(model):
 
 @pytest.mark.parametrize("model", sorted(solar.IAM_MODELS))
 def test_iam_is_one_at_normal_and_decreasing(model):
+    # Definition of the modifier (transmission relative to normal incidence, zero at grazing
+    # incidence): Souka & Safwat (1966) for "ashrae", De Soto et al. (2006) for "physical".
     aoi = np.linspace(0.0, 90.0, 91)
     iam = solar.incidence_angle_modifier(aoi, model)
     assert iam[0] == pytest.approx(1.0, abs=1e-12)
