@@ -57,7 +57,25 @@ Room model (one zone)
   air-to-air transmittance; the builder keeps the two films it models and puts the rest,
   1/U_w − R_si − R_se, between the window's two surface nodes.
 
+* **Ground**: a floor on the ground (tilt > 120°, ``perimeter=``) or a basement wall
+  (60 … 120°, ``depth=``) gets a column of soil nodes (kind ``"ground"``) down to the
+  deep-ground boundary, its depth chosen so that the steady loss follows ISO 13370 (slab:
+  :func:`slab_soil_depth`, within a few % of :func:`iso13370_slab_u_value`; basement wall:
+  :func:`basement_wall_soil_depth`, exactly :func:`iso13370_basement_wall_u_value`).
+
 Conductances are constant (linearised radiation); the network is linear.
+
+Windows in hand-built networks
+------------------------------
+:func:`add_window` adds one window to any network in one call: the U_w·A link from the outdoor
+air to a node and the transmitted solar gain (with external and movable shading) as sources
+on the nodes you choose. :func:`window_u_value` gives U_w from the glazing, the frame and the
+glazing edge (EN ISO 10077-1).
+
+Records
+-------
+Each zone's :class:`Room` is also kept, as plain JSON, in ``net.meta["builders"]["rooms"]``;
+it travels in model files (:mod:`thermonet.io`) and :func:`rooms` gives it back.
 """
 
 from __future__ import annotations
