@@ -663,3 +663,29 @@ def test_room_records_travel_in_net_meta():
     with pytest.raises(NetworkError, match=r"rooms'\]\['r'\] lacks \['star'\]"):
         rooms(net)
     assert rooms(tn.Network()) == {}
+
+
+def test_room_description_type_errors_and_nothing_half_built():
+    # every mistake is caught before the network is touched, and names the room or element
+    net = tn.Network()
+    with pytest.raises(TypeError, match=r"room 'r': elements must be a list.*wrap"):
+        add_room(net, "r", floor_area=20, height=2.5, elements=Element("e", WALL, 10.0))
+    with pytest.raises(TypeError, match=r"element 'e' of room 'r': windows must be a list"):
+        _room(net, elements=[Element("e", WALL, 10.0, windows=Window("w", 1, 1, 0.5))])
+    with pytest.raises(NetworkError, match=r"room 'r': solar_distribution must be"):
+        _room(net, solar_distribution="walls")
+    with pytest.raises(NetworkError, match=r"room 'r': sky_model must be one of"):
+        _room(net, sky_model="klucher")
+    with pytest.raises(NetworkError, match=r"rc_options \['cells'\] are not keywords"):
+        _room(net, rc_options={"cells": 3})
+    with pytest.raises(ConstructionError, match="nodes_per_layer"):
+        _room(net, elements=[Element("a", WALL, 10.0), Element("b", WALL, 10.0)],
+              rc_options={"nodes_per_layer": 1})
+    assert not net.nodes and not net.boundaries and not net.links
+    room = _room(net)
+    with pytest.raises(NetworkError, match="same zone"):
+        add_buffer_exchange(net, room, room, flow_m3h=10.0)
+    buf = add_buffer(net, "b", floor_area=5, height=2.5, sky=None,
+                     elements=[Element("e", LIGHT_WALL, 8.0)])
+    with pytest.raises(TypeError, match=r"air exchange 'r' ↔ 'b': schedule must be a pandas"):
+        add_buffer_exchange(net, room, buf, flow_m3h=10.0, schedule=[1.0, 0.5])

@@ -137,6 +137,11 @@ __all__ = [
 #: (ISO 6946:2007 Annex A table, from memory; 4σT³ = 4.62 at 273.15 K).
 EXTERNAL_RADIATIVE_COEFFICIENT_BLACK = 4.6
 
+#: Keywords of :func:`thermonet.constructions.rc_chain` that ``add_room(rc_options=...)``
+#: passes on.
+_RC_OPTIONS = ("max_node_thickness", "fraction_of_penetration_depth", "nodes_per_layer",
+               "period")
+
 #: Depth of the soil column under a slab per B' = A/(0.5 P) [-] (plus w + λR_se); see
 #: :func:`slab_soil_depth` for the choice and its accuracy against ISO 13370.
 SLAB_SOIL_DEPTH_FACTOR = 0.4
@@ -1128,11 +1133,26 @@ def add_room(net: Network, name: str, *, floor_area: float, height: float,
     a_floor = _num(floor_area, f"{what}: floor_area [m²]", low=0.0, low_open=True)
     h = _num(height, f"{what}: height [m]", low=0.0, low_open=True)
     c_furn = _num(furniture_capacity, f"{what}: furniture_capacity [J/K]", low=0.0)
+    if isinstance(elements, Element) or not isinstance(elements, Sequence):
+        raise TypeError(f"{what}: elements must be a list of Element, got "
+                        f"{type(elements).__name__} (wrap a single element in a list)")
     elements = list(elements)
     if not elements:
         raise NetworkError(f"{what}: give at least one Element")
     soil = Soil() if soil is None else soil
+    if not isinstance(soil, Soil):
+        raise TypeError(f"{what}: soil must be a Soil, got {type(soil).__name__}")
     rc_options = dict(rc_options or {})
+    unknown_rc = sorted(set(rc_options) - set(_RC_OPTIONS))
+    if unknown_rc:
+        raise NetworkError(f"{what}: rc_options {unknown_rc} are not keywords of "
+                           f"thermonet.constructions.rc_chain; allowed: {list(_RC_OPTIONS)}")
+    if not (isinstance(solar_distribution, Mapping) or solar_distribution in ("floor", "area")):
+        raise NetworkError(f"{what}: solar_distribution must be 'floor', 'area' or a mapping "
+                           f"element name / 'air' -> share, got {solar_distribution!r}")
+    if sky_model not in _solar.SKY_MODELS:
+        raise NetworkError(f"{what}: sky_model must be one of {list(_solar.SKY_MODELS)}, got "
+                           f"{sky_model!r}")
 
     # ---- validate the whole description before touching the network
     seen = set()
@@ -1149,6 +1169,11 @@ def add_room(net: Network, name: str, *, floor_area: float, height: float,
         _num(elem.solar_absorptance, f"{ew}: solar_absorptance [-]", low=0.0, high=1.0)
         _num(elem.emissivity, f"{ew}: emissivity [-]", low=0.0, high=1.0)
         cons = _resolve_construction(elem, constructions)
+        if isinstance(elem.windows, Window) or not isinstance(elem.windows, Sequence):
+            raise TypeError(f"{ew}: windows must be a list of Window or Door, got "
+                            f"{type(elem.windows).__name__} (wrap a single window in a list)")
+        if elem.soil is not None and not isinstance(elem.soil, Soil):
+            raise TypeError(f"{ew}: soil must be a Soil, got {type(elem.soil).__name__}")
         for win in elem.windows:
             _check_window(win, elem.name)
             if win.name in seen:
@@ -1202,7 +1227,8 @@ def add_room(net: Network, name: str, *, floor_area: float, height: float,
                     f"window {win.name!r} in element {elem.name!r}: u_value {win.u_value:g} "
                     f"W/(m²K) must be < 1/(R_si + R_se) = {1 / (rsi + rse):.3f} W/(m²K), the "
                     "transmittance of the two surface films alone")
-        plan.append((elem, cons, tilt, az, area, a_win, direction))
+        chain = rc_chain(cons, **rc_options) if area - a_win > 1e-12 * area else None
+        plan.append((elem, cons, tilt, az, area, a_win, direction, chain))
     if any(e.boundary == "ground" for e, *_ in plan) and ground not in net.boundaries \
             and ground_temperature is None:
         raise NetworkError(f"{what}: ground elements need ground_temperature= (annual mean "
@@ -1267,14 +1293,13 @@ def add_room(net: Network, name: str, *, floor_area: float, height: float,
                                                        solpos=solpos)["total"]
         return irr_cache[key]
 
-    for elem, cons, tilt, az, area, a_win, direction in plan:
+    for elem, cons, tilt, az, area, a_win, direction, chain in plan:
         kind, other, path = other_side(elem)
         hc, hr = surface_coefficients(direction)
         base = f"{name}.{elem.name}"
         a_op = area - a_win
         enodes = []
         if a_op > 1e-12 * area:
-            chain = rc_chain(cons, **rc_options)
             caps, conds = chain.for_area(a_op)
             n = chain.n_nodes
             for j in range(n):
@@ -1685,6 +1710,9 @@ def add_buffer_exchange(net: Network, room, buffer, *, flow_m3h, schedule=None,
     for z, w in ((room, "room"), (buffer, "buffer")):
         _zone(z, f"add_buffer_exchange {w}")
     what = f"air exchange {room.name!r} ↔ {buffer.name!r}"
+    if room.air == buffer.air:
+        raise NetworkError(f"{what}: room and buffer are the same zone; pass the buffer space "
+                           "built with add_buffer")
     q = _num(flow_m3h, f"{what}: flow_m3h [m³/h]", low=0.0)
     flow = q
     if schedule is not None:
