@@ -288,6 +288,18 @@ def test_temperature_bands_adaptive_band_with_applicability():
     np.testing.assert_allclose(np.asarray(ax2.get_lines()[2].get_ydata(), dtype=float), upper)
 
 
+def test_temperature_bands_keeps_the_band_colour_off_the_lines():
+    # with a band drawn, no temperature line may share its colour (it would read as a limit)
+    n = 24 * 3
+    t_out = hourly(18 + 4 * np.sin(2 * np.pi * np.arange(n) / 24), name="temp_air")
+    temps = pd.DataFrame({f"option {k}": 22.0 + k for k in range(6)}, index=t_out.index)
+    lim = comfort.adaptive_limits(comfort.running_mean_outdoor(t_out), "II")
+    _, ax = plots.temperature_bands(temps, bands=lim)
+    band = matplotlib.colors.to_hex(ax.get_lines()[-1].get_color())
+    colours = [matplotlib.colors.to_hex(ln.get_color()) for ln in ax.get_lines()[:6]]
+    assert band not in colours and len(set(colours)) == 6
+
+
 def test_temperature_bands_refuses_misaligned_input():
     t = hourly(np.full(48, 22.0))
     with pytest.raises(ScheduleError):

@@ -187,10 +187,15 @@ def path_colors(paths: str | Iterable[str]) -> dict[str, str]:
     return {p: PATH_COLORS.get(p, extra.get(p)) for p in names}
 
 
-def _series_colors(names: Sequence[str]) -> dict[str, str]:
-    """Path colours for path names, then the series cycle for the others (no repeats)."""
+def _series_colors(names: Sequence[str], avoid: Iterable[str] = ()) -> dict[str, str]:
+    """Path colours for path names, then the series cycle for the others (no repeats).
+
+    Colours in ``avoid`` (e.g. that of a comfort band drawn on the same axes) are not given
+    to the other series.
+    """
     known = {n: PATH_COLORS[n] for n in names if isinstance(n, str) and n in PATH_COLORS}
-    free = [c for c in SERIES_COLORS if c not in known.values()]
+    skip = set(known.values()) | set(avoid)
+    free = [c for c in SERIES_COLORS if c not in skip]
     out, k = {}, 0
     for n in names:
         if n in known:
@@ -665,7 +670,9 @@ def temperature_bands(
     values = _numeric(df, "temps", allow_nan=True)
     index = df.index
     fig, ax = _new_axes(ax, (10.0, 4.2))
-    colors = _series_colors([str(c) for c in df.columns])
+    # the band and its limits are drawn in _BAND_COLOR: keep that colour off the lines
+    colors = _series_colors([str(c) for c in df.columns],
+                            avoid=(_BAND_COLOR,) if isinstance(bands, pd.DataFrame) else ())
     for j, col in enumerate(df.columns):
         ax.plot(index, values[:, j], color=colors[str(col)], linewidth=1.1, label=str(col))
     if outdoor is not None:
