@@ -15,10 +15,27 @@ CAUTION = ("Results are estimates for design guidance, not a substitute for code
            "calculations; defer to local codes and licensed professionals.")
 
 
+def _demo_hours(text: str) -> int:
+    """``--hours`` of ``thermonet demo``: a whole number of hours, 48 … 8760."""
+    try:
+        n = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"--hours must be a whole number of hours, got "
+                                         f"{text!r}") from None
+    if not 48 <= n <= 8760:
+        raise argparse.ArgumentTypeError(f"--hours must lie between 48 (two days) and 8760 "
+                                         f"(the whole sample year), got {n}")
+    return n
+
+
 def _demo(args) -> int:
     from .scenarios.sunny_room import run_demo
 
-    run_demo(args.out, progress=not args.quiet, hours=args.hours)
+    try:
+        run_demo(args.out, progress=not args.quiet, hours=args.hours)
+    except NotADirectoryError as exc:
+        print(f"thermonet demo: error: {exc}", file=sys.stderr)
+        return 2
     return 0
 
 
@@ -27,7 +44,9 @@ def build_parser() -> argparse.ArgumentParser:
         prog="thermonet",
         description="Hourly lumped-RC thermal networks of buildings with a closed energy "
                     "balance by heat path. " + CAUTION,
-        epilog="Exit codes: 0 ok, 1 unexpected failure, 2 bad usage, 3 invalid model file, "
+        epilog="Start with `thermonet demo --out thermonet-report` (the invented sunny-room "
+               "study); `thermonet COMMAND --help` lists the options of each command. "
+               "Exit codes: 0 ok, 1 unexpected failure, 2 bad usage, 3 invalid model file, "
                "4 invalid weather, 5 simulation failed.")
     p.add_argument("--version", action="version", version=f"thermonet {__version__}")
     sub = p.add_subparsers(dest="command", metavar="COMMAND")
@@ -40,8 +59,10 @@ def build_parser() -> argparse.ArgumentParser:
     d.add_argument("--out", default="thermonet-report", help="report folder "
                    "(default: thermonet-report)")
     d.add_argument("--quiet", action="store_true", help="no progress messages")
-    d.add_argument("--hours", type=int, default=None,
-                   help="simulate only the first HOURS of the year (for quick checks)")
+    d.add_argument("--hours", type=_demo_hours, default=None,
+                   help="simulate only the first HOURS of the year, rounded up to whole "
+                        "days, 48 … 8760 (for quick checks; the annual verdicts are then "
+                        "left out)")
     d.set_defaults(func=_demo)
     try:
         from .cli_batch import add_batch_commands

@@ -1,0 +1,533 @@
+"""The report folder of the sunny-room study: CSV tables, PNG figures and one HTML page.
+
+:func:`write_report` takes a :class:`~thermonet.scenarios.sunny_room.SunnyRoomStudy` and writes
+the files listed in :data:`REPORT_FILES` (all of them, always) into a folder. ``index.html``
+is self-contained: its figures are embedded as base64 PNG, so the page can be mailed or
+archived alone. Energies are in kWh, temperatures in °C, powers in W; in balances, positive
+is heat INTO the room.
+
+The page states what was simulated, the cautions (estimates for design guidance, invented
+site, weather and building), the results per option, which heat path moved against the
+baseline, the verdicts of each criterion and the figures.
+"""
+
+from __future__ import annotations
+
+import base64
+import html
+import io
+from pathlib import Path
+
+import matplotlib.pyplot as plt
+import numpy as np
+import pandas as pd
+
+from thermonet import __version__, comfort, plots
+from thermonet.cli import CAUTION
+
+__all__ = ["CSV_FILES", "FIGURES", "INVENTED_NOTE", "REPORT_FILES", "check_folder",
+           "path_change_sentences", "write_report"]
+
+#: CSV tables written by :func:`write_report`: file name -> what it holds.
+CSV_FILES: dict[str, str] = {
+    "options.csv": "the options: description, design change, invented cost/hassle rank",
+    "summary.csv": "one row per option: overheating, comfort, heating metrics",
+    "verdicts.csv": "one row per option and criterion: value, limit, unit, passed, source",
+    "balance_annual.csv": "room balance by heat path per option over the simulated period "
+                          "[kWh]",
+    "balance_summer.csv": "room balance by heat path per option, June–August [kWh]",
+    "balance_monthly_baseline.csv": "monthly room balance of the baseline [kWh]",
+    "path_changes.csv": "change of every path against the baseline, annual and summer [kWh]",
+    "hourly_operative.csv": "hourly operative temperature per option and outdoor air [°C]",
+}
+
+#: PNG figures written by :func:`write_report`: file name -> caption.
+FIGURES: dict[str, str] = {
+    "balance_summer_by_option.png":
+        "Where the heat of June–August comes from and goes, per option (room control "
+        "volume; + into the room, − out of it).",
+    "balance_annual_by_option.png":
+        "The same over the whole simulated period, heating included.",
+    "balance_monthly_baseline.png": "Month by month for the baseline.",
+    "option_comparison.png":
+        "Key metrics per option (the baseline in orange).",
+    "temperatures_hot_week.png":
+        "Operative temperature of each option during the hottest week of the period, with "
+        "the EN 16798-1 category II adaptive band.",
+    "heatmap_operative.png":
+        "Operative temperature, day by hour: the baseline and the option with the fewest "
+        "hours above 26 °C (same colour scale).",
+    "duration_curves.png":
+        "Operative temperature duration curves: how many hours each temperature is reached "
+        "or exceeded.",
+    "adaptive_scatter.png":
+        "Occupied hours against the running mean outdoor temperature with the EN 16798-1 "
+        "limits: the baseline and the option with the fewest hours above 26 °C.",
+}
+
+#: Every file of the report folder.
+REPORT_FILES: tuple[str, ...] = (*CSV_FILES, *FIGURES, "index.html")
+
+#: The statement about invented data carried by the report.
+INVENTED_NOTE = ("The site (the town of Fernhollow), its weather year and the building are "
+                 "INVENTED for this demo; the cost and hassle ranks are invented too. Use the "
+                 "report to learn the workflow, not to judge any real building.")
+
+_DPI = 100
+
+
+# ------------------------------------------------------------------------------- tables
+def _options_table(study) -> pd.DataFrame:
+    rows = []
+    for key, o in study.options.items():
+        change = ", ".join(f"{k} = {v}" for k, v in dict(o.change).items()) or "none"
+        rows.append(dict(option=key, label=o.label, description=o.description,
+                         design_change=change, cost_rank_invented=o.cost_rank,
+                         cost_note_invented=o.cost_note))
+    return pd.DataFrame(rows).set_index("option")
+
+
+def _hourly_table(study) -> pd.DataFrame:
+    out = study.operative.copy()
+    out.insert(0, "outdoor_air", study.weather["temp_air"])
+    out.index.name = "time (hour ending)"
+    return out
+
+
+def _write_csvs(study, folder: Path) -> None:
+    tables = {
+        "options.csv": _options_table(study),
+        "summary.csv": study.summary,
+        "verdicts.csv": study.verdicts,
+        "balance_annual.csv": study.balance_annual,
+        "balance_summer.csv": study.balance_summer,
+        "balance_monthly_baseline.csv": study.balance_monthly,
+        "path_changes.csv": study.path_changes,
+        "hourly_operative.csv": _hourly_table(study),
+    }
+    for name, df in tables.items():
+        index = not isinstance(df.index, pd.RangeIndex)
+        df.to_csv(folder / name, index=index, float_format="%.6g", lineterminator="\n")
+
+
+# ------------------------------------------------------------------------------ figures
+def _labels(study, keys=None) -> list[str]:
+    keys = list(study.options) if keys is None else keys
+    return [study.options[k].label for k in keys]
+
+
+def _best_option(study) -> str:
+    """Key of the non-baseline option with the fewest hours above 26 °C (baseline if alone)."""
+    s = study.summary.drop(index="baseline", errors="ignore")
+    if s.empty:
+        return "baseline"
+    return str(s["hours_above_26_h"].astype(float).idxmin())
+
+
+def _hot_week(study) -> slice:
+    t = study.weather["temp_air"]
+    n = min(168, len(t))
+    mean = t.rolling(n).mean().to_numpy()
+    end = int(np.nanargmax(mean)) if np.isfinite(mean).any() else n - 1
+    return slice(end - n + 1, end + 1)
+
+
+def _figures(study) -> dict:
+    """File name -> figure (callers save and close them)."""
+    figs = {}
+    labels = {k: study.options[k].label.replace(" ", "\n", 1) for k in study.options}
+    for name, tab, title in (
+            ("balance_summer_by_option.png", study.balance_summer,
+             "Room balance by heat path, June–August (simulated steps)"),
+            ("balance_annual_by_option.png", study.balance_annual,
+             "Room balance by heat path, whole simulated period")):
+        fig, _ = plots.balance_bars(tab.rename(index=labels), title=title)
+        figs[name] = fig
+    fig, _ = plots.balance_bars(study.balance_monthly,
+                                title="Baseline: room balance by heat path per month")
+    figs["balance_monthly_baseline.png"] = fig
+
+    table = study.summary.set_index("label")
+    fig, axes = plt.subplots(2, 2, figsize=(13, 7.5), layout="constrained")
+    for ax, (metric, title) in zip(axes.flat, (
+            ("hours_above_26_h", "Hours above 26 °C (operative, all hours)"),
+            ("adaptive_ii_hours_above_h", "Occupied hours above the EN 16798-1 cat. II limit"),
+            ("heating_kwh_m2", "Heating demand per floor area"),
+            ("solar_windows_summer_kwh", "Solar gain through the windows, June–August")),
+            strict=True):
+        plots.compare_options(table, metric, ax=ax, highlight=study.options["baseline"].label,
+                              title=title)
+    figs["option_comparison.png"] = fig
+
+    week = _hot_week(study)
+    top = study.operative.iloc[week].rename(columns=dict(zip(study.options, _labels(study),
+                                                             strict=True)))
+    trm = comfort.running_mean_outdoor(study.weather["temp_air"],
+                                       init="periodic" if study.full_year else "first_day")
+    band = comfort.adaptive_limits(trm, "II")
+    fig, _ = plots.temperature_bands(top, outdoor=study.weather["temp_air"], bands=band,
+                                     band_label="EN 16798-1 category II",
+                                     title="Hottest week of the period: operative "
+                                           "temperature per option")
+    figs["temperatures_hot_week.png"] = fig
+
+    best = _best_option(study)
+    pair = ["baseline"] if best == "baseline" else ["baseline", best]
+    lo = float(study.operative[pair].min().min())
+    hi = float(study.operative[pair].max().max())
+    fig, axes = plt.subplots(len(pair), 1, figsize=(10, 3.6 * len(pair)), layout="constrained",
+                             squeeze=False)
+    for ax, key in zip(axes[:, 0], pair, strict=True):
+        plots.heatmap(study.operative[key].rename("operative temperature"), ax=ax, vmin=lo,
+                      vmax=hi, title=study.options[key].label)
+    figs["heatmap_operative.png"] = fig
+
+    named = study.operative.rename(columns=dict(zip(study.options, _labels(study),
+                                                    strict=True)))
+    fig, ax = plots.duration_curve(named, unit="°C", label="Operative temperature [°C]",
+                                   title="Operative temperature duration curves (all hours "
+                                         "of the period)")
+    for th, style in ((25.0, ":"), (26.0, "--"), (28.0, "-.")):
+        ax.axhline(th, color="#444444", linewidth=0.9, linestyle=style, label=f"{th:g} °C")
+    ax.set_xlim(0, min(len(study.operative), 3000))
+    ax.legend(frameon=False, fontsize=8)
+    figs["duration_curves.png"] = fig
+
+    fig, axes = plt.subplots(1, len(pair), figsize=(7.0 * len(pair), 5.5), layout="constrained",
+                             squeeze=False)
+    init = "periodic" if study.full_year else "first_day"
+    for ax, key in zip(axes[0], pair, strict=True):
+        plots.adaptive_scatter(study.operative[key], study.weather["temp_air"], category="II",
+                               occupied=study.occupied, ax=ax, init=init,
+                               title=f"{study.options[key].label}: EN 16798-1, occupied hours")
+    figs["adaptive_scatter.png"] = fig
+    return figs
+
+
+def _png(fig) -> bytes:
+    buf = io.BytesIO()
+    fig.savefig(buf, format="png", dpi=_DPI)
+    return buf.getvalue()
+
+
+# --------------------------------------------------------------------------- narrative
+_PATH_WORDS = {
+    "solar": "solar gain through the windows",
+    "internal": "internal gains",
+    "heating": "heating",
+    "opaque": "walls and roof (incl. sun on their outer faces)",
+    "glazing": "conduction through the windows",
+    "adjacent": "exchange with the neighbouring flats",
+    "buffer": "exchange with the stair (buffer)",
+    "infiltration": "infiltration",
+    "ventilation": "background ventilation",
+    "window_ventilation": "daytime window airing",
+    "night_ventilation": "night ventilation",
+    "cooling": "cooling",
+    "storage": "storage in the fabric",
+}
+
+
+def _kwh(v: float) -> str:
+    return f"{v:+,.0f}".replace("-", "\u2212") + " kWh"
+
+
+def path_change_sentences(study, period: str = "summer", n: int = 2) -> dict:
+    """One plain-language sentence per option: which heat paths moved most vs the baseline.
+
+    Parameters
+    ----------
+    study : SunnyRoomStudy
+    period : {"summer", "annual"}
+    n : int, default 2
+        Paths named per option.
+
+    Returns
+    -------
+    dict of str to str
+        Option key -> sentence (baseline left out). Values are "baseline → option" [kWh],
+        + into the room, − out of it. When no path moves by more than 5 % of the baseline's
+        gains over the period, the sentence says so and gives the mean daily swing of the
+        operative temperature in June–August instead, where an option such as added mass
+        acts (it changes when heat arrives, not how much).
+    """
+    main = study.main_changes(period, n)
+    tab = study.balance_summer if period == "summer" else study.balance_annual
+    base = tab.loc["baseline"].drop(["storage", "residual"], errors="ignore")
+    gains = float(base[base > 0].sum())
+    out = {}
+    for key in study.options:
+        if key == "baseline":
+            continue
+        rows = main[main["option"] == key]
+        parts = [f"{_PATH_WORDS.get(r.path, r.path)} {_kwh(r.baseline_kwh)} → "
+                 f"{_kwh(r.option_kwh)}" for r in rows.itertuples()]
+        text = "; ".join(parts) if parts else "no path changed"
+        biggest = float(rows["change_kwh"].abs().max()) if len(rows) else 0.0
+        if gains > 0 and biggest < 0.05 * gains:
+            s = study.summary
+            text = (f"the {period} totals hardly move ({text}); the option acts on timing: "
+                    f"the mean daily swing of the operative temperature in June–August goes "
+                    f"from {_fmt(s.loc['baseline', 'daily_swing_summer_k'], 1)} to "
+                    f"{_fmt(s.loc[key, 'daily_swing_summer_k'], 1)} K")
+        out[key] = text
+    return out
+
+
+# ---------------------------------------------------------------------------------- html
+_CSS = """
+body{font-family:system-ui,-apple-system,'Segoe UI',sans-serif;margin:0;color:#222;
+background:#fafafa;line-height:1.45}
+main{max-width:1100px;margin:0 auto;padding:1.5em 2em 3em;background:#fff}
+h1{font-size:1.6em;margin-bottom:.2em}h2{border-bottom:2px solid #0072B2;padding-bottom:.15em;
+margin-top:1.8em}
+.caution{border-left:6px solid #D55E00;background:#fff4ec;padding:.7em 1em;margin:1em 0}
+.note{color:#555;font-size:.92em}
+table{border-collapse:collapse;font-size:.86em;margin:.6em 0}
+th,td{border:1px solid #ddd;padding:.25em .5em;text-align:right}
+th{background:#eef4fa}td:first-child,th:first-child{text-align:left}
+td.pass{background:#e6f4ea}td.fail{background:#fde8e8}
+figure{margin:1.2em 0}figure img{max-width:100%;border:1px solid #eee}
+figcaption{font-size:.9em;color:#444}
+code{background:#f2f2f2;padding:0 .25em}
+"""
+
+
+def _esc(x) -> str:
+    return html.escape(str(x))
+
+
+def _fmt(v, digits=0) -> str:
+    if v is None or (isinstance(v, float) and not np.isfinite(v)) or v is pd.NA:
+        return "–"
+    if isinstance(v, (bool, np.bool_)):
+        return "yes" if v else "no"
+    if isinstance(v, (int, np.integer)):
+        return f"{int(v):,}".replace("-", "\u2212")
+    return f"{float(v):,.{digits}f}".replace("-", "\u2212")
+
+
+def _verdict_cell(v) -> str:
+    if v is None or v is pd.NA or (isinstance(v, float) and np.isnan(v)):
+        return "<td>not assessed</td>"
+    return '<td class="pass">pass</td>' if bool(v) else '<td class="fail">fail</td>'
+
+
+def _results_table(study) -> str:
+    s = study.summary
+    head = ("<tr><th>option</th><th>hours &gt; 25 °C</th><th>hours &gt; 26 °C</th>"
+            "<th>hours &gt; 28 °C</th><th>max θop [°C]</th><th>share &gt; 25 °C [%]</th>"
+            "<th>≤ 10 %</th><th>EN 16798-1 II, occupied h above</th><th>TM52</th>"
+            "<th>TM59 living</th><th>heating [kWh/m²]</th><th>heating [kWh]</th>"
+            "<th>peak heating [W]</th><th>solar Jun–Aug [kWh]</th>"
+            "<th>daily swing Jun–Aug [K]</th>"
+            "<th>cost/hassle 1–5 (invented)</th></tr>")
+    rows = []
+    for key, r in s.iterrows():
+        rows.append(
+            f"<tr><td>{_esc(r['label'])}</td><td>{_fmt(r['hours_above_25_h'])}</td>"
+            f"<td>{_fmt(r['hours_above_26_h'])}</td><td>{_fmt(r['hours_above_28_h'])}</td>"
+            f"<td>{_fmt(r['max_operative_c'], 1)}</td>"
+            f"<td>{_fmt(r['overheating_freq_25_pct'], 1)}</td>"
+            f"{_verdict_cell(r['overheating_freq_ok'])}"
+            f"<td>{_fmt(r['adaptive_ii_hours_above_h'])}</td>{_verdict_cell(r['tm52_ok'])}"
+            f"{_verdict_cell(r['tm59_ok'])}<td>{_fmt(r['heating_kwh_m2'], 1)}</td>"
+            f"<td>{_fmt(r['heating_kwh'])}</td><td>{_fmt(r['peak_heating_w'])}</td>"
+            f"<td>{_fmt(r['solar_windows_summer_kwh'])}</td>"
+            f"<td>{_fmt(r['daily_swing_summer_k'], 1)}</td>"
+            f"<td>{'–' if key == 'baseline' else _fmt(int(r['cost_rank']))}</td></tr>")
+    return f"<table>{head}{''.join(rows)}</table>"
+
+
+def _balance_table(tab: pd.DataFrame, study) -> str:
+    cols = [c for c in tab.columns if c != "residual" and (tab[c] != 0).any()]
+    head = "<tr><th>option</th>" + "".join(f"<th>{_esc(c)}</th>" for c in cols) + \
+        "<th>residual</th></tr>"
+    body = "".join(
+        f"<tr><td>{_esc(study.options[k].label)}</td>"
+        + "".join(f"<td>{_fmt(tab.loc[k, c])}</td>" for c in cols)
+        + f"<td>{tab.loc[k, 'residual']:.1e}</td></tr>" for k in tab.index)
+    return f"<table>{head}{body}</table>"
+
+
+def _verdicts_table(study) -> str:
+    v = study.verdicts
+    head = ("<tr><th>option</th><th>criterion</th><th>value</th><th>limit</th><th>unit</th>"
+            "<th>verdict</th><th>source</th></tr>")
+    rows = []
+    for r in v.itertuples():
+        digits = 3 if r.unit == "–" else 1
+        rows.append(f"<tr><td>{_esc(study.options[r.option].label)}</td>"
+                    f"<td>{_esc(r.criterion)}</td><td>{_fmt(r.value, digits)}</td>"
+                    f"<td>{_fmt(r.limit, digits)}</td><td>{_esc(r.unit)}</td>"
+                    f"{_verdict_cell(r.passed)}<td>{_esc(r.source)}</td></tr>")
+    return f"<table>{head}{''.join(rows)}</table>"
+
+
+def _conclusion(study) -> str:
+    s = study.summary
+    if not study.full_year:
+        return ("<p>This was a short run (the first "
+                f"{len(study.weather)} h of the year): the annual and summer verdicts are not "
+                "meaningful. Run <code>thermonet demo</code> without <code>--hours</code> for "
+                "the full study.</p>")
+    passes = s["overheating_freq_ok"].astype(bool) & s["tm52_ok"].astype(bool)
+    ok = s[passes].drop(index="baseline", errors="ignore")
+    base = s.loc["baseline"]
+    lines = [f"<p>The baseline spends {_fmt(base['hours_above_26_h'])} h above 26 °C "
+             f"({_fmt(base['overheating_freq_25_pct'], 1)} % of all hours above 25 °C, limit "
+             f"10 %) and {'passes' if bool(base['tm52_ok']) else 'fails'} CIBSE TM52.</p>"]
+    if len(ok):
+        cheapest = ok.sort_values(["cost_rank", "hours_above_26_h"]).index[0]
+        r = s.loc[cheapest]
+        lines.append(
+            f"<p>Options that pass both the 10 % overheating frequency and TM52: "
+            f"{', '.join(_esc(x) for x in ok['label'])}. Of these, "
+            f"<strong>{_esc(r['label'])}</strong> has the lowest (invented) cost/hassle rank: "
+            f"{_fmt(r['hours_above_26_h'])} h above 26 °C, heating "
+            f"{_fmt(r['heating_kwh_m2'], 1)} kWh/m² (baseline "
+            f"{_fmt(base['heating_kwh_m2'], 1)}).</p>")
+    else:
+        best = _best_option(study)
+        lines.append(f"<p>No single option passes both the 10 % overheating frequency and "
+                     f"TM52; the one with the fewest hours above 26 °C is "
+                     f"<strong>{_esc(study.options[best].label)}</strong>. Try combinations "
+                     "(see the notebook <code>01_sunny_room_study.ipynb</code>).</p>")
+    return "".join(lines)
+
+
+def _html(study, images: dict) -> str:
+    w = study.weather
+    site = w.attrs.get("site", {})
+    first, last = w.index[0], w.index[-1]
+    moved_s = path_change_sentences(study, "summer")
+    moved_a = path_change_sentences(study, "annual")
+    opts = "".join(
+        f"<li><strong>{_esc(o.label)}</strong>: {_esc(o.description)}"
+        + (f" <span class='note'>Cost/hassle {o.cost_rank}/5 (invented): "
+           f"{_esc(o.cost_note)}.</span>" if k != "baseline" else "") + "</li>"
+        for k, o in study.options.items())
+    moved = "".join(
+        f"<li><strong>{_esc(study.options[k].label)}</strong> — June–August: {_esc(moved_s[k])}."
+        f" Whole period: {_esc(moved_a[k])}.</li>" for k in moved_s)
+    figures = "".join(
+        f"<figure><img alt='{_esc(name)}' src='data:image/png;base64,{images[name]}'>"
+        f"<figcaption>{_esc(cap)} <span class='note'>({_esc(name)})</span></figcaption>"
+        "</figure>" for name, cap in FIGURES.items())
+    files = "".join(f"<li><code>{_esc(n)}</code> — {_esc(d)}</li>" for n, d in CSV_FILES.items())
+    return f"""<!DOCTYPE html>
+<html lang="en"><head><meta charset="utf-8">
+<meta name="viewport" content="width=device-width, initial-scale=1">
+<title>thermonet demo — will the sunny room overheat?</title>
+<style>{_CSS}</style></head>
+<body><main>
+<h1>Will the sunny room overheat — and what fixes it?</h1>
+<p class="note">thermonet {_esc(__version__)} · demo study of the {_esc(_building())}</p>
+<div class="caution"><strong>Cautions.</strong> {_esc(CAUTION)} {_esc(INVENTED_NOTE)}</div>
+
+<h2>What was simulated</h2>
+<p>A lumped-RC thermal network of the room, its walls, roof, floor and partitions, the unheated
+common stair next to it (a buffer space) and the neighbouring flats, run hour by hour
+({len(w):,} steps of 1 h, {_esc(first)} … {_esc(last)}, hour-ending labels) on the
+<strong>invented</strong> sample weather of {_esc(site.get("name", "the site"))}
+(latitude {_esc(site.get("latitude", "?"))}°, longitude {_esc(site.get("longitude", "?"))}°),
+after a 14-day warm-up. Heating by a thermostat at 20 °C from October to April; no heating
+from May to September and no cooling, so the room runs free in summer. Occupants open the
+windows in the daytime when the room is above 25 °C.</p>
+<p>Comfort is judged on the operative temperature (mean of air and area-weighted surface
+temperature). Hours above 25/26/28 °C and the overheating frequency count every hour; the
+EN 16798-1, TM52 and TM59 criteria count the occupied hours 09:00–22:00.</p>
+<p>Options compared (each one change against the baseline):</p><ul>{opts}</ul>
+
+<h2>Results per option</h2>
+{_results_table(study)}
+<p class="note">TM52: category II, fails when two or more of its three criteria fail. TM59:
+living room, natural ventilation, criterion (a). "not assessed": the simulated period does not
+allow the criterion (a short run).</p>
+{_conclusion(study)}
+
+<h2>Which heat path moved</h2>
+<p>Energy balance of the room (air, surfaces and its own walls, roof and floor) by heat path,
+baseline → option, + into the room, − out of it. The balance closes: the residual column
+below is rounding noise.</p>
+<ul>{moved}</ul>
+<h3>June–August [kWh]</h3>
+{_balance_table(study.balance_summer, study)}
+<h3>Whole simulated period [kWh]</h3>
+{_balance_table(study.balance_annual, study)}
+<p class="note">"opaque" is the net heat the walls and roof exchange with outdoor air, sky
+and sun (sun absorbed on their outer faces included); "solar" is the gain through the
+windows; "storage" is heat released by the room's fabric (− = stored).</p>
+
+<h2>Figures</h2>
+{figures}
+
+<h2>Verdicts by criterion</h2>
+{_verdicts_table(study)}
+
+<h2>Files in this folder</h2>
+<ul>{files}<li>PNG figures: {", ".join(f"<code>{_esc(n)}</code>" for n in FIGURES)}</li></ul>
+
+<div class="caution">{_esc(CAUTION)} {_esc(INVENTED_NOTE)}</div>
+</main></body></html>
+"""
+
+
+def _building() -> str:
+    from .sunny_room import BUILDING
+
+    return BUILDING
+
+
+# --------------------------------------------------------------------------------- write
+def check_folder(out) -> Path:
+    """The report folder as a Path; raises NotADirectoryError if it exists as a file."""
+    folder = Path(out)
+    if folder.exists() and not folder.is_dir():
+        raise NotADirectoryError(f"report folder {str(folder)!r} exists and is a file; pass "
+                                 "another folder (--out DIR)")
+    return folder
+
+
+def write_report(study, out, progress=None) -> Path:
+    """Write the report folder of a study.
+
+    Parameters
+    ----------
+    study : SunnyRoomStudy
+        From :func:`thermonet.scenarios.sunny_room.run_study`.
+    out : str or pathlib.Path
+        Folder, created if missing (with parents); the files of :data:`REPORT_FILES` are
+        overwritten, other files are left alone.
+    progress : callable, optional
+        Receives one message per stage.
+
+    Returns
+    -------
+    pathlib.Path
+        Path of ``index.html``.
+
+    Raises
+    ------
+    NotADirectoryError
+        ``out`` exists and is not a folder.
+    """
+    say = progress if callable(progress) else (lambda msg: None)
+    folder = check_folder(out)
+    folder.mkdir(parents=True, exist_ok=True)
+    say(f"writing tables to {folder}")
+    _write_csvs(study, folder)
+    say("drawing figures")
+    images = {}
+    figs = _figures(study)
+    try:
+        for name, fig in figs.items():
+            data = _png(fig)
+            (folder / name).write_bytes(data)
+            images[name] = base64.b64encode(data).decode("ascii")
+    finally:
+        for fig in figs.values():
+            plt.close(fig)
+    index = folder / "index.html"
+    index.write_text(_html(study, images), encoding="utf-8")
+    return index
