@@ -201,3 +201,20 @@ def test_errors():
                            elements=[Element("e", WALL, 10.0,
                                              windows=[Window("w", 2, 1, 0.5, shading=blind)])])
     assert math.isfinite(iso13790_parameters(AF, 0.0, H_W).h_tr_em)
+
+
+def test_zone_records_are_kept_and_checked():
+    from thermonet.templates import iso13790_zones
+
+    net = tn.Network()
+    z = _zone(net, internal_gains=100.0)
+    rec = iso13790_zones(net)["z"]
+    assert rec == z and rec.parameters == z.parameters
+    assert any(ln in rec.links for ln in net.links if ln.startswith("z:infiltration"))
+    net.meta["builders"]["iso13790_zones"]["z"]["nodes"].append("ghost")
+    with pytest.raises(NetworkError, match=r"zone 'z'.*\['ghost'\].*rebuild"):
+        iso13790_zones(net)
+    net.meta["builders"]["iso13790_zones"]["z"]["nodes"].pop()
+    del net.meta["builders"]["iso13790_zones"]["z"]["parameters"]["c_m"]
+    with pytest.raises(NetworkError, match=r"\['parameters'\] is malformed"):
+        iso13790_zones(net)
