@@ -73,10 +73,16 @@ class Results:
 
     @cached_property
     def _flows(self):
+        return self._link_flows(np.arange(len(self._c.link_names)))
+
+    def _link_flows(self, cols):
+        """Flows [W] of the links ``cols`` (step means), without forming all the others."""
+        if "_flows" in self.__dict__:
+            return self.__dict__["_flows"][:, cols]
         c, t = self._c, self._t
         tm = self._tmean
-        g = c.G_states[t.S]
-        return g * (tm[:, c.link_a] - tm[:, c.link_b])
+        g = c.G_states[:, cols][t.S]
+        return g * (tm[:, c.link_a[cols]] - tm[:, c.link_b[cols]])
 
     def _frame(self, arr, columns, order=None):
         df = pd.DataFrame(arr, index=self.index, columns=columns)
@@ -160,8 +166,15 @@ class Results:
             cols[key] = cols.get(key, np.zeros(n)) + values
 
         sign = inside[c.link_b].astype(float) - inside[c.link_a].astype(float)
-        for j in np.flatnonzero(sign):
-            add(c.link_paths[j], sign[j] * self._flows[:, j])
+        cross = np.flatnonzero(sign)
+        if len(cross):
+            paths = [c.link_paths[j] for j in cross]
+            names = list(dict.fromkeys(paths))           # first-seen order
+            onehot = np.zeros((len(cross), len(names)))
+            onehot[np.arange(len(cross)), [names.index(p) for p in paths]] = sign[cross]
+            by_path = self._link_flows(cross) @ onehot    # (n, paths) [W] into the set
+            for k, path in enumerate(names):
+                add(path, by_path[:, k])
         for j, node in enumerate(c.source_node):
             if inside[node]:
                 add(c.source_paths[j], t.U[:, c.nb + j])
