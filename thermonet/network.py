@@ -175,7 +175,10 @@ MAX_CONDUCTANCE = 1e12
 
 def _check_conductance(g, what):
     """Refuse conductances [W/K] above :data:`MAX_CONDUCTANCE` (constant or Series)."""
-    top = float(np.max(np.asarray(g, dtype=float))) if np.size(g) else 0.0
+    if isinstance(g, float):  # the common case, without numpy's per-call overhead
+        top = g
+    else:
+        top = float(np.max(np.asarray(g, dtype=float))) if np.size(g) else 0.0
     if top > MAX_CONDUCTANCE:
         raise NetworkError(f"{what} is {top:.3g} W/K, above the {MAX_CONDUCTANCE:.0e} W/K that "
                            "flows can resolve (flow = G·ΔT with ΔT known to ~1e-14 K); merge "
