@@ -867,18 +867,15 @@ def _run_group(layout: Layout, plist: list, store: ColumnStore, warm: int, opts:
         outs = [pick(a) for a in (heat, cool, peak_h, peak_c, hrs, dgh, tstat, xs_sum, u_sum,
                                   cnt, x_first, x_last)]
         tr = [pick(a) if keep else a for a in (Xtr, Utr, Str)]
-        if (batch_simd.applicable(ns, layout.nsw, m, nc, keep)  # variants on SIMD lanes
-                and batch_simd.modal_ok(bd.lam, bd.Q, bd.W, Cs, h, nb)[sel].all()):
-            batch_simd.step_group(
-                pick(bd.lam), pick(bd.Q), pick(bd.W), pick(Cs), h, pick(bd.Rx), pick(bd.Ru),
-                pick(bd.M),
-                pick(bd.Yx), pick(bd.Yu), pick(x0), bank, pick(ucol), pick(uconst),
-                pick(hcol), pick(hconst), pick(ccol), pick(cconst),
-                pick(np.array([p.qh for p in plist]).reshape(V, m)),
-                pick(np.array([p.qc for p in plist]).reshape(V, m)),
-                int(nb), int(warm), int(cidx), int(c.thermostat_node[0]) if m else -1,
-                thr_h, thr_d, *outs)
-        else:
+        simd = batch_simd.applicable(ns, layout.nsw, m, nc, keep) and batch_simd.step_group(
+            pick(bd.lam), pick(bd.Q), pick(bd.W), pick(Cs), h, pick(bd.Rx), pick(bd.Ru),
+            pick(bd.M), pick(bd.Yx), pick(bd.Yu), pick(x0), bank, pick(ucol), pick(uconst),
+            pick(hcol), pick(hconst), pick(ccol), pick(cconst),
+            pick(np.array([p.qh for p in plist]).reshape(V, m)),
+            pick(np.array([p.qc for p in plist]).reshape(V, m)),
+            int(nb), int(warm), int(cidx), int(c.thermostat_node[0]) if m else -1,
+            thr_h, thr_d, *outs)   # variants on SIMD lanes; False if it declines the group
+        if not simd:
             step_batch(
                 pick(np.ascontiguousarray(np.swapaxes(bd.Phi, -1, -2))),
                 pick(np.ascontiguousarray(np.swapaxes(bd.Gam, -1, -2))),

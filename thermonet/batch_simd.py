@@ -3,29 +3,45 @@
 :func:`thermonet.batch.run_batch` steps a group of variants that share one structure. Its
 general kernel runs each variant's scalar loop on its own thread (``numba.prange`` over
 variants). When the group has a single discrete state (no switches, no scheduled link
-conductances) and at most one thermostat, every variant does exactly the same arithmetic on
+conductances) and at most one thermostat, every variant does the same arithmetic on
 different numbers, so this module puts the variants on the *innermost* axis instead: blocks
-of :data:`LANES` variants, each step a handful of loops of fixed length ``LANES`` that the
-compiler turns into vector instructions, and the blocks run in parallel (``numba.prange``).
+of :data:`LANES` variants, each step a few loops over the lanes that the compiler turns into
+vector instructions, the blocks in parallel (``numba.prange``).
 
-One step of one lane is the algorithm of :mod:`thermonet.kernels` (same operation order):
+Two choices make the loop cheap:
 
-1. inputs ``u`` (boundary temperatures [°C], source powers [W]) from the column bank;
-2. free response ``x⁺ = Φ x + Γ u`` (exact zero-order hold);
-3. thermostat power by superposition, clamped to its capacity: with ``T₀`` the free
-   end-of-step temperature of the controlled node and ``M`` its response to 1 W,
+* **Modal coordinates.** With ``C⁻¹K = Q Λ Q⁻¹`` (``Qᵀ C Q = I``) and ``z = Qᵀ C x``, the
+  exact zero-order-hold step is diagonal, ``z⁺ = e^{−λh} ⊙ z + hφ₁(λh) ⊙ (W u)`` with
+  φ₁(x) = (1 − e^{−x})/x — the discretisation of :func:`thermonet.solvers.discretise_exact`
+  (``Φ = Q e^{−Λh} Qᵀ C``, ``Γ = Q hφ₁(Λh) W``) at O(nc·nu) instead of O(nc²) per step.
+  Temperatures the loop needs (the thermostat's node, the comfort node) are rows ``r·z``;
+  the sums of ``x`` for the balance are mapped back with ``Q`` after the loop.
+* **Inputs as shared columns.** Inputs that are constant for a variant are folded into one
+  vector per variant; time series are columns of the bank shared by the variants that use
+  them (a weather column, one gains profile), read once per step as a scalar and multiplied
+  into every lane. No per-lane gathers.
+
+One step of one lane is the algorithm of :mod:`thermonet.kernels`:
+
+1. free response ``z⁺`` from the start state and this step's inputs;
+2. thermostat by superposition, clamped to its capacity: with ``T₀`` the free end-of-step
+   temperature of the controlled node and ``M`` its response to 1 W,
    ``P = min((T_h − T₀)/M, q_h)`` if ``T₀ < T_h``, ``P = −min((T₀ − T_c)/M, q_c)`` if
    ``T₀ > T_c``, else 0 (exact for one thermostat);
-4. ``x ← x⁺ + Γ_P P``; annual sums over the reported steps.
+3. ``z ← z⁺ + g_P P``; annual sums over the reported steps (energies, peaks, comfort-node
+   hours and degree-hours above thresholds, ``Σ z_start``), as :func:`run_batch` documents.
 
-The sums are the ones :func:`thermonet.batch.run_batch` documents (energies per thermostat,
-peaks, comfort-node hours and degree-hours above thresholds, ``Σ x_start`` and ``Σ u`` for
-the exact annual balance by path).
+:func:`step_group` declines (returns False) a group it cannot step this way: a variant whose
+modal form fails the isothermal-defect check of :func:`thermonet.solvers.discretise_exact`
+(it was discretised by doubling), input columns that are not finite, or blocks that would
+read more than :data:`MAX_COLUMNS` distinct time series per step.
 
 References
 ----------
 .. [1] Franklin, G. F., Powell, J. D., Workman, M. L., Digital Control of Dynamic Systems,
    3rd ed., Addison-Wesley, 1998, §4.3 (zero-order-hold equivalent of a continuous system).
+.. [2] Golub, G. H., Van Loan, C. F., Matrix Computations, 4th ed., 2013, §8.1 (symmetric
+   eigenproblem; the modal form).
 """
 
 from __future__ import annotations
@@ -34,15 +50,19 @@ import numpy as np
 
 from . import kernels
 
-#: Variants per block (the length of every innermost loop; a compile-time constant).
+#: Variants per block (the length of every innermost loop).
 LANES = 32
 
-__all__ = ["LANES", "applicable", "modal_ok", "step_group"]
+#: Most distinct input time series one block may read per step; beyond it the group is left
+#: to the general kernel (each lane would otherwise multiply mostly zeros).
+MAX_COLUMNS = 8
+
+__all__ = ["LANES", "MAX_COLUMNS", "applicable", "modal_ok", "step_group"]
 
 
 def applicable(n_states: int, n_switches: int, n_thermostats: int, n_capacitive: int,
                keep_traces: bool) -> bool:
-    """True if a group can be stepped by :func:`step_group` (see the module docstring)."""
+    """True if a group's structure suits :func:`step_group` (see the module docstring)."""
     return (kernels.HAVE_NUMBA and n_states == 1 and n_switches == 0 and n_thermostats <= 1
             and n_capacitive > 0 and not keep_traces)
 
@@ -56,7 +76,8 @@ def modal_ok(lam, Q, W, C, h: float, nb: int) -> np.ndarray:
 
     Parameters
     ----------
-    lam, Q, W : ndarray (V, 1, nc), (V, 1, nc, nc), (V, 1, nc, nu)
+    lam, Q, W : ndarray (V, nc), (V, nc, nc), (V, nc, nu)
+        Rates [1/s], modal matrix and ``W = Qᵀ E`` of each variant's one state.
     C : ndarray (V, nc)
         Capacitances [J/K].
     h : float
@@ -66,14 +87,13 @@ def modal_ok(lam, Q, W, C, h: float, nb: int) -> np.ndarray:
     """
     from .solvers import MODAL_DEFECT_LIMIT, phi1
 
-    lam, Q, W = lam[:, 0], Q[:, 0], W[:, 0]
     a = np.einsum("vji,vj->vi", Q, C)                       # Qᵀ C 1
     g = W[..., :nb].sum(axis=-1)                            # W_b 1
     rows = np.einsum("vij,vj->vi", Q, np.exp(-lam * h) * a + h * phi1(lam * h) * g)
     return np.abs(rows - 1.0).max(axis=-1, initial=0.0) <= MODAL_DEFECT_LIMIT
 
 
-def _blocks(a: np.ndarray, nblk: int, fill: float = 0.0) -> np.ndarray:
+def _blocks(a: np.ndarray, nblk: int, fill=0.0) -> np.ndarray:
     """(V, ...) → (nblk, ..., LANES), padded with ``fill``; C-contiguous."""
     V = a.shape[0]
     out = np.full((nblk * LANES,) + a.shape[1:], fill, dtype=a.dtype)
@@ -88,17 +108,33 @@ def _unblock(a: np.ndarray, V: int) -> np.ndarray:
     return b.reshape((b.shape[0] * b.shape[1],) + b.shape[2:])[:V]
 
 
+def _per_column(coef: np.ndarray, ucol: np.ndarray, cols: np.ndarray, nblk: int) -> np.ndarray:
+    """Sum the input coefficients of each lane by the bank column it reads.
+
+    ``coef`` (V, ..., nin) holds one coefficient per input; ``cols`` (nblk, ncol) the bank
+    columns each block reads. Returns (nblk, ncol, ..., LANES).
+    """
+    V = coef.shape[0]
+    ncol = cols.shape[1]
+    lane_block = np.arange(V) // LANES
+    out = np.zeros((V, ncol) + coef.shape[1:-1])
+    for c in range(ncol):
+        col_of_lane = cols[lane_block, c]                              # (V,)
+        hit = (ucol == col_of_lane[:, None]) & (ucol >= 0)             # (V, nin)
+        out[:, c] = (coef * hit.reshape((V,) + (1,) * (coef.ndim - 2) + (-1,))).sum(axis=-1)
+    return _blocks(out, nblk)
+
+
 def step_group(lam, Q, W, C, h, Rx, Ru, M, Yx, Yu, x0, bank, ucol, uconst, hcol, hconst,
                ccol, cconst, qh, qc, nb, warm, cidx, tnode, thr_h, thr_d,
                heat, cool, peak_h, peak_c, hrs, dgh, tstat, xs_sum, u_sum, cnt, x_first,
-               x_last):
-    """Step a single-state group; fills the output arrays of :func:`run_batch`'s kernel.
+               x_last) -> bool:
+    """Step a single-state group; fill the output arrays of :func:`run_batch`'s kernel.
 
     Parameters
     ----------
     lam, Q, W : ndarray (V, 1, nc), (V, 1, nc, nc), (V, 1, nc, nu)
-        Modal data of each variant's one state: ``C⁻¹K = Q Λ Q⁻¹`` with ``Qᵀ C Q = I``
-        (λ [1/s]) and ``W = Qᵀ E``.
+        Modal data of each variant's one state (λ [1/s], ``Qᵀ C Q = I``, ``W = Qᵀ E``).
     C : ndarray (V, nc)
         Capacitances [J/K].
     h : float
@@ -123,71 +159,79 @@ def step_group(lam, Q, W, C, h, Rx, Ru, M, Yx, Yu, x0, bank, ucol, uconst, hcol,
     heat, ... x_last : ndarray
         Outputs, shaped as in :func:`thermonet.batch._run_group`; overwritten.
 
-    Notes
-    -----
-    The loop runs in modal coordinates ``z = Qᵀ C x`` (``x = Q z``), where the exact step is
-    diagonal: ``z⁺ = e^{−λh} ⊙ z + h φ₁(λh) ⊙ (W u)`` with φ₁(x) = (1 − e^{−x})/x — the same
-    discretisation as :func:`thermonet.solvers.discretise_exact` (``Φ = Q e^{−Λh} Qᵀ C``,
-    ``Γ = Q hφ₁(Λh) W``), at O(nc·nu) instead of O(nc²) operations per step. Inputs that are
-    constant for every variant of the group are folded into one vector per variant. The
-    sums of ``x`` are mapped back with ``Q`` after the loop (they are linear in ``z``).
+    Returns
+    -------
+    bool
+        False if the group was declined (outputs untouched); see the module docstring.
     """
     from .solvers import phi1
 
-    V, _, nc, nu = W.shape
+    lam, Q, W = lam[:, 0], Q[:, 0], W[:, 0]
+    V, nc, nu = W.shape
     m = M.shape[-1]
     nin = ucol.shape[1]
     nblk = -(-V // LANES)
     n = bank.shape[0]
-    lam, Q, W = lam[:, 0], Q[:, 0], W[:, 0]
+    nrep = max(n - warm, 0)
+    if not modal_ok(lam, Q, W, C, h, nb).all():
+        return False
+    # ---- the bank columns each block reads (constant inputs are folded below)
+    lane_block = np.arange(V) // LANES
+    per_block = [np.unique(ucol[lane_block == b][ucol[lane_block == b] >= 0])
+                 for b in range(nblk)]
+    ncol = max((len(c) for c in per_block), default=0)
+    if ncol > MAX_COLUMNS:
+        return False
+    used = np.unique(np.concatenate(per_block)) if ncol else np.zeros(0, dtype=np.int64)
+    if used.size and not np.isfinite(bank[:, used]).all():
+        return False
+    cols = np.zeros((nblk, max(ncol, 1)), dtype=np.int64)
+    cols[:, :] = used[0] if used.size else 0
+    for b, c in enumerate(per_block):
+        cols[b, :len(c)] = c                 # padding repeats a column with zero weights
+    valid = np.zeros_like(cols, dtype=bool)
+    for b, c in enumerate(per_block):
+        valid[b, :len(c)] = True
+    cols_v = np.where(valid, cols, -2)        # padding matches no lane's column
+    const = np.where(ucol >= 0, 0.0, uconst)  # (V, nin): constants, 0 where a column is read
+    # ---- modal coefficients
     a = np.exp(-lam * h)                                  # (V, nc)
     Gz = (h * phi1(lam * h))[..., None] * W               # (V, nc, nu)
-    dyn = np.flatnonzero((ucol >= 0).any(axis=0))         # inputs read from the bank
-    const = np.flatnonzero(~(ucol >= 0).any(axis=0))      # constant for every variant
-    uc = np.where(ucol[:, dyn] >= 0, ucol[:, dyn], bank.shape[1]).astype(np.int64)
-    uk = np.where(ucol[:, dyn] >= 0, 0.0, uconst[:, dyn])
-    bz = np.einsum("vij,vj->vi", Gz[:, :, const], uconst[:, const])
-    # end-of-step temperature of the comfort node: yc·z + yu·u
+    bz = np.einsum("vij,vj->vi", Gz[:, :, :nin], const)
     if 0 <= cidx < nc:
-        yc = Q[:, cidx, :]
-        yu = np.zeros((V, nu))
+        yc, yu = Q[:, cidx, :], np.zeros((V, nu))
     elif cidx >= nc:
-        yc = np.einsum("vj,vjk->vk", Yx[:, 0, cidx - nc], Q)
-        yu = Yu[:, 0, cidx - nc]
+        yc, yu = np.einsum("vj,vjk->vk", Yx[:, 0, cidx - nc], Q), Yu[:, 0, cidx - nc]
     else:
         yc, yu = np.zeros((V, nc)), np.zeros((V, nu))
     if m:
-        r = np.einsum("vj,vjk->vk", Rx[:, 0, 0], Q)       # controlled node = r·z
+        r = np.einsum("vj,vjk->vk", Rx[:, 0, 0], Q)       # controlled node = r·z + ru·u
         ru = Ru[:, 0, 0]
         gP = Gz[:, :, nin]
-        Md, qhv, qcv = M[:, 0, 0, 0], qh[:, 0], qc[:, 0]
-        hs = np.where(hcol[:, 0] >= 0, hcol[:, 0], bank.shape[1]).astype(np.int64)
-        hk = np.where(hcol[:, 0] >= 0, 0.0, hconst[:, 0])
-        cs = np.where(ccol[:, 0] >= 0, ccol[:, 0], bank.shape[1]).astype(np.int64)
-        ck = np.where(ccol[:, 0] >= 0, 0.0, cconst[:, 0])
         yuP = yu[:, nin]
+        Md, qhv, qcv = M[:, 0, 0, 0], qh[:, 0], qc[:, 0]
+        hcv, hkv, ccv, ckv = hcol[:, 0], hconst[:, 0], ccol[:, 0], cconst[:, 0]
     else:
         r, ru, gP = np.zeros((V, nc)), np.zeros((V, nu)), np.zeros((V, nc))
-        Md, qhv, qcv = np.ones(V), np.zeros(V), np.zeros(V)
-        hs = cs = np.full(V, bank.shape[1], dtype=np.int64)
-        hk = ck = np.full(V, np.nan)
         yuP = np.zeros(V)
-    bT = np.einsum("vj,vj->v", ru[:, const], uconst[:, const])
-    bC = np.einsum("vj,vj->v", yu[:, const], uconst[:, const])
+        Md, qhv, qcv = np.ones(V), np.zeros(V), np.zeros(V)
+        hcv = ccv = np.full(V, -1, dtype=np.int64)
+        hkv = ckv = np.full(V, np.nan)
+    sp_dyn = int((hcv >= 0).any() or (ccv >= 0).any())
+    bT = np.einsum("vj,vj->v", ru[:, :nin], const)
+    bC = np.einsum("vj,vj->v", yu[:, :nin], const)
     z0 = np.einsum("vji,vj->vi", Q, x0 * C)
-    # bank with a trailing zero column (lanes that use a constant read 0 there and add it)
-    bzr = np.zeros((n, bank.shape[1] + 1))
-    bzr[:, :-1] = bank
     B = lambda arr, fill=0.0: _blocks(arr, nblk, fill)  # noqa: E731
+    comfort = 0 if cidx < 0 else (2 if (m and cidx == tnode) else 1)
     outs = _step_blocks_nb(
-        B(a), B(Gz[:, :, dyn]), B(bz), B(r), B(ru[:, dyn]), B(bT), B(gP), B(yc),
-        B(yu[:, dyn]), B(yuP), B(bC), B(z0), bzr, B(uc, bank.shape[1]), B(uk),
-        B(hs, bank.shape[1]), B(hk, np.nan), B(cs, bank.shape[1]), B(ck, np.nan),
-        B(Md, 1.0), B(qhv), B(qcv), int(m), int(warm),
-        int(cidx >= 0) + int(cidx >= 0 and m > 0 and cidx == tnode),
+        B(a), _per_column(Gz[:, :, :nin], ucol, cols_v, nblk), B(bz),
+        B(r), _per_column(ru[:, :nin], ucol, cols_v, nblk), B(bT), B(gP), B(yc),
+        _per_column(yu[:, :nin], ucol, cols_v, nblk), B(yuP), B(bC), B(z0),
+        np.ascontiguousarray(bank), cols, sp_dyn,
+        B(hcv.astype(np.int64), -1), B(hkv, np.nan), B(ccv.astype(np.int64), -1),
+        B(ckv, np.nan), B(Md, 1.0), B(qhv), B(qcv), int(m), int(warm), comfort,
         np.asarray(thr_h, dtype=float), np.asarray(thr_d, dtype=float))
-    (o_heat, o_cool, o_ph, o_pc, o_hrs, o_dgh, o_tst, o_zs, o_us, o_zf, o_zl) = outs
-    nrep = max(n - warm, 0)
+    (o_heat, o_cool, o_ph, o_pc, o_hrs, o_dgh, o_tst, o_zs, o_zf, o_zl) = outs
     if m:
         heat[:, 0] = _unblock(o_heat, V)
         cool[:, 0] = _unblock(o_cool, V)
@@ -197,29 +241,32 @@ def step_group(lam, Q, W, C, h, Rx, Ru, M, Yx, Yu, x0, bank, ucol, uconst, hcol,
     dgh[:] = _unblock(o_dgh, V)
     tstat[:] = _unblock(o_tst, V)
     xs_sum[:, 0] = np.einsum("vij,vj->vi", Q, _unblock(o_zs, V))
+    # Σu over the reported steps: constants × steps, column sums, thermostat power
+    colsum = bank[warm:].sum(axis=0)
     us = np.zeros((V, nu))
-    us[:, const] = uconst[:, const] * nrep
-    us[:, dyn] = _unblock(o_us, V)
+    us[:, :nin] = np.where(ucol >= 0, colsum[np.maximum(ucol, 0)], uconst * nrep)
     if m:
         us[:, nin] = heat[:, 0] - cool[:, 0]
     u_sum[:, 0] = us
     cnt[:, 0] = nrep
     x_first[:] = np.einsum("vij,vj->vi", Q, _unblock(o_zf, V))
     x_last[:] = np.einsum("vij,vj->vi", Q, _unblock(o_zl, V))
+    return True
 
 
-def _step_blocks(a, Gd, bz, r, rud, bT, gP, yc, yud, yuP, bC, z0, bank, uc, uk,
-                 hs_c, hs_k, cs_c, cs_k, M, qh, qc, m, warm, comfort,
+def _step_blocks(a, G, bz, r, RU, bT, gP, yc, YU, yuP, bC, z0, bank, cols, sp_dyn,
+                 hc, hk, cc, ck, M, qh, qc, m, warm, comfort,
                  thr_h, thr_d):  # pragma: no cover - compiled
-    """Blocks of lanes; every innermost loop runs over the lanes.
+    """Blocks of lanes; every innermost loop runs over the lanes of one block.
 
-    Shapes (b = block, L = lanes, nd = inputs read from the bank): a, bz, r, gP, yc, z0
-    (b, nc, L); Gd (b, nc, nd, L); rud, yud, uc, uk (b, nd, L); the rest (b, L).
+    Shapes (b = block, L = lanes, k = columns read per block): a, bz, r, gP, yc, z0
+    (b, nc, L); G (b, k, nc, L); RU, YU (b, k, L); cols (b, k); the rest (b, L).
+    ``comfort``: 0 none, 1 the node ``yc·z + yu·u``, 2 the thermostat's node.
     """
     nblk = a.shape[0]
     nc = a.shape[1]
-    nd = Gd.shape[2]
     L = a.shape[2]  # a run-time trip count lets LLVM vectorise (with alias checks)
+    ncol = cols.shape[1]
     n = bank.shape[0]
     nth = thr_h.shape[0]
     ndh = thr_d.shape[0]
@@ -231,67 +278,82 @@ def _step_blocks(a, Gd, bz, r, rud, bT, gP, yc, yud, yuP, bC, z0, bank, uc, uk,
     dgh = np.zeros((nblk, ndh, L))
     tstat = np.zeros((nblk, 3, L))
     zs_sum = np.zeros((nblk, nc, L))
-    u_sum = np.zeros((nblk, nd, L))
     z_first = np.zeros((nblk, nc, L))
     z_last = np.zeros((nblk, nc, L))
     for b in numba_prange(nblk):
         z = z0[b].copy()
         z1 = np.empty((nc, L))
-        u = np.empty((nd, L))
-        T = np.empty(L)
         T0 = np.empty(L)
+        T = np.empty(L)
         P = np.zeros(L)
+        s = np.empty(ncol)
+        Hs = hk[b].copy()
+        Cs = ck[b].copy()
         tmax = np.full(L, -np.inf)
         tmin = np.full(L, np.inf)
         tsum = np.zeros(L)
         for k in range(n):
-            # 1. inputs read from the bank
-            for j in range(nd):
+            rep = k >= warm
+            for c in range(ncol):
+                s[c] = bank[k, cols[b, c]]
+            if rep and k == warm:
+                for i in range(nc):
+                    for v in range(L):
+                        z_first[b, i, v] = z[i, v]
+            # 1. free response; the controlled node's free end temperature T0
+            if m > 0:
                 for v in range(L):
-                    u[j, v] = bank[k, uc[b, j, v]] + uk[b, j, v]
-            # 2. free response, diagonal in modal coordinates
+                    T0[v] = bT[b, v]
+                for c in range(ncol):
+                    sc = s[c]
+                    for v in range(L):
+                        T0[v] += RU[b, c, v] * sc
             for i in range(nc):
                 for v in range(L):
                     z1[i, v] = a[b, i, v] * z[i, v] + bz[b, i, v]
-                for j in range(nd):
+                for c in range(ncol):
+                    sc = s[c]
                     for v in range(L):
-                        z1[i, v] += Gd[b, i, j, v] * u[j, v]
-            # 3.-4. thermostat: free end temperature T, clamped superposition power P
-            if m > 0:
-                for v in range(L):
-                    T[v] = bT[b, v]
-                for j in range(nd):
-                    for v in range(L):
-                        T[v] += rud[b, j, v] * u[j, v]
-                for i in range(nc):
-                    for v in range(L):
-                        T[v] += r[b, i, v] * z1[i, v]
-                for v in range(L):
-                    hs = bank[k, hs_c[b, v]] + hs_k[b, v]
-                    cs = bank[k, cs_c[b, v]] + cs_k[b, v]
-                    t0 = T[v]
-                    T0[v] = t0
-                    p = 0.0
-                    if t0 < hs:
-                        p = min((hs - t0) / M[b, v], qh[b, v])
-                    elif t0 > cs:
-                        p = -min((t0 - cs) / M[b, v], qc[b, v])
-                    P[v] = p
-                for i in range(nc):
-                    for v in range(L):
-                        z1[i, v] += gP[b, i, v] * P[v]
-            # annual sums over the reported steps
-            if k >= warm:
-                if k == warm:
-                    for i in range(nc):
-                        for v in range(L):
-                            z_first[b, i, v] = z[i, v]
-                for i in range(nc):
+                        z1[i, v] += G[b, c, i, v] * sc
+                if rep:
                     for v in range(L):
                         zs_sum[b, i, v] += z[i, v]
-                for j in range(nd):
+                if m > 0:
                     for v in range(L):
-                        u_sum[b, j, v] += u[j, v]
+                        T0[v] += r[b, i, v] * z1[i, v]
+            # 2. thermostat power
+            if m > 0:
+                if sp_dyn:  # setpoint schedules: read per lane
+                    for v in range(L):
+                        Hs[v] = bank[k, hc[b, v]] if hc[b, v] >= 0 else hk[b, v]
+                        Cs[v] = bank[k, cc[b, v]] if cc[b, v] >= 0 else ck[b, v]
+                for v in range(L):
+                    t0 = T0[v]
+                    hs = Hs[v]
+                    cs = Cs[v]
+                    ph = min((hs - t0) / M[b, v], qh[b, v])
+                    pc = -min((t0 - cs) / M[b, v], qc[b, v])
+                    # NaN setpoints (none) compare false, as in kernels._control
+                    P[v] = ph if t0 < hs else (pc if t0 > cs else 0.0)
+            # 3. end state; the comfort node's end temperature T
+            if comfort == 1:
+                for v in range(L):
+                    T[v] = bC[b, v] + yuP[b, v] * P[v]
+                for c in range(ncol):
+                    sc = s[c]
+                    for v in range(L):
+                        T[v] += YU[b, c, v] * sc
+            for i in range(nc):
+                for v in range(L):
+                    z[i, v] = z1[i, v] + gP[b, i, v] * P[v]
+                if comfort == 1:
+                    for v in range(L):
+                        T[v] += yc[b, i, v] * z[i, v]
+            if comfort == 2:
+                for v in range(L):
+                    T[v] = T0[v] + M[b, v] * P[v]
+            # annual sums over the reported steps
+            if rep:
                 if m > 0:
                     for v in range(L):
                         p = P[v]
@@ -299,19 +361,7 @@ def _step_blocks(a, Gd, bz, r, rud, bT, gP, yc, yud, yuP, bC, z0, bank, uc, uk,
                         cool[b, v] += max(-p, 0.0)
                         peak_h[b, v] = max(peak_h[b, v], p)
                         peak_c[b, v] = max(peak_c[b, v], -p)
-                if comfort == 2:  # the thermostat's node: free response + response to P
-                    for v in range(L):
-                        T[v] = T0[v] + M[b, v] * P[v]
-                elif comfort == 1:
-                    for v in range(L):
-                        T[v] = bC[b, v] + yuP[b, v] * P[v]
-                    for j in range(nd):
-                        for v in range(L):
-                            T[v] += yud[b, j, v] * u[j, v]
-                    for i in range(nc):
-                        for v in range(L):
-                            T[v] += yc[b, i, v] * z1[i, v]
-                if comfort:
+                if comfort > 0:
                     for t in range(nth):
                         th = thr_h[t]
                         for v in range(L):
@@ -324,9 +374,6 @@ def _step_blocks(a, Gd, bz, r, rud, bT, gP, yc, yud, yuP, bC, z0, bank, uc, uk,
                         tmax[v] = max(tmax[v], T[v])
                         tmin[v] = min(tmin[v], T[v])
                         tsum[v] += T[v]
-            for i in range(nc):
-                for v in range(L):
-                    z[i, v] = z1[i, v]
         for i in range(nc):
             for v in range(L):
                 z_last[b, i, v] = z[i, v]
@@ -334,7 +381,7 @@ def _step_blocks(a, Gd, bz, r, rud, bT, gP, yc, yud, yuP, bC, z0, bank, uc, uk,
             tstat[b, 0, v] = tmax[v]
             tstat[b, 1, v] = tmin[v]
             tstat[b, 2, v] = tsum[v]
-    return heat, cool, peak_h, peak_c, hrs, dgh, tstat, zs_sum, u_sum, z_first, z_last
+    return heat, cool, peak_h, peak_c, hrs, dgh, tstat, zs_sum, z_first, z_last
 
 
 if kernels.HAVE_NUMBA:
