@@ -17,9 +17,10 @@ Two choices make the loop cheap:
   Temperatures the loop needs (the thermostat's node, the comfort node) are rows ``r·z``;
   the sums of ``x`` for the balance are mapped back with ``Q`` after the loop.
 * **Inputs as shared columns.** Inputs that are constant for a variant are folded into one
-  vector per variant; time series are columns of the bank shared by the variants that use
-  them (a weather column, one gains profile), read once per step as a scalar and multiplied
-  into every lane. No per-lane gathers.
+  vector per variant; a time series that every variant of a block reads for an input (a
+  weather column, one gains profile) is read once per step as a scalar and multiplied into
+  every lane. Only an input whose series differ between the lanes of a block (e.g. solar
+  gains scaled by each variant's aperture) is gathered lane by lane.
 
 One step of one lane is the algorithm of :mod:`thermonet.kernels`:
 
@@ -33,8 +34,7 @@ One step of one lane is the algorithm of :mod:`thermonet.kernels`:
 
 :func:`step_group` declines (returns False) a group it cannot step this way: a variant whose
 modal form fails the isothermal-defect check of :func:`thermonet.solvers.discretise_exact`
-(it was discretised by doubling), input columns that are not finite, or blocks that would
-read more than :data:`MAX_COLUMNS` distinct time series per step.
+(it was discretised by doubling), or input columns that are not finite.
 
 References
 ----------
@@ -53,11 +53,7 @@ from . import kernels
 #: Variants per block (the length of every innermost loop).
 LANES = 32
 
-#: Most distinct input time series one block may read per step; beyond it the group is left
-#: to the general kernel (each lane would otherwise multiply mostly zeros).
-MAX_COLUMNS = 8
-
-__all__ = ["LANES", "MAX_COLUMNS", "applicable", "modal_ok", "step_group"]
+__all__ = ["LANES", "applicable", "modal_ok", "step_group"]
 
 
 def applicable(n_states: int, n_switches: int, n_thermostats: int, n_capacitive: int,
@@ -175,24 +171,43 @@ def step_group(lam, Q, W, C, h, Rx, Ru, M, Yx, Yu, x0, bank, ucol, uconst, hcol,
     nrep = max(n - warm, 0)
     if not modal_ok(lam, Q, W, C, h, nb).all():
         return False
-    # ---- the bank columns each block reads (constant inputs are folded below)
+    # ---- which bank columns each block reads: per input, one column shared by the block's
+    # lanes (read once per step), or several (gathered lane by lane); constants folded below
     lane_block = np.arange(V) // LANES
-    per_block = [np.unique(ucol[lane_block == b][ucol[lane_block == b] >= 0])
-                 for b in range(nblk)]
-    ncol = max((len(c) for c in per_block), default=0)
-    if ncol > MAX_COLUMNS:
-        return False
-    used = np.unique(np.concatenate(per_block)) if ncol else np.zeros(0, dtype=np.int64)
+    used = np.unique(ucol[ucol >= 0])
     if used.size and not np.isfinite(bank[:, used]).all():
         return False
-    cols = np.zeros((nblk, max(ncol, 1)), dtype=np.int64)
-    cols[:, :] = used[0] if used.size else 0
-    for b, c in enumerate(per_block):
-        cols[b, :len(c)] = c                 # padding repeats a column with zero weights
-    valid = np.zeros_like(cols, dtype=bool)
-    for b, c in enumerate(per_block):
-        valid[b, :len(c)] = True
-    cols_v = np.where(valid, cols, -2)        # padding matches no lane's column
+    shared_in = np.zeros((V, nin), dtype=bool)        # lane v reads input j from a shared col
+    shared_cols, lane_ins = [], []
+    for b in range(nblk):
+        ub = ucol[lane_block == b]
+        sh, li = set(), []
+        for j in range(nin):
+            cj = np.unique(ub[:, j][ub[:, j] >= 0])
+            if len(cj) == 1:
+                sh.add(int(cj[0]))
+                shared_in[lane_block == b, j] = True
+            elif len(cj) > 1:
+                li.append(j)
+        shared_cols.append(sorted(sh))
+        lane_ins.append(li)
+    ncol = max(1, max(len(c) for c in shared_cols))
+    cols = np.zeros((nblk, ncol), dtype=np.int64)
+    cols_v = np.full((nblk, ncol), -2, dtype=np.int64)   # padding matches no lane
+    for b, c in enumerate(shared_cols):
+        cols[b, :len(c)] = c
+        cols_v[b, :len(c)] = c
+    ucol_sh = np.where(shared_in, ucol, -3)
+    nl = max(1, max(len(li) for li in lane_ins))
+    zero = bank.shape[1]                                 # index of an all-zero column
+    lane_j = np.full((V, nl), -1, dtype=np.int64)        # input gathered in lane slot l
+    for b, li in enumerate(lane_ins):
+        lane_j[lane_block == b, :len(li)] = li
+    has = lane_j >= 0
+    lj = np.maximum(lane_j, 0)
+    lcol_raw = np.take_along_axis(ucol, lj, axis=1)
+    lane_on = has & (lcol_raw >= 0)
+    lcols = np.where(lane_on, lcol_raw, zero).astype(np.int64)   # (V, nl)
     const = np.where(ucol >= 0, 0.0, uconst)  # (V, nin): constants, 0 where a column is read
     # ---- modal coefficients
     a = np.exp(-lam * h)                                  # (V, nc)
@@ -223,11 +238,20 @@ def step_group(lam, Q, W, C, h, Rx, Ru, M, Yx, Yu, x0, bank, ucol, uconst, hcol,
     z0 = np.einsum("vji,vj->vi", Q, x0 * C)
     B = lambda arr, fill=0.0: _blocks(arr, nblk, fill)  # noqa: E731
     comfort = 0 if cidx < 0 else (2 if (m and cidx == tnode) else 1)
+    def lane_coef(coef):   # (V, ..., nin) → (nblk, nl, ..., LANES), zero where unused
+        pick = np.take_along_axis(coef, lj.reshape((V,) + (1,) * (coef.ndim - 2) + (nl,)),
+                                  axis=-1)
+        pick = pick * lane_on.reshape((V,) + (1,) * (coef.ndim - 2) + (nl,))
+        return B(np.moveaxis(pick, -1, 1))
+
+    bankz = np.zeros((n, zero + 1))
+    bankz[:, :zero] = bank
     outs = _step_blocks_nb(
-        B(a), _per_column(Gz[:, :, :nin], ucol, cols_v, nblk), B(bz),
-        B(r), _per_column(ru[:, :nin], ucol, cols_v, nblk), B(bT), B(gP), B(yc),
-        _per_column(yu[:, :nin], ucol, cols_v, nblk), B(yuP), B(bC), B(z0),
-        np.ascontiguousarray(bank), cols, sp_dyn,
+        B(a), _per_column(Gz[:, :, :nin], ucol_sh, cols_v, nblk), B(bz),
+        B(r), _per_column(ru[:, :nin], ucol_sh, cols_v, nblk), B(bT), B(gP), B(yc),
+        _per_column(yu[:, :nin], ucol_sh, cols_v, nblk), B(yuP), B(bC), B(z0),
+        bankz, cols, B(lcols, zero), lane_coef(Gz[:, :, :nin]), lane_coef(ru[:, :nin]),
+        lane_coef(yu[:, :nin]), sp_dyn,
         B(hcv.astype(np.int64), -1), B(hkv, np.nan), B(ccv.astype(np.int64), -1),
         B(ckv, np.nan), B(Md, 1.0), B(qhv), B(qcv), int(m), int(warm), comfort,
         np.asarray(thr_h, dtype=float), np.asarray(thr_d, dtype=float))
@@ -254,19 +278,21 @@ def step_group(lam, Q, W, C, h, Rx, Ru, M, Yx, Yu, x0, bank, ucol, uconst, hcol,
     return True
 
 
-def _step_blocks(a, G, bz, r, RU, bT, gP, yc, YU, yuP, bC, z0, bank, cols, sp_dyn,
-                 hc, hk, cc, ck, M, qh, qc, m, warm, comfort,
+def _step_blocks(a, G, bz, r, RU, bT, gP, yc, YU, yuP, bC, z0, bank, cols, lcols, Gl, RUl,
+                 YUl, sp_dyn, hc, hk, cc, ck, M, qh, qc, m, warm, comfort,
                  thr_h, thr_d):  # pragma: no cover - compiled
     """Blocks of lanes; every innermost loop runs over the lanes of one block.
 
-    Shapes (b = block, L = lanes, k = columns read per block): a, bz, r, gP, yc, z0
-    (b, nc, L); G (b, k, nc, L); RU, YU (b, k, L); cols (b, k); the rest (b, L).
+    Shapes (b = block, L = lanes, k = shared columns per block, l = gathered inputs):
+    a, bz, r, gP, yc, z0 (b, nc, L); G (b, k, nc, L); RU, YU (b, k, L); cols (b, k);
+    lcols, RUl, YUl (b, l, L); Gl (b, l, nc, L); the rest (b, L).
     ``comfort``: 0 none, 1 the node ``yc·z + yu·u``, 2 the thermostat's node.
     """
     nblk = a.shape[0]
     nc = a.shape[1]
     L = a.shape[2]  # a run-time trip count lets LLVM vectorise (with alias checks)
     ncol = cols.shape[1]
+    nl = lcols.shape[1]
     n = bank.shape[0]
     nth = thr_h.shape[0]
     ndh = thr_d.shape[0]
@@ -287,6 +313,7 @@ def _step_blocks(a, G, bz, r, RU, bT, gP, yc, YU, yuP, bC, z0, bank, cols, sp_dy
         T = np.empty(L)
         P = np.zeros(L)
         s = np.empty(ncol)
+        ul = np.empty((nl, L))
         Hs = hk[b].copy()
         Cs = ck[b].copy()
         tmax = np.full(L, -np.inf)
@@ -296,6 +323,9 @@ def _step_blocks(a, G, bz, r, RU, bT, gP, yc, YU, yuP, bC, z0, bank, cols, sp_dy
             rep = k >= warm
             for c in range(ncol):
                 s[c] = bank[k, cols[b, c]]
+            for j in range(nl):
+                for v in range(L):
+                    ul[j, v] = bank[k, lcols[b, j, v]]
             if rep and k == warm:
                 for i in range(nc):
                     for v in range(L):
@@ -308,6 +338,9 @@ def _step_blocks(a, G, bz, r, RU, bT, gP, yc, YU, yuP, bC, z0, bank, cols, sp_dy
                     sc = s[c]
                     for v in range(L):
                         T0[v] += RU[b, c, v] * sc
+                for j in range(nl):
+                    for v in range(L):
+                        T0[v] += RUl[b, j, v] * ul[j, v]
             for i in range(nc):
                 for v in range(L):
                     z1[i, v] = a[b, i, v] * z[i, v] + bz[b, i, v]
@@ -315,6 +348,9 @@ def _step_blocks(a, G, bz, r, RU, bT, gP, yc, YU, yuP, bC, z0, bank, cols, sp_dy
                     sc = s[c]
                     for v in range(L):
                         z1[i, v] += G[b, c, i, v] * sc
+                for j in range(nl):
+                    for v in range(L):
+                        z1[i, v] += Gl[b, j, i, v] * ul[j, v]
                 if rep:
                     for v in range(L):
                         zs_sum[b, i, v] += z[i, v]
@@ -343,6 +379,9 @@ def _step_blocks(a, G, bz, r, RU, bT, gP, yc, YU, yuP, bC, z0, bank, cols, sp_dy
                     sc = s[c]
                     for v in range(L):
                         T[v] += YU[b, c, v] * sc
+                for j in range(nl):
+                    for v in range(L):
+                        T[v] += YUl[b, j, v] * ul[j, v]
             for i in range(nc):
                 for v in range(L):
                     z[i, v] = z1[i, v] + gP[b, i, v] * P[v]

@@ -35,9 +35,17 @@ class ModelFileError(ThermonetError, ValueError):
     """A model file cannot be read: unknown key, wrong type, missing reference or version."""
 
 
+class StudyError(ThermonetError, ValueError):
+    """A design study cannot run: bad parameter table, failed variants, wrong output folder."""
+
+
 class ThermonetWarning(UserWarning):
     """Base class of warnings issued by thermonet."""
 
 
 class AccuracyWarning(ThermonetWarning):
     """A result may be less accurate than requested."""
+
+
+class StudyWarning(ThermonetWarning):
+    """Some variants of a design study failed; the others finished."""
