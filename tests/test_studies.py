@@ -423,7 +423,8 @@ def test_sobol_indices_of_the_ishigami_function():
     b x₃⁴ sin x₁, x_i ~ U(−π, π). Its variance decomposition, integrated by hand:
     V₁ = ½(1 + bπ⁴/5)², V₂ = a²/8, V₃ = 0, V₁₃ = b²π⁸(1/18 − 1/50), V₁₂ = V₂₃ = V₁₂₃ = 0,
     V = a²/8 + bπ⁴/5 + b²π⁸/18 + ½. So S_i = V_i/V, S_T1 = (V₁ + V₁₃)/V, S_T2 = V₂/V,
-    S_T3 = V₁₃/V (≈ 0.3139, 0.4424, 0; 0.5576, 0.4424, 0.2437 for a = 7, b = 0.1).
+    S_T3 = V₁₃/V, S₁₃ = V₁₃/V (≈ 0.3139, 0.4424, 0; 0.5576, 0.4424, 0.2437; 0.2437 for
+    a = 7, b = 0.1).
     """
     a, b = 7.0, 0.1
     V1 = 0.5 * (1 + b * math.pi**4 / 5) ** 2
@@ -434,15 +435,19 @@ def test_sobol_indices_of_the_ishigami_function():
     exact_S1 = {"x1": V1 / V, "x2": V2 / V, "x3": 0.0}
     exact_ST = {"x1": (V1 + V13) / V, "x2": V2 / V, "x3": V13 / V}
     bounds = {k: (-math.pi, math.pi) for k in ("x1", "x2", "x3")}
-    res = studies.sobol(_ishigami, bounds, outputs="y", n=2**13, seed=7)
+    res = studies.sobol(_ishigami, bounds, outputs="y", n=2**13, seed=7, second_order=True)
     ind = res.indices.set_index("parameter")
-    assert len(res.variants) == 2**13 * 5
+    assert len(res.variants) == 2**13 * 8          # N·(2k + 2) with second-order indices
     # Monte-Carlo error of N = 8192 Saltelli samples is ~0.01; 0.03 is about 3 of them
     for k in bounds:
         assert abs(ind.at[k, "S1"] - exact_S1[k]) < 0.03, (k, ind.at[k, "S1"], exact_S1[k])
         assert abs(ind.at[k, "ST"] - exact_ST[k]) < 0.03, (k, ind.at[k, "ST"], exact_ST[k])
         assert ind.at[k, "S1_conf"] < 0.05 and ind.at[k, "ST_conf"] < 0.05
     assert list(ind.index) == ["x1", "x2", "x3"]                  # sorted by ST
+    # second order: only x1·x3 interact, S13 = V13/V; the S2 estimator is noisier (~0.03)
+    s2 = res.second_order.set_index(["parameter_1", "parameter_2"])["S2"]
+    assert abs(s2[("x1", "x3")] - V13 / V) < 0.06
+    assert abs(s2[("x1", "x2")]) < 0.06 and abs(s2[("x2", "x3")]) < 0.06
 
 
 def test_sobol_on_a_network_where_one_parameter_dominates():
