@@ -458,7 +458,14 @@ class _PartStore:
         self.seq += 1
         name = f"part-{time.time_ns():020d}-{os.getpid()}-{self.seq:05d}.parquet"
         tmp = self.dir / (name + ".tmp")
-        table.to_parquet(tmp, index=True)
+        try:
+            table.to_parquet(tmp, index=True)
+        except (TypeError, ValueError, ImportError) as exc:   # pyarrow's errors derive from them
+            tmp.unlink(missing_ok=True)
+            raise StudyError(
+                f"out={str(self.dir)!r}: the results could not be written as Parquet ({exc}); "
+                "give each parameter column one type (all numbers, or all strings) and "
+                "string or integer row labels") from exc
         os.replace(tmp, self.dir / name)
 
 
