@@ -1094,33 +1094,38 @@ def run_batch(nets, weather: pd.DataFrame, *, step=None, warmup_days: float = 14
         except Exception as exc:  # noqa: BLE001 - reported per variant
             fail(pos, exc)
 
-    rows: list = [None] * N
+    parts: list = []      # (first finished position, positions, ok mask, results) per chunk
     for layout, positions, plist in groups.values():
         cap = bytes_per_variant(layout, n + warm, keep_traces,
                                 max((p.own_columns for p in plist), default=0))
         size = int(max(1, min(MAX_CHUNK, max_bytes // cap)))
         for a in range(0, len(plist), size):
             res, errs, trs = _run_group(layout, plist[a:a + size], store, warm, opts)
-            for i, pos in enumerate(positions[a:a + size]):
-                if errs[i] is not None:
-                    fail(pos, errs[i])
-                    continue
-                rows[pos] = {k: float(vals[i]) for k, vals in res.items()}
-                traces[pos] = trs[i]
+            pos = np.asarray(positions[a:a + size], dtype=np.int64)
+            ok = np.array([e is None for e in errs], dtype=bool)
+            for i in np.flatnonzero(~ok):
+                fail(int(pos[i]), errs[i])
+            for i in np.flatnonzero(ok):
+                traces[pos[i]] = trs[i]
+            if ok.any():
+                parts.append((int(pos[ok].min()), pos[ok], ok, res))
+    # columns in the order a scan of the finished variants by position meets them
     columns: list = []
-    for r in rows:
-        if r is not None:
-            for k in r:
-                if k not in columns:
-                    columns.append(k)
+    seen: set = set()
+    for _, _, _, res in sorted(parts, key=lambda t: t[0]):
+        for k in res:
+            if k not in seen:
+                seen.add(k)
+                columns.append(k)
     data = {k: np.full(N, np.nan) for k in columns}
-    for pos, r in enumerate(rows):
-        if r is None:
-            continue
-        for k in columns:
-            if k in r:
-                data[k][pos] = r[k]
-            elif k.startswith("balance") or k.startswith("link:"):
-                data[k][pos] = 0.0   # no link of this path crosses this variant's volume
+    finished = np.zeros(N, dtype=bool)
+    for _, pos, ok, res in parts:
+        finished[pos] = True
+        for k, vals in res.items():
+            data[k][pos] = np.asarray(vals, dtype=float)[ok]
+    for k in columns:
+        if k.startswith("balance") or k.startswith("link:"):
+            # no link of this path crosses this variant's control volume
+            data[k][finished & np.isnan(data[k])] = 0.0
     table = pd.DataFrame(data, index=pd.RangeIndex(N), columns=columns)
     return BatchOutput(table=table, errors=errors, traces=traces)
