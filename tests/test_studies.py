@@ -161,6 +161,60 @@ def test_batched_results_equal_one_by_one_for_every_variant(comfort, monkeypatch
     pd.testing.assert_frame_equal(table[params.columns], params)
 
 
+def test_groups_the_simd_kernel_declines_run_on_the_general_kernel(monkeypatch):
+    """A variant whose modal form fails the isothermal-defect check (stiff networks) makes
+    the SIMD kernel decline its group; the general kernel then gives the same table."""
+    params = variant_table(6)
+    ref = studies.run_variants(room, params, WEATHER, comfort_node="room", **OPTS)
+    calls = []
+
+    def stiff(lam, Q, W, C, h, nb):
+        calls.append(len(lam))
+        return np.zeros(len(lam), dtype=bool)
+
+    monkeypatch.setattr(batch_simd, "modal_ok", stiff)
+    t = studies.run_variants(room, params, WEATHER, comfort_node="room", **OPTS)
+    assert calls == [6]
+    cols = [c for c in t.columns if c not in params.columns and c != "error"]
+    for c in cols:
+        for label in params.index:
+            assert rel_close(t.at[label, c], ref.at[label, c]), (label, c)
+
+
+def _stiff(power=50.0):
+    """tests/test_hardening.py's STIFF network (λ_max/λ_min ≈ 1e13): its modal form fails the
+    isothermal-defect check and the engine steps it with doubling matrices."""
+    net = tn.Network()
+    net.add_boundary("b0", temperature="temp_air")
+    for name, c in (("n0", 1e6), ("n1", 1e-3), ("n2", 1e4)):
+        net.add_node(name, capacitance=c)
+    net.add_link("b0", "n0", conductance=0.01, path="p")
+    net.add_link("n0", "n1", conductance=1e5, path="p")
+    net.add_link("n1", "n2", conductance=100.0, path="p")
+    net.add_source("n2", power=power, path="internal")
+    return net
+
+
+def test_a_stiff_group_is_declined_by_the_simd_kernel_and_still_exact(monkeypatch):
+    calls = []
+    real = batch_simd.step_group
+
+    def spy(*a, **k):
+        calls.append(real(*a, **k))
+        return calls[-1]
+
+    monkeypatch.setattr(batch_simd, "step_group", spy)
+    params = pd.DataFrame({"power": [20.0, 50.0, 80.0]})
+    t = studies.run_variants(_stiff, params, WEATHER, comfort_node="n2",
+                             balance_nodes=["n0", "n1", "n2"], warmup_days=WARMUP)
+    assert calls == [False]
+    for i, p in enumerate(params["power"]):
+        res = tn.simulate(_stiff(p), WEATHER, warmup_days=WARMUP)
+        assert rel_close(t.at[i, "mean_temperature_c"], res.temperatures["n2"].mean())
+        for k, v in res.balance(["n0", "n1", "n2"]).sum().items():
+            assert rel_close(t.at[i, f"balance:{k}"], v), k
+
+
 def test_balance_of_several_volumes_and_link_energies():
     params = variant_table(5)
     table = studies.run_variants(room, params, WEATHER, warmup_days=WARMUP,
