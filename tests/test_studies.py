@@ -11,7 +11,6 @@ effects of a linear function, and parameters used to generate synthetic measurem
 from __future__ import annotations
 
 import math
-import warnings
 from concurrent.futures import ThreadPoolExecutor
 
 import numpy as np
@@ -406,15 +405,12 @@ def test_dask_local_cluster_gives_the_same_table():
 
     cloudpickle.register_pickle_by_value(sys.modules[__name__])
     try:
-        with warnings.catch_warnings():
-            # dask may note that it picked a free port for the scheduler/dashboard; harmless
-            warnings.filterwarnings("ignore", message=".*[Pp]ort.*", category=UserWarning)
-            with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
-                                          dashboard_address=None) as cluster, \
-                    distributed.Client(cluster) as client:
-                with pytest.warns(StudyWarning, match="row 'v04'"):
-                    t = studies.run_variants(room, params, WEATHER, executor=client,
-                                             chunk_size=4, **OPTS)
+        with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
+                                      dashboard_address=None) as cluster, \
+                distributed.Client(cluster) as client:
+            with pytest.warns(StudyWarning, match="row 'v04'"):
+                t = studies.run_variants(room, params, WEATHER, executor=client, chunk_size=4,
+                                         **OPTS)
     finally:
         cloudpickle.unregister_pickle_by_value(sys.modules[__name__])
     pd.testing.assert_frame_equal(t, ref)
