@@ -10,12 +10,13 @@ vector instructions, the blocks in parallel (``numba.prange``).
 
 Two choices make the loop cheap:
 
-* **Modal coordinates.** With ``C⁻¹K = Q Λ Q⁻¹`` (``Qᵀ C Q = I``) and ``z = Qᵀ C x``, the
-  exact zero-order-hold step is diagonal, ``z⁺ = e^{−λh} ⊙ z + hφ₁(λh) ⊙ (W u)`` with
-  φ₁(x) = (1 − e^{−x})/x — the discretisation of :func:`thermonet.solvers.discretise_exact`
-  (``Φ = Q e^{−Λh} Qᵀ C``, ``Γ = Q hφ₁(Λh) W``) at O(nc·nu) instead of O(nc²) per step.
-  Temperatures the loop needs (the thermostat's node, the comfort node) are rows ``r·z``;
-  the sums of ``x`` for the balance are mapped back with ``Q`` after the loop.
+* **Modal coordinates.** With ``C⁻¹K = Q Λ Q⁻¹`` (``Qᵀ C Q = I``, rates λ [1/s]) and
+  ``z = Qᵀ C x``, the exact zero-order-hold step of length h [s] is diagonal,
+  ``z⁺ = e^{−λh} ⊙ z + hφ₁(λh) ⊙ (W u)`` with φ₁(x) = (1 − e^{−x})/x — the
+  discretisation of :func:`thermonet.solvers.discretise_exact` (``Φ = Q e^{−Λh} Qᵀ C``,
+  ``Γ = Q hφ₁(Λh) W``) at O(nc·nu) instead of O(nc²) operations per step. Temperatures
+  the loop needs (the thermostat's node, the comfort node) are rows ``r·z``; the sums of
+  ``x`` for the balance are mapped back with ``Q`` after the loop.
 * **Inputs as shared columns.** Inputs that are constant for a variant are folded into one
   vector per variant; a time series that every variant of a block reads for an input (a
   weather column, one gains profile) is read once per step as a scalar and multiplied into
@@ -25,9 +26,10 @@ Two choices make the loop cheap:
 One step of one lane is the algorithm of :mod:`thermonet.kernels`:
 
 1. free response ``z⁺`` from the start state and this step's inputs;
-2. thermostat by superposition, clamped to its capacity: with ``T₀`` the free end-of-step
-   temperature of the controlled node and ``M`` its response to 1 W,
-   ``P = min((T_h − T₀)/M, q_h)`` if ``T₀ < T_h``, ``P = −min((T₀ − T_c)/M, q_c)`` if
+2. thermostat by superposition, clamped to its capacity: with ``T₀`` [°C] the free
+   end-of-step temperature of the controlled node, ``M`` [K/W] its response to 1 W held over
+   the step, setpoints ``T_h``, ``T_c`` [°C] and capacities ``q_h``, ``q_c`` [W], the power
+   is ``P = min((T_h − T₀)/M, q_h)`` [W] if ``T₀ < T_h``, ``P = −min((T₀ − T_c)/M, q_c)`` if
    ``T₀ > T_c``, else 0 (exact for one thermostat);
 3. ``z ← z⁺ + g_P P``; annual sums over the reported steps (energies, peaks, comfort-node
    hours and degree-hours above thresholds, ``Σ z_start``), as :func:`run_batch` documents.
