@@ -1481,7 +1481,9 @@ def rc_chain(
             caps[-1] += half
             caps.append(half)
             conds.append(m.conductivity / h)
-            pos.append(x + (j + 1) * h)
+            # the last cell ends exactly at the layer's far face (x + d, not x + n·(d/n),
+            # which may round past the next layer's start)
+            pos.append(x + layer.thickness if j == n - 1 else x + (j + 1) * h)
             labels.append(f"{layer.name} {j + 1}/{n}")
         x += layer.thickness
     if pending_r > 0.0 or len(caps) == 1:
