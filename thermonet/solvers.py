@@ -11,7 +11,7 @@ Method registry (``simulate(..., method=...)``):
     (:func:`zoh_doubling`), which keeps every entry's relative accuracy.
 ``"sparse"``
     For large networks: the same exact-in-principle step ``x⁺ = x_eq + e^{−hC⁻¹K}(x − x_eq)``
-    with the matrix exponential applied by a rational (contour-quadrature) approximation, one
+    with the matrix exponential applied by a rational (Carathéodory–Fejér) approximation, one
     sparse LU per pole; the approximation error is bounded and reported.
 ``"auto"``
     ``"exact"`` up to 3000 capacitive nodes, ``"sparse"`` beyond.
