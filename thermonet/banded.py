@@ -97,50 +97,60 @@ def solve_band_many(Lb, d, R):
 
 
 @numba.njit(cache=True, parallel=True)
-def expm_steps_band(Lbs, ds, weights, r_inf, c, Lb_real, d_real, XE, T0, h):
-    """March ``T⁺ = x_e + r(−hC⁻¹L)(T − x_e)`` over all rows of ``XE`` (steps × n).
+def march_free_band(Lbs, ds, weights, r_inf, c, Lb_real, d_real, E_ptr, E_idx, E_val, U,
+                    T0, perm, h):
+    """March ``T⁺ = x_e + r(−hC⁻¹L)(T − x_e)`` over all rows of the inputs ``U``.
 
-    The free-running loop of the sparse method in one compiled call: per step the ``n/2``
-    pole solves run in parallel, and the step mean follows from the integrated equation
-    ``L T̄ = E u − C (T⁺ − T)/h = L x_e − C (T⁺ − T)/h``. All vectors are in the banded
-    (permuted) order. Returns the end-of-step and the step-mean temperatures (steps × n).
+    The free-running loop of the sparse method in one compiled call. Per step: the
+    equilibrium ``L x_e = E u`` (a real banded solve), the ``n/2`` complex pole solves in
+    parallel, and the step mean from the integrated equation
+    ``L T̄ = E u − C (T⁺ − T)/h = L x_e − C (T⁺ − T)/h``. ``L``, ``C`` (``c``), ``E`` (CSR
+    rows ``E_ptr, E_idx, E_val``) and ``T0`` are in the banded (permuted) order; the outputs
+    are written in the network's order (``perm[i]`` is node i of the banded order).
+
+    Returns
+    -------
+    Tall : ndarray (steps + 1, n)
+        Start temperature then the end-of-step temperatures [°C].
+    Tmean : ndarray (steps, n)
+        Step-mean temperatures [°C].
     """
-    nsteps, n = XE.shape
+    nsteps = U.shape[0]
+    n = T0.shape[0]
     P = Lbs.shape[0]
-    Tend = np.empty((nsteps, n))
+    Tall = np.empty((nsteps + 1, n))
     Tmean = np.empty((nsteps, n))
     T = T0.copy()
+    for i in range(n):
+        Tall[0, perm[i]] = T[i]
     parts = np.zeros((P, n))
     rc = np.empty(n, dtype=np.complex128)
+    b = np.empty(n)
     dT = np.empty(n)
     for k in range(nsteps):
         for i in range(n):
-            rc[i] = c[i] * (T[i] - XE[k, i])
+            acc = 0.0
+            for q in range(E_ptr[i], E_ptr[i + 1]):
+                acc += E_val[q] * U[k, E_idx[q]]
+            b[i] = acc
+        xe = solve_band(Lb_real, d_real, b)
+        for i in range(n):
+            rc[i] = c[i] * (T[i] - xe[i])
         for p in numba.prange(P):
             y = solve_band(Lbs[p], ds[p], rc)
             for i in range(n):
                 parts[p, i] = 2.0 * (weights[p] * y[i]).real
         for i in range(n):
-            acc = XE[k, i] + r_inf * (T[i] - XE[k, i])
+            acc = xe[i] + r_inf * (T[i] - xe[i])
             for p in range(P):
                 acc += parts[p, i]
             dT[i] = c[i] * (acc - T[i]) / h
             T[i] = acc
-            Tend[k, i] = acc
+            Tall[k + 1, perm[i]] = acc
         corr = solve_band(Lb_real, d_real, dT)
         for i in range(n):
-            Tmean[k, i] = XE[k, i] - corr[i]
-    return Tend, Tmean
-
-
-@numba.njit(cache=True, parallel=True)
-def take_columns(A, idx):
-    """``A[:, idx]`` for a C-ordered 2-D array, rows in parallel (a fast gather)."""
-    out = np.empty((A.shape[0], idx.shape[0]))
-    for r in numba.prange(A.shape[0]):
-        for j in range(idx.shape[0]):
-            out[r, j] = A[r, idx[j]]
-    return out
+            Tmean[k, perm[i]] = xe[i] - corr[i]
+    return Tall, Tmean
 
 
 def to_band(A, bandwidth):

@@ -46,11 +46,10 @@ from scipy.sparse.csgraph import reverse_cuthill_mckee
 from . import kernels
 from .banded import (
     expm_apply_band,
-    expm_steps_band,
     ldl_band,
+    march_free_band,
     solve_band,
     solve_band_many,
-    take_columns,
     to_band,
 )
 from .compile import Compiled, input_matrix
@@ -234,22 +233,17 @@ class SparseState:
 def _free_run_banded(st: SparseState, U: np.ndarray, T0: np.ndarray, h: float):
     """Free-running single-state march in one compiled call (banded factors).
 
-    Returns end-of-step, start-of-step and step-mean temperatures of the free nodes
-    (steps × nf), in the network's node order.
+    Returns ``Tall`` (steps + 1, nf): the start state then the end-of-step temperatures,
+    and ``Tmean`` (steps, nf): step means, both in the network's node order. End and start
+    states are the views ``Tall[1:]`` and ``Tall[:-1]`` (no copy).
     """
     perm = st.perm
-    inv = np.empty_like(perm)
-    inv[perm] = np.arange(len(perm))
-    B = take_columns(np.ascontiguousarray((st.E @ U.T).T), perm)   # E u per step, permuted
-    XE = solve_band_many(st.Lb_real, st.d_real, B)              # equilibria, (steps, nf)
-    Tend_p, Tmean_p = expm_steps_band(st.Lbs, st.ds, st.weights, st.r_inf,
-                                      np.ascontiguousarray(st.c_full[perm]), st.Lb_real,
-                                      st.d_real, XE, np.ascontiguousarray(T0[perm]), h)
-    Tend = take_columns(Tend_p, inv)
-    Tstart = np.empty_like(Tend)
-    Tstart[0] = T0
-    Tstart[1:] = Tend[:-1]
-    return Tend, Tstart, take_columns(Tmean_p, inv)
+    Ep = st.E.tocsr()[perm]
+    return march_free_band(st.Lbs, st.ds, st.weights, st.r_inf,
+                           np.ascontiguousarray(st.c_full[perm]), st.Lb_real, st.d_real,
+                           Ep.indptr.astype(np.int64), Ep.indices.astype(np.int64),
+                           Ep.data.astype(float), np.ascontiguousarray(U, dtype=float),
+                           np.ascontiguousarray(T0[perm]), perm.astype(np.int64), h)
 
 
 def run_sparse(comp: Compiled, warmup_steps: int, tol: float = 1e-7):
@@ -305,21 +299,21 @@ def run_sparse(comp: Compiled, warmup_steps: int, tol: float = 1e-7):
     for i, name in enumerate(comp.free[:comp.nc]):
         if name in comp.initial:
             T[i] = comp.initial[name]
+    if nsw == 0 and m == 0 and len(states) == 1 and st0.banded:
+        Tall, Tmean = _free_run_banded(st0, U, T, comp.step_s)
+        w = warmup_steps
+        nc = comp.nc
+        traj = Trajectory(Tall[w + 1:, :nc], Tall[w:-1, :nc], U[w:],
+                          np.zeros(n - w, dtype=np.int64), discrete={})
+        traj.free_end = Tall[w + 1:]
+        traj.free_mean = Tmean[w:]
+        return traj, {"rational_degree": degree, "exp_error_bound": bound,
+                      "factor_seconds": t_factor}
     Tend = np.zeros((n, nf))
     Tstart = np.zeros((n, nf))
     Ue = np.zeros((n, comp.nu))
     S = np.zeros(n, dtype=np.int64)
     P = np.zeros(m)
-    if nsw == 0 and m == 0 and len(states) == 1 and st0.banded:
-        Tend, Tstart, Tmean = _free_run_banded(st0, U, T, comp.step_s)
-        Ue = U.copy()
-        w = warmup_steps
-        nc = comp.nc
-        traj = Trajectory(Tend[w:, :nc], Tstart[w:, :nc], Ue[w:], S[w:], discrete={})
-        traj.free_end = Tend[w:]
-        traj.free_mean = Tmean[w:]
-        return traj, {"rational_degree": degree, "exp_error_bound": bound,
-                      "factor_seconds": t_factor}
     for k in range(n):
         if nsw:
             bits = 0
