@@ -117,44 +117,41 @@ def structure_key(net) -> tuple:
     )
 
 
-def _signal_refs(net) -> list:
-    """Signal columns in the order :func:`compile_network` creates them."""
-    seen, out = set(), []
+def _condition_terms(net):
+    """Every term of every switch condition, in the order :func:`compile_network` reads them."""
     for s in net.switches.values():
         for cond in (s.on, s.off):
             if cond is None:
                 continue
             for clause in cond.clauses:
-                for t in clause:
-                    for r in (t.a, t.b):
-                        if r is None:
-                            continue
-                        if isinstance(r, str):
-                            if r not in net.boundaries:
-                                continue
-                            key = ("boundary", r)
-                        elif isinstance(r, Signal):
-                            key = ("signal", id(r))
-                        elif isinstance(r, HourWindow):
-                            key = ("hours", r.start, r.end)
-                        else:  # pragma: no cover - compile_network refuses it first
-                            raise TypeError(r)
-                        if key not in seen:
-                            seen.add(key)
-                            out.append(key)
+                yield from clause
+
+
+def _signal_refs(net) -> list:
+    """Signal columns in the order :func:`compile_network` creates them."""
+    seen, out = set(), []
+    for t in _condition_terms(net):
+        for r in (t.a, t.b):
+            if r is None:
+                continue
+            if isinstance(r, str):
+                if r not in net.boundaries:
+                    continue
+                key = ("boundary", r)
+            elif isinstance(r, Signal):
+                key = ("signal", id(r))
+            elif isinstance(r, HourWindow):
+                key = ("hours", r.start, r.end)
+            else:  # pragma: no cover - compile_network refuses it first
+                raise TypeError(r)
+            if key not in seen:
+                seen.add(key)
+                out.append(key)
     return out
 
 
 def _thresholds(net) -> np.ndarray:
-    out = []
-    for s in net.switches.values():
-        for cond in (s.on, s.off):
-            if cond is None:
-                continue
-            for clause in cond.clauses:
-                for t in clause:
-                    out.append(t.threshold)
-    return np.array(out, dtype=float)
+    return np.array([t.threshold for t in _condition_terms(net)], dtype=float)
 
 
 # ============================================================================ column bank
