@@ -31,9 +31,9 @@ sys.path.insert(0, str(Path(__file__).parent))
 import networks  # noqa: E402
 
 import thermonet as tn  # noqa: E402
-from thermonet.compile import compile_network, input_matrix, laplacian_blocks  # noqa: E402
-from thermonet.solvers import control_maps, discretise_exact, initial_state  # noqa: E402
-from thermonet.sparse import laplacian_sparse  # noqa: E402
+from thermonet.engine.compile import compile_network, input_matrix, laplacian_blocks  # noqa: E402
+from thermonet.engine.simulate import control_maps, discretise_exact, initial_state  # noqa: E402
+from thermonet.engine.sparse import laplacian_sparse  # noqa: E402
 
 
 def median_time(fn, runs):

@@ -21,7 +21,8 @@ import pandas as pd
 import pytest
 
 import thermonet as tn
-from thermonet import cli_batch, io
+from thermonet.io import models as io
+from thermonet.cli import run as cli_batch
 from thermonet.errors import SolverError
 
 SAMPLE = Path(__file__).resolve().parents[1] / "weather_samples" / "fernhollow_sample.csv"
@@ -287,12 +288,12 @@ def test_exit_code_invalid_weather(model, short_weather, tmp_path, capsys, what,
 
 
 def test_exit_code_simulation_failure(model, short_weather, tmp_path, capsys, monkeypatch):
-    import thermonet.solvers
+    import thermonet.engine.simulate
 
     def broken(*args, **kwargs):
         raise SolverError("accuracy target not met (simulated failure)")
 
-    monkeypatch.setattr(thermonet.solvers, "simulate", broken)
+    monkeypatch.setattr(thermonet.engine.simulate, "simulate", broken)
     code, err = _code(["run", str(model), "--weather", str(short_weather), "--out",
                        str(tmp_path / "o"), "-q"], capsys)
     assert code == 5 and "SolverError" in err and "simulated failure" in err
@@ -465,7 +466,7 @@ def test_progress_lines_while_the_solver_runs(model, short_weather, tmp_path, ca
     # has been printed (no timing is asserted), then solves for real.
     import threading
 
-    import thermonet.solvers
+    import thermonet.engine.simulate
 
     seen = threading.Event()
     original = cli_batch._Progress.__call__
@@ -475,14 +476,14 @@ def test_progress_lines_while_the_solver_runs(model, short_weather, tmp_path, ca
         if msg.startswith("still simulating"):
             seen.set()
 
-    real = thermonet.solvers.simulate
+    real = thermonet.engine.simulate.simulate
 
     def waits_for_progress(*args, **kwargs):
         assert seen.wait(60), "no progress line while simulating"
         return real(*args, **kwargs)
 
     monkeypatch.setattr(cli_batch._Progress, "__call__", spy)
-    monkeypatch.setattr(thermonet.solvers, "simulate", waits_for_progress)
+    monkeypatch.setattr(thermonet.engine.simulate, "simulate", waits_for_progress)
     code = main(["run", str(model), "--weather", str(short_weather), "--out",
                  str(tmp_path / "o"), "--progress-every", "0.01", "--format", "csv"])
     assert code == 0

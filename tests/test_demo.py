@@ -20,6 +20,7 @@ import pytest
 
 import thermonet as tn
 from thermonet import cli
+from thermonet.constants import CAUTION
 from thermonet.errors import NetworkError, WeatherError
 from thermonet.scenarios import report
 from thermonet.scenarios import sunny_room as sr
@@ -85,7 +86,7 @@ def _check_report_folder(folder, *, n_options=6):
 
     html = (folder / "index.html").read_text(encoding="utf-8")
     flat = re.sub(r"\s+", " ", html)
-    assert cli.CAUTION in flat
+    assert CAUTION in flat
     assert "not a substitute for code-compliance calculations" in flat
     assert "INVENTED" in flat
     assert "licensed professionals" in flat

@@ -174,7 +174,7 @@ def test_exact_stepper_matches_van_loan_matrix_exponential():
     net = stiff_network()
     w = hourly_weather(10, temp_air=np.linspace(-5, 5, 10))
     res = tn.simulate(net, w, warmup_days=0)
-    from thermonet.compile import compile_network, reduce_state
+    from thermonet.engine.compile import compile_network, reduce_state
 
     comp = compile_network(net, w)
     red = reduce_state(comp, comp.G_states[0])

@@ -111,7 +111,7 @@ def test_sparse_rational_error_bound():
     # BIT 46, 653–670): its uniform error falls geometrically, about 9.28^−n (the CF
     # singular value; a least-squares fit of the residues is within a small factor of it).
     # Checked here on points the fit never saw.
-    from thermonet.sparse import DEGREES, rational_exp
+    from thermonet.engine.sparse import DEGREES, rational_exp
 
     s = -np.concatenate([np.logspace(-9, 9, 3001), np.linspace(0.0, 60.0, 1237)])
     for n in DEGREES:
@@ -225,7 +225,7 @@ def test_doubling_matches_van_loan_expm(seed):
     # is mildly stiff so that expm itself is accurate. Φ, Γ, Φ̄ = (1/h)∫Φ, Γ̄ = (1/h)∫∫Φ B.
     from scipy.linalg import expm
 
-    from thermonet.solvers import zoh_doubling
+    from thermonet.engine.simulate import zoh_doubling
 
     K, E, C = _stiff_chain_matrices(seed, n=5)
     K *= 1e-3                         # keep ‖hA‖ moderate for the reference
@@ -254,7 +254,7 @@ def test_doubling_agrees_with_modal_form_and_keeps_uniform_temperature(seed):
     # Two independent constructions of the same exact step must agree; and with all
     # boundaries at one temperature nothing changes: rows of [Φ, Γ_b] sum to 1 (the
     # isothermal invariant the doubling enforces by construction, GTH 1985).
-    from thermonet.solvers import Discrete, modal_form, zoh_doubling
+    from thermonet.engine.simulate import Discrete, modal_form, zoh_doubling
 
     K, E, C = _stiff_chain_matrices(seed)
     h = 900.0
@@ -271,7 +271,7 @@ def test_doubling_agrees_with_modal_form_and_keeps_uniform_temperature(seed):
 def test_phi2_large_arguments():
     # (x − 1 + e^{−x})/x² has no cancellation for x ≥ 1, so the direct formula is a
     # reference there; for huge x it tends to 1/x (and x² would overflow beyond 1e154)
-    from thermonet.solvers import phi2
+    from thermonet.engine.simulate import phi2
 
     x = np.array([1.0001, 1.5, 3.0, 10.0, 1e3, 1e6, 1e12])
     assert np.allclose(phi2(x), (x - 1 + np.exp(-x)) / x**2, rtol=1e-14, atol=0)

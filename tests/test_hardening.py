@@ -29,8 +29,8 @@ from hypothesis import strategies as st
 from scipy.integrate import solve_ivp
 
 import thermonet as tn
-from thermonet import io
-from thermonet.cli_batch import read_weather_csv
+from thermonet.io import models as io
+from thermonet.cli.run import read_weather_csv
 from thermonet.errors import (
     ModelFileError,
     NetworkError,

@@ -21,7 +21,7 @@ import pandas as pd
 import pytest
 
 import thermonet as tn
-from thermonet import io
+from thermonet.io import models as io
 from thermonet.errors import ModelFileError, NetworkError
 
 TZ = "Etc/GMT-1"
@@ -520,7 +520,8 @@ def every_builder_network(w: pd.DataFrame):
     ISO 13790 zones (plain and from a room description)."""
     from thermonet import builders as b
     from thermonet import gains as g
-    from thermonet import solar, templates
+    from thermonet import solar
+    from thermonet.builders import templates
     from thermonet.constructions import Construction
 
     wall = Construction("wall", [("gypsum_plaster_1300", 0.015), ("concrete_2000", 0.2),
@@ -587,7 +588,7 @@ def every_builder_network(w: pd.DataFrame):
 
 def test_round_trip_of_every_builders_output_gives_identical_results(tmp_path):
     from thermonet.builders import rooms
-    from thermonet.templates import iso13790_zones
+    from thermonet.builders.templates import iso13790_zones
 
     w = builder_weather()
     net = every_builder_network(w)

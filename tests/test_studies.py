@@ -18,7 +18,8 @@ import pandas as pd
 import pytest
 
 import thermonet as tn
-from thermonet import batch_simd, studies
+from thermonet import studies
+from thermonet.engine import batch_simd
 from thermonet.errors import NetworkError, StudyError, StudyWarning
 
 TZ = "Etc/GMT-1"

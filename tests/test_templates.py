@@ -15,9 +15,9 @@ import pytest
 import thermonet as tn
 from thermonet import solar
 from thermonet.builders import Element, Window, add_infiltration, add_room
+from thermonet.builders.templates import add_iso13790_zone, iso13790_from_room, iso13790_parameters
 from thermonet.constructions import Construction
 from thermonet.errors import NetworkError, WeatherError
-from thermonet.templates import add_iso13790_zone, iso13790_from_room, iso13790_parameters
 
 TZ = "Etc/GMT-1"
 SITE = {"latitude": 48.14, "longitude": 11.58, "elevation": 520.0}
@@ -204,7 +204,7 @@ def test_errors():
 
 
 def test_zone_records_are_kept_and_checked():
-    from thermonet.templates import iso13790_zones
+    from thermonet.builders.templates import iso13790_zones
 
     net = tn.Network()
     z = _zone(net, internal_gains=100.0)

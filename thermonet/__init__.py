@@ -1,11 +1,46 @@
-"""thermonet: hourly lumped-RC thermal networks of buildings, balanced by heat path."""
+"""thermonet: hourly lumped-RC thermal networks of buildings, balanced by heat path.
 
-from .controls import Condition, Signal, above, below, colder, hours, warmer, when
-from .network import Network, radiation_conductance
-from .results import Results
-from .solvers import simulate
+``import thermonet as tn`` gives the public contract (:class:`Network`, :func:`simulate`,
+:class:`Results`, the switch conditions) and every public submodule: the physics modules
+(``tn.weather``, ``tn.solar``, ``tn.constructions``, ``tn.gains``, ``tn.comfort``), the model
+(``tn.network``, ``tn.schedules``, ``tn.controls``), the engine (``tn.engine``), and what is
+composed on top (``tn.results``, ``tn.builders``, ``tn.studies``, ``tn.plots``, ``tn.io``).
+"""
 
 __version__ = "0.1.0"
+
+from thermonet.controls import (  # noqa: E402
+    Condition,
+    Signal,
+    above,
+    below,
+    colder,
+    hours,
+    warmer,
+    when,
+)
+from thermonet.engine.simulate import simulate  # noqa: E402
+from thermonet.network import Network, radiation_conductance  # noqa: E402
+from thermonet.results import Results  # noqa: E402
+
+#: Public submodules, imported on first attribute access (``tn.builders``) so that
+#: ``import thermonet`` stays quick; ``import thermonet.builders`` works as usual.
+SUBMODULES = ("builders", "comfort", "constants", "constructions", "controls", "engine",
+              "errors", "gains", "io", "network", "plots", "results", "schedules", "solar",
+              "studies", "weather")
+
+
+def __getattr__(name):
+    if name in SUBMODULES:
+        import importlib
+
+        return importlib.import_module(f"thermonet.{name}")
+    raise AttributeError(f"module 'thermonet' has no attribute {name!r}; public submodules: "
+                         f"{', '.join(SUBMODULES)}")
+
+
+def __dir__():
+    return sorted(set(globals()) | set(SUBMODULES))
 
 __all__ = [
     "Condition",
@@ -14,10 +49,26 @@ __all__ = [
     "Signal",
     "above",
     "below",
+    "builders",
     "colder",
+    "comfort",
+    "constants",
+    "constructions",
+    "controls",
+    "engine",
+    "errors",
+    "gains",
     "hours",
+    "io",
+    "network",
+    "plots",
     "radiation_conductance",
+    "results",
+    "schedules",
     "simulate",
+    "solar",
+    "studies",
     "warmer",
+    "weather",
     "when",
 ]

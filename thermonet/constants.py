@@ -18,3 +18,8 @@ SECONDS_PER_HOUR = 3600.0
 
 #: Joules per kilowatt-hour [J/kWh].
 J_PER_KWH = 3.6e6
+
+#: The caution every command, report and the README carry: results inform decisions about
+#: health (overheating) and heating plant.
+CAUTION = ("Results are estimates for design guidance, not a substitute for code-compliance "
+           "calculations; defer to local codes and licensed professionals.")

@@ -30,8 +30,8 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from .errors import NetworkError, ScheduleError
-from .schedules import check_index
+from thermonet.errors import NetworkError, ScheduleError
+from thermonet.schedules import check_index
 
 __all__ = [
     "CONSTANT",

@@ -18,9 +18,9 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from .constants import RHO_CP_AIR, STEFAN_BOLTZMANN, ZERO_CELSIUS
-from .controls import Condition
-from .errors import NetworkError
+from thermonet.constants import RHO_CP_AIR, STEFAN_BOLTZMANN, ZERO_CELSIUS
+from thermonet.controls import Condition
+from thermonet.errors import NetworkError
 
 NODE_KINDS = ("air", "surface", "mass", "ground", "buffer")
 BOUNDARY_KINDS = ("air", "sky", "ground", "surface")

@@ -67,8 +67,8 @@ import numpy as np
 import pandas as pd
 from matplotlib.colors import Normalize
 
-from . import comfort
-from .errors import ScheduleError
+from thermonet import comfort
+from thermonet.errors import ScheduleError
 
 __all__ = [
     "FALLBACK_COLORS",

@@ -18,8 +18,8 @@ from functools import cached_property
 import numpy as np
 import pandas as pd
 
-from .constants import J_PER_KWH
-from .errors import NetworkError
+from thermonet.constants import J_PER_KWH
+from thermonet.errors import NetworkError
 
 
 class Results:

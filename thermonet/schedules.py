@@ -9,7 +9,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from .errors import ScheduleError
+from thermonet.errors import ScheduleError
 
 
 def check_index(index: pd.DatetimeIndex, what: str = "weather") -> pd.Timedelta:

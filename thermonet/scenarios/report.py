@@ -23,7 +23,8 @@ import numpy as np
 import pandas as pd
 
 from thermonet import __version__, comfort, plots
-from thermonet.cli import CAUTION
+from thermonet.constants import CAUTION
+from thermonet.scenarios.fernhollow import BUILDING, INVENTED_NOTE
 
 __all__ = ["CSV_FILES", "FIGURES", "INVENTED_NOTE", "REPORT_FILES", "check_folder",
            "path_change_sentences", "write_report"]
@@ -68,10 +69,6 @@ FIGURES: dict[str, str] = {
 #: Every file of the report folder.
 REPORT_FILES: tuple[str, ...] = (*CSV_FILES, *FIGURES, "index.html")
 
-#: The statement about invented data carried by the report.
-INVENTED_NOTE = ("The site (the town of Fernhollow), its weather year and the building are "
-                 "INVENTED for this demo; the cost and hassle ranks are invented too. Use the "
-                 "report to learn the workflow, not to judge any real building.")
 
 _DPI = 100
 
@@ -474,8 +471,6 @@ windows; "storage" is heat released by the room's fabric (− = stored).</p>
 
 
 def _building() -> str:
-    from .sunny_room import BUILDING
-
     return BUILDING
 
 

@@ -111,9 +111,9 @@ from thermonet.constants import J_PER_KWH
 from thermonet.constructions import Construction
 from thermonet.errors import NetworkError, WeatherError
 from thermonet.network import Network
+from thermonet.scenarios.fernhollow import BUILDING
+from thermonet.scenarios.sample_weather import load_sample_weather
 from thermonet.solar import MovableShading
-
-from .sample_weather import load_sample_weather
 
 __all__ = [
     "ADDED_MASS_LINING",
@@ -140,9 +140,6 @@ __all__ = [
     "run_study",
 ]
 
-#: The invented building, for titles and reports.
-BUILDING = ("living room of the top-floor flat, No. 9 Millrace Terrace, Fernhollow "
-            "(invented building in an invented town)")
 
 #: Months of the summer balance (June, July, August).
 SUMMER_MONTHS = (6, 7, 8)
@@ -910,7 +907,7 @@ def run_demo(out: str | Path = "thermonet-report", progress: bool = True,
     --------
     thermonet.scenarios.report.write_report : the files written.
     """
-    from .report import check_folder, write_report
+    from thermonet.scenarios.report import check_folder, write_report
 
     say = _reporter(progress)
     check_folder(out)  # fail before the simulations, not after

@@ -36,9 +36,9 @@ from functools import cached_property
 
 import numpy as np
 
-from . import kernels
-from .compile import Compiled, compile_network, reduce_state
-from .errors import NetworkError
+from thermonet.engine import kernels
+from thermonet.engine.compile import Compiled, compile_network, reduce_state
+from thermonet.errors import NetworkError
 
 AUTO_DENSE_LIMIT = 3000
 MODAL_VECTOR_MIN = 150  # capacitive nodes above which free-running runs use modal products
@@ -355,7 +355,7 @@ def steady_start(K, E, Rx, Ru, u0, pcols, hsp0, csp0, qh, qc):
         T0 = Rx @ x + Ru @ u
         Mss = Rx @ Xp + Ru[:, pcols]
         P = np.zeros(m)
-        kernels._control(T0, Mss, hsp0, csp0, qh, qc, P)
+        kernels.control_powers(T0, Mss, hsp0, csp0, qh, qc, P)
         x = x + Xp @ P
     return x
 
@@ -481,7 +481,7 @@ def run_relinearised(net, comp: Compiled, w: int, kernel: str, freq: str):
 
     import pandas as pd
 
-    from .network import radiation_conductance
+    from thermonet.network import radiation_conductance
 
     rad = [i for i, l in enumerate(net.links.values()) if l.kind == "radiation"]
     links = list(net.links.values())
@@ -527,7 +527,7 @@ def run_relinearised(net, comp: Compiled, w: int, kernel: str, freq: str):
         if not (w and j == 0):
             parts.append(tr)
         x, sw = tr.X[-1], tr.final_switch_state
-        from .results import Results
+        from thermonet.results import Results
 
         t_end = Results(net, sub, tr, {}).temperatures.iloc[-1]
         temps = t_end.to_dict()
@@ -595,7 +595,7 @@ def simulate(net, weather, *, step=None, method: str = "auto", warmup_days: floa
     -------
     Results
     """
-    from .results import Results
+    from thermonet.results import Results
 
     if method not in METHODS:
         raise ValueError(f"method must be one of {METHODS}, got {method!r}")
@@ -620,7 +620,7 @@ def simulate(net, weather, *, step=None, method: str = "auto", warmup_days: floa
     elif method == "exact":
         traj = run_exact(comp, w, kernel)
     else:
-        from .sparse import run_sparse
+        from thermonet.engine.sparse import run_sparse
 
         traj, extra = run_sparse(comp, w, tol=1e-6 if sparse_tol is None else sparse_tol)
         info.update(extra)

@@ -9,10 +9,8 @@ from __future__ import annotations
 import argparse
 import sys
 
-from . import __version__
-
-CAUTION = ("Results are estimates for design guidance, not a substitute for code-compliance "
-           "calculations; defer to local codes and licensed professionals.")
+from thermonet import __version__
+from thermonet.constants import CAUTION
 
 
 def _demo_hours(text: str) -> int:
@@ -29,7 +27,7 @@ def _demo_hours(text: str) -> int:
 
 
 def _demo(args) -> int:
-    from .scenarios.sunny_room import run_demo
+    from thermonet.scenarios.sunny_room import run_demo
 
     try:
         run_demo(args.out, progress=not args.quiet, hours=args.hours)
@@ -65,7 +63,7 @@ def build_parser() -> argparse.ArgumentParser:
                         "left out)")
     d.set_defaults(func=_demo)
     try:
-        from .cli_batch import add_batch_commands
+        from thermonet.cli.run import add_batch_commands
     except ImportError:  # pragma: no cover
         pass
     else:

@@ -67,10 +67,16 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from . import comfort
-from .errors import ModelFileError, NetworkError, ScheduleError, ThermonetError, WeatherError
-from .io import read_model
-from .provenance import PROVENANCE_FILE, provenance_record, write_provenance
+from thermonet import comfort
+from thermonet.errors import (
+    ModelFileError,
+    NetworkError,
+    ScheduleError,
+    ThermonetError,
+    WeatherError,
+)
+from thermonet.io.models import read_model
+from thermonet.io.provenance import PROVENANCE_FILE, provenance_record, write_provenance
 
 __all__ = [
     "EXIT_OK",
@@ -320,7 +326,7 @@ def read_weather_csv(path, *, latitude=None, longitude=None, elevation=None, tz=
         Unparsable time stamps or numbers, or any check of
         :func:`thermonet.weather.validate`.
     """
-    from .weather import CLOSURE_LIMITS, from_dataframe
+    from thermonet.weather import CLOSURE_LIMITS, from_dataframe
 
     path = Path(path)
     site = _sidecar(path)
@@ -408,7 +414,7 @@ def add_derived_columns(weather: pd.DataFrame, columns) -> tuple[pd.DataFrame, l
     add_ground_temperature` at depth d [m] (Kusuda & Achenbach 1965, annual cycle fitted to
     ``temp_air``, default soil diffusivity).
     """
-    from .weather import add_ground_temperature, add_sky_temperature
+    from thermonet.weather import add_ground_temperature, add_sky_temperature
 
     out, added = weather, []
     for col in columns:
@@ -464,7 +470,7 @@ def _model_from_args(args):
 # ============================================================================= check
 def _series_index(net):
     """Index of the first Series in the model (its own time axis), or None."""
-    from .controls import Signal
+    from thermonet.controls import Signal
 
     cands = [b.temperature for b in net.boundaries.values()]
     for l in net.links.values():
@@ -492,7 +498,7 @@ def _probe_weather(net, columns) -> pd.DataFrame:
 
 
 def _compile(net, weather, step=None):
-    from .compile import compile_network
+    from thermonet.engine.compile import compile_network
 
     return compile_network(net, weather, step=step)
 
@@ -539,8 +545,8 @@ def model_summary(net, weather: pd.DataFrame | None = None, *, max_eigen_nodes: 
     """
     from scipy.linalg import eigh
 
-    from .compile import reduce_state
-    from .io import required_weather_columns
+    from thermonet.engine.compile import reduce_state
+    from thermonet.io.models import required_weather_columns
 
     def mean(v):
         return float(np.mean(np.asarray(v, dtype=float)))
@@ -757,7 +763,7 @@ def _command_line(args) -> list[str]:
 
 def run_command(args) -> int:
     """Handler of ``thermonet run``: simulate a model file, write the results folder."""
-    from .solvers import simulate
+    from thermonet.engine.simulate import simulate
 
     say = _Progress("run", getattr(args, "quiet", False),
                     getattr(args, "progress_every", PROGRESS_EVERY))

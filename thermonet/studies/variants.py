@@ -13,7 +13,7 @@ takes one row's values as keyword arguments and returns a :class:`thermonet.Netw
                          balance_nodes=["room", "slab"])
 
 Variants whose networks share one structure are stepped together along a variant axis
-(:func:`thermonet.batch.run_batch`), so a thousand variants cost little more than a few.
+(:func:`thermonet.engine.batch.run_batch`), so a thousand variants cost little more than a few.
 Long studies are split into chunks (bounded memory, a progress bar, results written as each
 chunk finishes when ``out=`` is given, and resumed after an interruption).
 
@@ -116,8 +116,8 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from .batch import DEFAULT_MAX_BYTES, run_batch
-from .errors import StudyError, StudyWarning
+from thermonet.engine.batch import DEFAULT_MAX_BYTES, run_batch
+from thermonet.errors import StudyError, StudyWarning
 
 __all__ = [
     "run_variants",
@@ -202,7 +202,7 @@ def _gc_paused():
 
 def _build_chunk(build, params: pd.DataFrame) -> dict:
     """Call ``build`` for every row of a chunk; networks, direct results and build errors."""
-    from .network import Network
+    from thermonet.network import Network
 
     n = len(params)
     errs: list = [None] * n
@@ -565,7 +565,7 @@ def run_variants(build, params: pd.DataFrame, weather: pd.DataFrame | None = Non
     balance_nodes : str, list or dict, optional
         Control volume(s) whose annual balance by path [kWh] is reported
         (``balance:<path>``, ``balance:heating``, ``balance:storage``, ... — the column sums
-        of ``Results.balance(nodes)``; see :func:`thermonet.batch.run_batch`).
+        of ``Results.balance(nodes)``; see :func:`thermonet.engine.batch.run_batch`).
     link_energy : bool, default False
         Also report ``link:<name>`` annual link energies [kWh].
     warmup_days : float, default 14
@@ -1200,7 +1200,7 @@ def calibrate(build, parameters: Mapping, weather: pd.DataFrame, measured: pd.Da
         As for :func:`thermonet.simulate`.
     diff_step : float, default 1e-6
         Relative step of the forward-difference Jacobian; the variants of one Jacobian are
-        simulated together (:func:`thermonet.batch.run_batch`).
+        simulated together (:func:`thermonet.engine.batch.run_batch`).
     max_nfev, loss, **least_squares_kwargs
         Passed to :func:`scipy.optimize.least_squares` (method "trf", bounds respected).
 
@@ -1229,7 +1229,7 @@ def calibrate(build, parameters: Mapping, weather: pd.DataFrame, measured: pd.Da
     """
     from scipy.optimize import least_squares
 
-    from .compile import sim_index
+    from thermonet.engine.compile import sim_index
 
     _check_build(build)
     if not isinstance(weather, pd.DataFrame):

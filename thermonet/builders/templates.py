@@ -32,11 +32,11 @@ from dataclasses import asdict, dataclass, field
 
 import pandas as pd
 
-from . import builders as _b
-from . import solar as _solar
-from .constructions import dynamic_characteristics, surface_resistances
-from .errors import NetworkError, WeatherError
-from .network import Network
+from thermonet import solar as _solar
+from thermonet.builders import room as _b
+from thermonet.constructions import dynamic_characteristics, surface_resistances
+from thermonet.errors import NetworkError, WeatherError
+from thermonet.network import Network
 
 __all__ = [
     "H_IS",
@@ -132,9 +132,9 @@ def iso13790_parameters(floor_area, h_tr_op, h_tr_w, *, mass_class="medium", a_m
     ISO 13790:2008, Energy performance of buildings — Calculation of energy use for space
     heating and cooling, Annex C (simple hourly method), 12.2 and 12.3 (mass classes).
     """
-    af = _b._num(floor_area, "floor_area [m²]", low=0.0, low_open=True)
-    hop = _b._num(h_tr_op, "h_tr_op [W/K]", low=0.0)
-    hw = _b._num(h_tr_w, "h_tr_w [W/K]", low=0.0)
+    af = _b.check_num(floor_area, "floor_area [m²]", low=0.0, low_open=True)
+    hop = _b.check_num(h_tr_op, "h_tr_op [W/K]", low=0.0)
+    hw = _b.check_num(h_tr_w, "h_tr_w [W/K]", low=0.0)
     if (a_m is None) != (c_m is None):
         raise NetworkError("give both a_m [m²] and c_m [J/K], or neither (mass_class)")
     if a_m is None:
@@ -144,8 +144,8 @@ def iso13790_parameters(floor_area, h_tr_op, h_tr_w, *, mass_class="medium", a_m
         am_per, cm_per = MASS_CLASSES[mass_class]
         am, cm = am_per * af, cm_per * af
     else:
-        am = _b._num(a_m, "a_m [m²]", low=0.0, low_open=True)
-        cm = _b._num(c_m, "c_m [J/K]", low=0.0, low_open=True)
+        am = _b.check_num(a_m, "a_m [m²]", low=0.0, low_open=True)
+        cm = _b.check_num(c_m, "c_m [J/K]", low=0.0, low_open=True)
     at = LAMBDA_AT * af
     hms = H_MS * am
     if hop >= hms:
@@ -181,7 +181,7 @@ class Iso13790Zone:
 def _check_gain(value, what):
     if isinstance(value, pd.Series):
         return value.astype(float).rename(None)
-    return _b._num(value, what, low=-math.inf)
+    return _b.check_num(value, what, low=-math.inf)
 
 
 def add_iso13790_zone(net: Network, name: str, *, floor_area: float, h_tr_op: float,
@@ -220,8 +220,8 @@ def add_iso13790_zone(net: Network, name: str, *, floor_area: float, h_tr_op: fl
     q_int = _check_gain(internal_gains, "internal_gains [W]")
     q_sol = _check_gain(solar_gains, "solar_gains [W]")
     if volume is not None:
-        volume = _b._num(volume, "volume [m³]", low=0.0, low_open=True)
-    out = _b._boundary(net, outdoor, outdoor_temperature, "air", f"zone {name!r}")
+        volume = _b.check_num(volume, "volume [m³]", low=0.0, low_open=True)
+    out = _b.outdoor_boundary(net, outdoor, outdoor_temperature, "air", f"zone {name!r}")
     z = Iso13790Zone(name, name, f"{name}.star", f"{name}.mass", out, volume, p.floor_area, p)
     net.add_node(z.air, kind="air", capacitance=0.0, volume=volume)
     net.add_node(z.star, kind="surface", capacitance=0.0)
@@ -258,7 +258,7 @@ def _keep_zone(net: Network, z: Iso13790Zone) -> None:
     """Record ``z`` in ``net.meta`` (plain JSON, lists shared with the zone)."""
     rec = {k: getattr(z, k) for k in _ZONE_FIELDS}
     rec["parameters"] = asdict(z.parameters)
-    _b._meta_section(net, "iso13790_zones")[z.name] = rec
+    _b.meta_section(net, "iso13790_zones")[z.name] = rec
 
 
 def iso13790_zones(net: Network) -> dict[str, Iso13790Zone]:
@@ -358,8 +358,8 @@ def iso13790_from_room(net: Network, name: str, *, floor_area: float, height: fl
     for key in ("ground_temperature", "soil"):
         if ignored.get(key) is not None:
             raise NetworkError(f"the ISO 13790 template has no ground model; drop {key}=")
-    h = _b._num(height, "height [m]", low=0.0, low_open=True)
-    af = _b._num(floor_area, "floor_area [m²]", low=0.0, low_open=True)
+    h = _b.check_num(height, "height [m]", low=0.0, low_open=True)
+    af = _b.check_num(floor_area, "floor_area [m²]", low=0.0, low_open=True)
     h_op = h_w = 0.0
     kappa_a = kappa2_a = 0.0
     phi_sol = 0.0
@@ -376,14 +376,14 @@ def iso13790_from_room(net: Network, name: str, *, floor_area: float, height: fl
         if not (isinstance(elem.boundary, str) and elem.boundary == "outdoor"):
             raise NetworkError(f"{ew}: the ISO 13790 template helper supports elements to "
                                f"'outdoor' only, got {elem.boundary!r}")
-        tilt, az = _b._check_orientation(elem.tilt, elem.azimuth, ew)
-        area = _b._num(elem.area, f"{ew}: area [m²]", low=0.0, low_open=True)
-        cons = _b._resolve_construction(elem, constructions)
+        tilt, az = _b.check_orientation(elem.tilt, elem.azimuth, ew)
+        area = _b.check_num(elem.area, f"{ew}: area [m²]", low=0.0, low_open=True)
+        cons = _b.resolve_construction(elem, constructions)
         direction = _b.heat_flow_direction(tilt)
         sr = surface_resistances(direction)
         a_win = 0.0
         for win in elem.windows:
-            _b._check_window(win, elem.name)
+            _b.check_window(win, elem.name)
             a_win += float(win.area)
         if a_win > area * (1 + 1e-12):
             raise NetworkError(f"{ew}: its windows and doors ({a_win:g} m²) are larger than the "
@@ -400,7 +400,7 @@ def iso13790_from_room(net: Network, name: str, *, floor_area: float, height: fl
             (float(w.u_value), float(w.area), float(elem.emissivity)) for w in elem.windows]
         if weather is not None:
             if solpos is None:
-                solpos = _b._solpos(weather, latitude, longitude)
+                solpos = _b.site_solar_position(weather, latitude, longitude)
             irr = _solar.surface_irradiance(weather, tilt, az, model=sky_model,
                                             solpos=solpos)["total"]
             phi_sol = phi_sol + float(elem.solar_absorptance) * sr.rse * u * a_op * irr

@@ -43,8 +43,8 @@ import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 from scipy.sparse.csgraph import reverse_cuthill_mckee
 
-from . import kernels
-from .banded import (
+from thermonet.engine import kernels
+from thermonet.engine.banded import (
     expm_apply_band,
     ldl_band,
     march_free_band,
@@ -52,8 +52,8 @@ from .banded import (
     solve_band_many,
     to_band,
 )
-from .compile import Compiled, input_matrix
-from .errors import AccuracyWarning, NetworkError
+from thermonet.engine.compile import Compiled, input_matrix
+from thermonet.errors import AccuracyWarning, NetworkError
 
 #: Largest bandwidth (after reverse Cuthill–McKee) for the banded LDLᵀ path; beyond it SuperLU.
 MAX_BANDWIDTH = 64
@@ -248,7 +248,7 @@ def _free_run_banded(st: SparseState, U: np.ndarray, T0: np.ndarray, h: float):
 
 def run_sparse(comp: Compiled, warmup_steps: int, tol: float = 1e-7):
     """Step a large network with :class:`SparseState`; returns (Trajectory, info)."""
-    from .solvers import Trajectory
+    from thermonet.engine.simulate import Trajectory
 
     t0 = time.perf_counter()
     # The error bound holds for the eigenvalues; in node temperatures it is amplified by at
@@ -293,7 +293,7 @@ def run_sparse(comp: Compiled, warmup_steps: int, tol: float = 1e-7):
         # start warm: thermostats act in the steady state (as solvers.steady_start)
         Xp = np.column_stack([st0.equilibrium(st0.E[:, [c]].toarray().ravel()) for c in pcols])
         P0 = np.zeros(m)
-        kernels._control(T[comp.thermostat_node], Xp[comp.thermostat_node], hsp[0], csp[0],
+        kernels.control_powers(T[comp.thermostat_node], Xp[comp.thermostat_node], hsp[0], csp[0],
                          comp.qh, comp.qc, P0)
         T = T + Xp @ P0
     for i, name in enumerate(comp.free[:comp.nc]):
@@ -319,10 +319,10 @@ def run_sparse(comp: Compiled, warmup_steps: int, tol: float = 1e-7):
             bits = 0
             for q in range(nsw):
                 if on[q] and comp.has_off[q]:
-                    on[q] = not kernels._eval_cond(2 * q + 1, comp.terms, comp.term_clause,
+                    on[q] = not kernels.eval_condition(2 * q + 1, comp.terms, comp.term_clause,
                                                    comp.clause_cond, T, sig[k])
                 else:
-                    on[q] = kernels._eval_cond(2 * q, comp.terms, comp.term_clause,
+                    on[q] = kernels.eval_condition(2 * q, comp.terms, comp.term_clause,
                                                comp.clause_cond, T, sig[k])
                 bits += (1 << q) if on[q] else 0
         s = comp.state_id(int(sched[k]), bits)
@@ -338,7 +338,7 @@ def run_sparse(comp: Compiled, warmup_steps: int, tol: float = 1e-7):
             R = resp[s]
             T0 = T1[comp.thermostat_node]
             M = R[comp.thermostat_node]
-            kernels._control(T0, M, hsp[k], csp[k], comp.qh, comp.qc, P)
+            kernels.control_powers(T0, M, hsp[k], csp[k], comp.qh, comp.qc, P)
             T1 = T1 + R @ P
             u[pcols] = P
         Tstart[k] = T

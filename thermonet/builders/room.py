@@ -87,17 +87,17 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from . import solar as _solar
-from .constants import RHO_CP_AIR
-from .constructions import (
+from thermonet import solar as _solar
+from thermonet.constants import RHO_CP_AIR
+from thermonet.constructions import (
     INTERNAL_CONVECTIVE_COEFFICIENTS,
     Construction,
     rc_chain,
     surface_resistances,
 )
-from .controls import Condition, above, below, hours, warmer, when
-from .errors import ConstructionError, NetworkError, WeatherError
-from .network import Network
+from thermonet.controls import Condition, above, below, hours, warmer, when
+from thermonet.errors import ConstructionError, NetworkError, WeatherError
+from thermonet.network import Network
 
 __all__ = [
     "EXTERNAL_RADIATIVE_COEFFICIENT_BLACK",
@@ -148,7 +148,7 @@ SLAB_SOIL_DEPTH_FACTOR = 0.4
 
 
 # ------------------------------------------------------------------------------ validation
-def _num(value, what, *, low=None, high=None, low_open=False, high_open=False,
+def check_num(value, what, *, low=None, high=None, low_open=False, high_open=False,
          error=NetworkError) -> float:
     if isinstance(value, bool) or not isinstance(value, (int, float, np.integer, np.floating)):
         raise TypeError(f"{what} must be a number, got {type(value).__name__} {value!r}")
@@ -162,10 +162,10 @@ def _num(value, what, *, low=None, high=None, low_open=False, high_open=False,
     return v
 
 
-def _check_orientation(tilt, azimuth, what):
-    t = _num(tilt, f"{what}: tilt [°] (0 = facing up, 90 = vertical, 180 = facing down)",
+def check_orientation(tilt, azimuth, what):
+    t = check_num(tilt, f"{what}: tilt [°] (0 = facing up, 90 = vertical, 180 = facing down)",
              low=0.0, high=180.0)
-    a = _num(azimuth, f"{what}: azimuth [°] (0 … 360 clockwise from north, 180 = south)",
+    a = check_num(azimuth, f"{what}: azimuth [°] (0 … 360 clockwise from north, 180 = south)",
              low=0.0, high=360.0)
     return t, a
 
@@ -274,11 +274,11 @@ class Soil:
     first_cell: float = 0.5
 
     def __post_init__(self):
-        _num(self.conductivity, "soil conductivity [W/(mK)]", low=0.0, low_open=True)
-        _num(self.heat_capacity, "soil heat_capacity [J/(m³K)]", low=0.0)
-        _num(self.first_cell, "soil first_cell [m]", low=0.0, low_open=True)
+        check_num(self.conductivity, "soil conductivity [W/(mK)]", low=0.0, low_open=True)
+        check_num(self.heat_capacity, "soil heat_capacity [J/(m³K)]", low=0.0)
+        check_num(self.first_cell, "soil first_cell [m]", low=0.0, low_open=True)
         if self.depth is not None:
-            _num(self.depth, "soil depth [m]", low=0.0, low_open=True)
+            check_num(self.depth, "soil depth [m]", low=0.0, low_open=True)
 
 
 #: ISO 13370:2017 Table 7 soil categories (from memory): clay or silt λ = 1.5 W/(mK),
@@ -403,7 +403,7 @@ _ROOM_FIELDS = ("air", "star", "heated", "floor_area", "height", "volume", "outd
                 "u_values")
 
 
-def _meta_section(net: Network, section: str) -> dict:
+def meta_section(net: Network, section: str) -> dict:
     meta = getattr(net, "meta", None)
     if not isinstance(meta, dict):
         meta = {}
@@ -414,7 +414,7 @@ def _meta_section(net: Network, section: str) -> dict:
 def _keep_room(net: Network, rec: Room) -> None:
     """Record ``rec`` in ``net.meta`` sharing its lists and dicts, so later additions
     (airflows, gains) appear in the record too."""
-    _meta_section(net, "rooms")[rec.name] = {k: getattr(rec, k) for k in _ROOM_FIELDS}
+    meta_section(net, "rooms")[rec.name] = {k: getattr(rec, k) for k in _ROOM_FIELDS}
 
 
 def rooms(net: Network) -> dict[str, Room]:
@@ -473,7 +473,7 @@ def heat_flow_direction(tilt: float) -> str:
         ``"up"`` for tilt < 60°, ``"horizontal"`` for 60 … 120° (within ±30° of the
         horizontal plane, ISO 6946:2017 Table 7 note), ``"down"`` beyond 120°.
     """
-    t = _num(tilt, "tilt [°]", low=0.0, high=180.0)
+    t = check_num(tilt, "tilt [°]", low=0.0, high=180.0)
     return "up" if t < 60.0 else ("down" if t > 120.0 else "horizontal")
 
 
@@ -546,11 +546,11 @@ def iso13370_slab_u_value(area, exposed_perimeter, wall_thickness, floor_resista
     ISO 13370:2017, Thermal performance of buildings — Heat transfer via the ground —
     Calculation methods, 9.1 (slab-on-ground floor) — formulas from memory, not verified.
     """
-    a = _num(area, "area [m²]", low=0.0, low_open=True)
-    p = _num(exposed_perimeter, "exposed_perimeter [m]", low=0.0, low_open=True)
-    w = _num(wall_thickness, "wall_thickness [m]", low=0.0)
-    rf = _num(floor_resistance, "floor_resistance [m²K/W]", low=0.0)
-    lam = _num(soil_conductivity, "soil_conductivity [W/(mK)]", low=0.0, low_open=True)
+    a = check_num(area, "area [m²]", low=0.0, low_open=True)
+    p = check_num(exposed_perimeter, "exposed_perimeter [m]", low=0.0, low_open=True)
+    w = check_num(wall_thickness, "wall_thickness [m]", low=0.0)
+    rf = check_num(floor_resistance, "floor_resistance [m²K/W]", low=0.0)
+    lam = check_num(soil_conductivity, "soil_conductivity [W/(mK)]", low=0.0, low_open=True)
     b = a / (0.5 * p)
     dt = w + lam * (rsi + rf + rse)
     if dt < b:
@@ -595,11 +595,11 @@ def slab_soil_depth(area, exposed_perimeter, wall_thickness=0.3, soil_conductivi
     like a uniform column). The column is 1-D: it has no separate edge path, so the
     distribution of the loss over the floor and its annual lag are approximate.
     """
-    a = _num(area, "area [m²]", low=0.0, low_open=True)
-    p = _num(exposed_perimeter, "exposed_perimeter [m]", low=0.0, low_open=True)
-    w = _num(wall_thickness, "wall_thickness [m]", low=0.0)
-    lam = _num(soil_conductivity, "soil_conductivity [W/(mK)]", low=0.0, low_open=True)
-    return SLAB_SOIL_DEPTH_FACTOR * a / (0.5 * p) + w + lam * _num(rse, "rse [m²K/W]", low=0.0)
+    a = check_num(area, "area [m²]", low=0.0, low_open=True)
+    p = check_num(exposed_perimeter, "exposed_perimeter [m]", low=0.0, low_open=True)
+    w = check_num(wall_thickness, "wall_thickness [m]", low=0.0)
+    lam = check_num(soil_conductivity, "soil_conductivity [W/(mK)]", low=0.0, low_open=True)
+    return SLAB_SOIL_DEPTH_FACTOR * a / (0.5 * p) + w + lam * check_num(rse, "rse [m²K/W]", low=0.0)
 
 
 def iso13370_basement_wall_u_value(depth, wall_resistance, *, floor_equivalent_thickness=None,
@@ -642,13 +642,14 @@ def iso13370_basement_wall_u_value(depth, wall_resistance, *, floor_equivalent_t
     ISO 13370:2017, Thermal performance of buildings — Heat transfer via the ground —
     Calculation methods, heated basement, walls — formula from memory, not verified.
     """
-    z = _num(depth, "basement wall depth [m]", low=0.0, low_open=True)
-    lam = _num(soil_conductivity, "soil conductivity [W/(mK)]", low=0.0, low_open=True)
-    rw = _num(wall_resistance, "wall resistance [m²K/W]", low=0.0)
-    dw = lam * (_num(rsi, "rsi [m²K/W]", low=0.0) + rw + _num(rse, "rse [m²K/W]", low=0.0))
+    z = check_num(depth, "basement wall depth [m]", low=0.0, low_open=True)
+    lam = check_num(soil_conductivity, "soil conductivity [W/(mK)]", low=0.0, low_open=True)
+    rw = check_num(wall_resistance, "wall resistance [m²K/W]", low=0.0)
+    dw = lam * (check_num(rsi, "rsi [m²K/W]", low=0.0) + rw
+                + check_num(rse, "rse [m²K/W]", low=0.0))
     if dw <= 0.0:
         raise NetworkError("basement wall: R_si + R_w + R_se must be > 0 m²K/W")
-    dt = dw if floor_equivalent_thickness is None else _num(
+    dt = dw if floor_equivalent_thickness is None else check_num(
         floor_equivalent_thickness, "floor_equivalent_thickness [m]", low=0.0, low_open=True)
     dt = min(dt, dw)
     return 2.0 * lam / (math.pi * z) * (1.0 + 0.5 * dt / (dt + z)) * math.log(z / dw + 1.0)
@@ -684,7 +685,7 @@ def basement_wall_soil_depth(depth, wall_resistance, soil_conductivity=2.0, rsi=
     ground surface, so the distribution of the loss over the wall depth and its seasonal lag
     are approximate.
     """
-    lam = _num(soil_conductivity, "soil conductivity [W/(mK)]", low=0.0, low_open=True)
+    lam = check_num(soil_conductivity, "soil conductivity [W/(mK)]", low=0.0, low_open=True)
     u = iso13370_basement_wall_u_value(depth, wall_resistance,
                                        floor_equivalent_thickness=floor_equivalent_thickness,
                                        soil_conductivity=lam, rsi=rsi, rse=rse)
@@ -702,7 +703,7 @@ def _soil_cells(depth: float, first: float) -> list[float]:
 
 
 # ------------------------------------------------------------------------------ solar
-def _solpos(weather, latitude, longitude):
+def site_solar_position(weather, latitude, longitude):
     site = weather.attrs.get("site", {}) if isinstance(weather.attrs.get("site"), Mapping) else {}
     lat = latitude if latitude is not None else site.get("latitude")
     lon = longitude if longitude is not None else site.get("longitude")
@@ -750,9 +751,9 @@ def window_solar_gain(weather, window: Window, tilt: float, azimuth: float, *, s
     irradiance-controlled device switches on the total irradiance on the window after the
     external shading.
     """
-    tilt, azimuth = _check_orientation(tilt, azimuth, f"window {window.name!r}")
+    tilt, azimuth = check_orientation(tilt, azimuth, f"window {window.name!r}")
     if solpos is None:
-        solpos = _solpos(weather, latitude, longitude)
+        solpos = site_solar_position(weather, latitude, longitude)
     irr = _solar.surface_irradiance(weather, tilt, azimuth, model=sky_model, solpos=solpos)
     if window.overhang is not None or window.fins is not None:
         if abs(tilt - 90.0) > 1e-6:
@@ -821,17 +822,17 @@ def window_u_value(glazing_u, frame_u, frame_fraction, *, psi=0.0, glazing_perim
     EN ISO 10077-1:2017, Thermal performance of windows, doors and shutters — Calculation
     of thermal transmittance — Part 1: General (from memory).
     """
-    ug = _num(glazing_u, "glazing_u [W/(m²K)]", low=0.0, low_open=True)
-    uf = _num(frame_u, "frame_u [W/(m²K)]", low=0.0, low_open=True)
-    f = _num(frame_fraction, "frame_fraction [-]", low=0.0, high=1.0, high_open=True)
-    ps = _num(psi, "psi [W/(mK)]", low=0.0)
-    lg = _num(glazing_perimeter, "glazing_perimeter [m]", low=0.0)
+    ug = check_num(glazing_u, "glazing_u [W/(m²K)]", low=0.0, low_open=True)
+    uf = check_num(frame_u, "frame_u [W/(m²K)]", low=0.0, low_open=True)
+    f = check_num(frame_fraction, "frame_fraction [-]", low=0.0, high=1.0, high_open=True)
+    ps = check_num(psi, "psi [W/(mK)]", low=0.0)
+    lg = check_num(glazing_perimeter, "glazing_perimeter [m]", low=0.0)
     edge = ps * lg
     if edge > 0.0:
         if area is None:
             raise NetworkError("window_u_value: psi·glazing_perimeter > 0 needs area= [m²] of "
                                "the window (opening including the frame)")
-        edge /= _num(area, "area [m²]", low=0.0, low_open=True)
+        edge /= check_num(area, "area [m²]", low=0.0, low_open=True)
     return (1.0 - f) * ug + f * uf + edge
 
 
@@ -940,15 +941,15 @@ def add_window(net: Network, node: str, window: Window, *, tilt: float = 90.0,
         return n
 
     free_node(node, "node")
-    _check_window(window, None)
-    tilt, azimuth = _check_orientation(tilt, azimuth, what)
+    check_window(window, None)
+    tilt, azimuth = check_orientation(tilt, azimuth, what)
     shares = {node: 1.0} if receivers is None else dict(receivers)
     if not shares:
         raise NetworkError(f"{what}: receivers is empty; give node -> share, shares summing "
                            "to 1")
     for n, v in shares.items():
         free_node(n, "receiver")
-        shares[n] = _num(v, f"{what}: solar share of receiver {n!r} [-]", low=0.0, high=1.0)
+        shares[n] = check_num(v, f"{what}: solar share of receiver {n!r} [-]", low=0.0, high=1.0)
     total = math.fsum(shares.values())
     if abs(total - 1.0) > 1e-9:
         listed = ", ".join(f"{n}={v:g}" for n, v in shares.items())
@@ -957,7 +958,7 @@ def add_window(net: Network, node: str, window: Window, *, tilt: float = 90.0,
     dev = window.shading
     if dev is not None and dev.control == "temperature":
         free_node(dev.node, "shading control node")
-    out = _boundary(net, outdoor, outdoor_temperature, "air", what)
+    out = outdoor_boundary(net, outdoor, outdoor_temperature, "air", what)
     path = "opaque" if window.is_door else "glazing"
     rec = AddedWindow(window.name, net.add_link(
         out, node, conductance=float(window.u_value) * float(window.area), path=path,
@@ -967,7 +968,7 @@ def add_window(net: Network, node: str, window: Window, *, tilt: float = 90.0,
     if not isinstance(weather, pd.DataFrame):
         raise TypeError("weather must be a pandas DataFrame")
     if solpos is None:
-        solpos = _solpos(weather, latitude, longitude)
+        solpos = site_solar_position(weather, latitude, longitude)
     gain = window_solar_gain(weather, window, tilt, azimuth, solpos=solpos,
                              sky_model=sky_model).rename(None)
     rec.gain = gain
@@ -984,7 +985,7 @@ def add_window(net: Network, node: str, window: Window, *, tilt: float = 90.0,
 
 
 # ------------------------------------------------------------------------------ helpers
-def _boundary(net: Network, name: str, temperature, kind: str, what: str) -> str:
+def outdoor_boundary(net: Network, name: str, temperature, kind: str, what: str) -> str:
     """Reuse boundary ``name`` or create it with ``temperature``."""
     if name in net.boundaries:
         if net.boundaries[name].kind != kind:
@@ -1000,7 +1001,7 @@ def _boundary(net: Network, name: str, temperature, kind: str, what: str) -> str
     return name
 
 
-def _resolve_construction(elem: Element, constructions) -> Construction:
+def resolve_construction(elem: Element, constructions) -> Construction:
     c = elem.construction
     if isinstance(c, str):
         if constructions is None or c not in constructions:
@@ -1015,7 +1016,7 @@ def _resolve_construction(elem: Element, constructions) -> Construction:
     return c
 
 
-def _check_window(win, elem_name):
+def check_window(win, elem_name):
     """Validate a Window or Door; ``elem_name`` None for a window added on its own."""
     if not isinstance(win, Window):
         raise TypeError(f"element {elem_name!r}: windows must be Window or Door, got "
@@ -1023,13 +1024,13 @@ def _check_window(win, elem_name):
     what = f"{'door' if win.is_door else 'window'} {win.name!r}"
     if elem_name is not None:
         what += f" in element {elem_name!r}"
-    _num(win.area, f"{what}: area [m²]", low=0.0, low_open=True)
-    _num(win.u_value, f"{what}: u_value [W/(m²K)]", low=0.0, low_open=True)
-    _num(win.g_value, f"{what}: g_value [-]", low=0.0, high=1.0)
-    _num(win.frame_fraction, f"{what}: frame_fraction [-]", low=0.0, high=1.0, high_open=True)
+    check_num(win.area, f"{what}: area [m²]", low=0.0, low_open=True)
+    check_num(win.u_value, f"{what}: u_value [W/(m²K)]", low=0.0, low_open=True)
+    check_num(win.g_value, f"{what}: g_value [-]", low=0.0, high=1.0)
+    check_num(win.frame_fraction, f"{what}: frame_fraction [-]", low=0.0, high=1.0, high_open=True)
     for v, n in ((win.height, "height"), (win.width, "width")):
         if v is not None:
-            _num(v, f"{what}: {n} [m]", low=0.0, low_open=True)
+            check_num(v, f"{what}: {n} [m]", low=0.0, low_open=True)
 
 
 def _film_to_zone(net, rec: Room, node, other: Room, direction, area, path, base):
@@ -1130,9 +1131,9 @@ def add_room(net: Network, name: str, *, floor_area: float, height: float,
     if not isinstance(net, Network):
         raise TypeError(f"net must be a thermonet Network, got {type(net).__name__}")
     what = f"room {name!r}"
-    a_floor = _num(floor_area, f"{what}: floor_area [m²]", low=0.0, low_open=True)
-    h = _num(height, f"{what}: height [m]", low=0.0, low_open=True)
-    c_furn = _num(furniture_capacity, f"{what}: furniture_capacity [J/K]", low=0.0)
+    a_floor = check_num(floor_area, f"{what}: floor_area [m²]", low=0.0, low_open=True)
+    h = check_num(height, f"{what}: height [m]", low=0.0, low_open=True)
+    c_furn = check_num(furniture_capacity, f"{what}: furniture_capacity [J/K]", low=0.0)
     if isinstance(elements, Element) or not isinstance(elements, Sequence):
         raise TypeError(f"{what}: elements must be a list of Element, got "
                         f"{type(elements).__name__} (wrap a single element in a list)")
@@ -1164,18 +1165,18 @@ def add_room(net: Network, name: str, *, floor_area: float, height: float,
         if elem.name in seen:
             raise NetworkError(f"{what}: duplicate element or window name {elem.name!r}")
         seen.add(elem.name)
-        tilt, az = _check_orientation(elem.tilt, elem.azimuth, ew)
-        area = _num(elem.area, f"{ew}: area [m²]", low=0.0, low_open=True)
-        _num(elem.solar_absorptance, f"{ew}: solar_absorptance [-]", low=0.0, high=1.0)
-        _num(elem.emissivity, f"{ew}: emissivity [-]", low=0.0, high=1.0)
-        cons = _resolve_construction(elem, constructions)
+        tilt, az = check_orientation(elem.tilt, elem.azimuth, ew)
+        area = check_num(elem.area, f"{ew}: area [m²]", low=0.0, low_open=True)
+        check_num(elem.solar_absorptance, f"{ew}: solar_absorptance [-]", low=0.0, high=1.0)
+        check_num(elem.emissivity, f"{ew}: emissivity [-]", low=0.0, high=1.0)
+        cons = resolve_construction(elem, constructions)
         if isinstance(elem.windows, Window) or not isinstance(elem.windows, Sequence):
             raise TypeError(f"{ew}: windows must be a list of Window or Door, got "
                             f"{type(elem.windows).__name__} (wrap a single window in a list)")
         if elem.soil is not None and not isinstance(elem.soil, Soil):
             raise TypeError(f"{ew}: soil must be a Soil, got {type(elem.soil).__name__}")
         for win in elem.windows:
-            _check_window(win, elem.name)
+            check_window(win, elem.name)
             if win.name in seen:
                 raise NetworkError(f"{what}: duplicate element or window name {win.name!r}")
             seen.add(win.name)
@@ -1193,7 +1194,7 @@ def add_room(net: Network, name: str, *, floor_area: float, height: float,
             if b.name == name:
                 raise NetworkError(f"{ew}: an element cannot face its own zone")
         elif isinstance(b, (int, float)) and not isinstance(b, bool):
-            _num(b, f"{ew}: neighbour temperature [°C]", low=-273.15)
+            check_num(b, f"{ew}: neighbour temperature [°C]", low=-273.15)
         elif not isinstance(b, (str, Adjacent)):
             raise TypeError(f"{ew}: boundary must be 'outdoor', 'ground', a Room, Adjacent, a "
                             f"number [°C] or a boundary name, got {type(b).__name__}")
@@ -1212,10 +1213,10 @@ def add_room(net: Network, name: str, *, floor_area: float, height: float,
                 raise NetworkError(f"{ew}: a basement wall needs depth= (below ground [m]) or "
                                    "a Soil with depth=")
             if elem.perimeter is not None:
-                _num(elem.perimeter, f"{ew}: perimeter [m]", low=0.0, low_open=True)
+                check_num(elem.perimeter, f"{ew}: perimeter [m]", low=0.0, low_open=True)
             if elem.depth is not None:
-                _num(elem.depth, f"{ew}: depth [m]", low=0.0, low_open=True)
-            _num(elem.wall_thickness, f"{ew}: wall_thickness [m]", low=0.0)
+                check_num(elem.depth, f"{ew}: depth [m]", low=0.0, low_open=True)
+            check_num(elem.wall_thickness, f"{ew}: wall_thickness [m]", low=0.0)
         if b == "outdoor" and elem.windows:
             rse = surface_resistances(direction).rse
         else:
@@ -1245,8 +1246,8 @@ def add_room(net: Network, name: str, *, floor_area: float, height: float,
 
     # ---- nodes of the zone
     volume = a_floor * h
-    out = _boundary(net, outdoor, outdoor_temperature, "air", what)
-    sky_b = _boundary(net, sky, sky_temperature, "sky", what) if sky_used else None
+    out = outdoor_boundary(net, outdoor, outdoor_temperature, "air", what)
+    sky_b = outdoor_boundary(net, sky, sky_temperature, "sky", what) if sky_used else None
     rec = Room(name, name, f"{name}.star", bool(heated), a_floor, h, volume, out)
     net.add_node(name, kind="air" if heated else "buffer",
                  capacitance=RHO_CP_AIR * volume + c_furn, volume=volume, initial=initial)
@@ -1272,7 +1273,7 @@ def add_room(net: Network, name: str, *, floor_area: float, height: float,
         if isinstance(b, Adjacent) or (isinstance(b, (int, float)) and not isinstance(b, bool)):
             adj = b if isinstance(b, Adjacent) else Adjacent(float(b))
             bname = adj.name or f"{name}.{elem.name}.adjacent"
-            return ("fixed", _boundary(net, bname, adj.temperature, "air", what), "adjacent")
+            return ("fixed", outdoor_boundary(net, bname, adj.temperature, "air", what), "adjacent")
         if b not in ("outdoor", "ground"):
             return ("fixed", b, "adjacent")
         return (b, None, {"outdoor": "opaque", "ground": "ground"}[b])
@@ -1286,7 +1287,7 @@ def add_room(net: Network, name: str, *, floor_area: float, height: float,
     def irradiance(tilt, az):
         nonlocal solpos
         if solpos is None:
-            solpos = _solpos(weather, latitude, longitude)
+            solpos = site_solar_position(weather, latitude, longitude)
         key = (tilt, az)
         if key not in irr_cache:
             irr_cache[key] = _solar.surface_irradiance(weather, tilt, az, model=sky_model,
@@ -1342,7 +1343,7 @@ def add_room(net: Network, name: str, *, floor_area: float, height: float,
                     d = slab_soil_depth(area, elem.perimeter, elem.wall_thickness, lam)
                 else:
                     d = basement_wall_soil_depth(elem.depth, r_lay, lam, rsi_)
-                gb = _boundary(net, ground, ground_temperature, "ground", what)
+                gb = outdoor_boundary(net, ground, ground_temperature, "ground", what)
                 cells = _soil_cells(d, el_soil.first_cell)
                 prev, r_prev = se, 0.0
                 for k, t in enumerate(cells):
@@ -1376,7 +1377,7 @@ def add_room(net: Network, name: str, *, floor_area: float, height: float,
                 outside_links(wse, elem, tilt, wa, wpath, wb)
                 if weather is not None and win.g_value > 0:
                     if solpos is None:
-                        solpos = _solpos(weather, latitude, longitude)
+                        solpos = site_solar_position(weather, latitude, longitude)
                     gain = window_solar_gain(weather, win, tilt, az, solpos=solpos,
                                              sky_model=sky_model)
                     window_gains.append((win, gain))
@@ -1425,7 +1426,7 @@ def _room_solar_shares(rec: Room, receivers, floors, distribution) -> dict:
                 raise NetworkError(f"room {rec.name!r}: solar_distribution names {key!r}, which "
                                    f"is neither 'air' nor an opaque element of the room "
                                    f"({known})")
-            shares[node] = _num(v, f"solar share of {key!r}", low=0.0, high=1.0)
+            shares[node] = check_num(v, f"solar share of {key!r}", low=0.0, high=1.0)
         total = math.fsum(shares.values())
         if abs(total - 1.0) > 1e-9:
             raise NetworkError(f"room {rec.name!r}: solar_distribution shares sum to {total:.6g}, "
@@ -1516,10 +1517,10 @@ def infiltration_rate(n50=None, *, q50=None, envelope_area=None, volume=None,
     if q50 is not None:
         if envelope_area is None or volume is None:
             raise NetworkError("q50= needs envelope_area= [m²] and volume= [m³]")
-        n50 = (_num(q50, "q50 [m³/(h·m²)]", low=0.0)
-               * _num(envelope_area, "envelope_area [m²]", low=0.0, low_open=True)
-               / _num(volume, "volume [m³]", low=0.0, low_open=True))
-    n50 = _num(n50, "n50 [1/h]", low=0.0)
+        n50 = (check_num(q50, "q50 [m³/(h·m²)]", low=0.0)
+               * check_num(envelope_area, "envelope_area [m²]", low=0.0, low_open=True)
+               / check_num(volume, "volume [m³]", low=0.0, low_open=True))
+    n50 = check_num(n50, "n50 [1/h]", low=0.0)
     if method == "divide20":
         return n50 / 20.0
     if method != "iso13789":
@@ -1529,10 +1530,10 @@ def infiltration_rate(n50=None, *, q50=None, envelope_area=None, volume=None,
         raise NetworkError(f"shielding must be 'none', 'moderate' or 'heavy' and exposed_facades "
                            f"'several' or 'one', got {shielding!r}, {exposed_facades!r}")
     e, f = _SHIELDING_E[key], _SHIELDING_F[exposed_facades]
-    dq = _num(unbalanced_flow_m3h, "unbalanced_flow_m3h [m³/h]", low=0.0)
+    dq = check_num(unbalanced_flow_m3h, "unbalanced_flow_m3h [m³/h]", low=0.0)
     if dq == 0.0 or n50 == 0.0:
         return e * n50
-    v = _num(volume if volume is not None else -1.0, "volume [m³] (needed with an unbalanced "
+    v = check_num(volume if volume is not None else -1.0, "volume [m³] (needed with an unbalanced "
              "flow)", low=0.0, low_open=True)
     return n50 * e / (1.0 + (f / e) * (dq / (v * n50)) ** 2)
 
@@ -1612,8 +1613,8 @@ def add_ventilation(net: Network, zone, *, flow_m3h, heat_recovery: float = 0.0,
         Link name. Conductance ρc·V̇·(1 − η) [W/K].
     """
     zone = _zone(zone, "add_ventilation")
-    q = _num(flow_m3h, f"ventilation of {zone.name!r}: flow_m3h [m³/h]", low=0.0)
-    eta = _num(heat_recovery, f"ventilation of {zone.name!r}: heat_recovery [-]", low=0.0,
+    q = check_num(flow_m3h, f"ventilation of {zone.name!r}: flow_m3h [m³/h]", low=0.0)
+    eta = check_num(heat_recovery, f"ventilation of {zone.name!r}: heat_recovery [-]", low=0.0,
                high=1.0, high_open=True)
     flow = q
     if schedule is not None:
@@ -1713,7 +1714,7 @@ def add_buffer_exchange(net: Network, room, buffer, *, flow_m3h, schedule=None,
     if room.air == buffer.air:
         raise NetworkError(f"{what}: room and buffer are the same zone; pass the buffer space "
                            "built with add_buffer")
-    q = _num(flow_m3h, f"{what}: flow_m3h [m³/h]", low=0.0)
+    q = check_num(flow_m3h, f"{what}: flow_m3h [m³/h]", low=0.0)
     flow = q
     if schedule is not None:
         if not isinstance(schedule, pd.Series):

@@ -1,6 +1,6 @@
 """Variant-axis stepping with the variants on the SIMD lanes of a compiled loop.
 
-:func:`thermonet.batch.run_batch` steps a group of variants that share one structure. Its
+:func:`thermonet.engine.batch.run_batch` steps a group of variants that share one structure. Its
 general kernel runs each variant's scalar loop on its own thread (``numba.prange`` over
 variants). When the group has a single discrete state (no switches, no scheduled link
 conductances) and at most one thermostat, every variant does the same arithmetic on
@@ -13,7 +13,7 @@ Two choices make the loop cheap:
 * **Modal coordinates.** With ``C⁻¹K = Q Λ Q⁻¹`` (``Qᵀ C Q = I``, rates λ [1/s]) and
   ``z = Qᵀ C x``, the exact zero-order-hold step of length h [s] is diagonal,
   ``z⁺ = e^{−λh} ⊙ z + hφ₁(λh) ⊙ (W u)`` with φ₁(x) = (1 − e^{−x})/x — the
-  discretisation of :func:`thermonet.solvers.discretise_exact` (``Φ = Q e^{−Λh} Qᵀ C``,
+  discretisation of :func:`thermonet.engine.simulate.discretise_exact` (``Φ = Q e^{−Λh} Qᵀ C``,
   ``Γ = Q hφ₁(Λh) W``) at O(nc·nu) instead of O(nc²) operations per step. Temperatures
   the loop needs (the thermostat's node, the comfort node) are rows ``r·z``; the sums of
   ``x`` for the balance are mapped back with ``Q`` after the loop.
@@ -35,7 +35,7 @@ One step of one lane is the algorithm of :mod:`thermonet.kernels`:
    hours and degree-hours above thresholds, ``Σ z_start``), as :func:`run_batch` documents.
 
 :func:`step_group` declines (returns False) a group it cannot step this way: a variant whose
-modal form fails the isothermal-defect check of :func:`thermonet.solvers.discretise_exact`
+modal form fails the isothermal-defect check of :func:`thermonet.engine.simulate.discretise_exact`
 (it was discretised by doubling), or input columns that are not finite.
 
 References
@@ -50,7 +50,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from . import kernels
+from thermonet.engine import kernels
 
 #: Variants per block (the length of every innermost loop).
 LANES = 32
@@ -68,8 +68,8 @@ def applicable(n_states: int, n_switches: int, n_thermostats: int, n_capacitive:
 def modal_ok(lam, Q, W, C, h: float, nb: int) -> np.ndarray:
     """Per variant: True if its modal form passes the isothermal-defect check.
 
-    The same test as :func:`thermonet.solvers.discretise_exact` (rows of ``[Φ, Γ_b]`` sum to
-    1 within :data:`thermonet.solvers.MODAL_DEFECT_LIMIT`); a variant that fails it was
+    The same test as :func:`thermonet.engine.simulate.discretise_exact` (rows of ``[Φ, Γ_b]`` sum to
+    1 within :data:`thermonet.engine.simulate.MODAL_DEFECT_LIMIT`); a variant that fails it was
     discretised by doubling instead and cannot be stepped in modal coordinates.
 
     Parameters
@@ -83,7 +83,7 @@ def modal_ok(lam, Q, W, C, h: float, nb: int) -> np.ndarray:
     nb : int
         Number of boundaries (the first ``nb`` columns of ``W``).
     """
-    from .solvers import MODAL_DEFECT_LIMIT, phi1
+    from thermonet.engine.simulate import MODAL_DEFECT_LIMIT, phi1
 
     a = np.einsum("vji,vj->vi", Q, C)                       # Qᵀ C 1
     g = W[..., :nb].sum(axis=-1)                            # W_b 1
@@ -155,14 +155,14 @@ def step_group(lam, Q, W, C, h, Rx, Ru, M, Yx, Yu, x0, bank, ucol, uconst, hcol,
     thr_h, thr_d : ndarray
         Thresholds [°C] for hours and degree-hours above.
     heat, ... x_last : ndarray
-        Outputs, shaped as in :func:`thermonet.batch._run_group`; overwritten.
+        Outputs, shaped as in :func:`thermonet.engine.batch._run_group`; overwritten.
 
     Returns
     -------
     bool
         False if the group was declined (outputs untouched); see the module docstring.
     """
-    from .solvers import phi1
+    from thermonet.engine.simulate import phi1
 
     lam, Q, W = lam[:, 0], Q[:, 0], W[:, 0]
     V, nc, nu = W.shape
@@ -371,7 +371,7 @@ def _step_blocks(a, G, bz, r, RU, bT, gP, yc, YU, yuP, bC, z0, bank, cols, lcols
                     cs = Cs[v]
                     ph = min((hs - t0) / M[b, v], qh[b, v])
                     pc = -min((t0 - cs) / M[b, v], qc[b, v])
-                    # NaN setpoints (none) compare false, as in kernels._control
+                    # NaN setpoints (none) compare false, as in kernels.control_powers
                     P[v] = ph if t0 < hs else (pc if t0 > cs else 0.0)
             # 3. end state; the comfort node's end temperature T
             if comfort == 1:

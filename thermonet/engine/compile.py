@@ -19,9 +19,9 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from .controls import HourWindow, Signal
-from .errors import NetworkError, ScheduleError, WeatherError
-from .schedules import align, check_index
+from thermonet.controls import HourWindow, Signal
+from thermonet.errors import NetworkError, ScheduleError, WeatherError
+from thermonet.schedules import align, check_index
 
 MAX_STATES = 256
 
@@ -119,7 +119,7 @@ def sim_index(weather_index: pd.DatetimeIndex, step) -> tuple[pd.DatetimeIndex, 
     return idx, factor, step.total_seconds()
 
 
-def _series_or_const(value, weather, factor, what, column_ok=False):
+def series_or_constant(value, weather, factor, what, column_ok=False):
     n = len(weather.index)
     if isinstance(value, str):
         if not column_ok:
@@ -139,7 +139,7 @@ def _series_or_const(value, weather, factor, what, column_ok=False):
     return np.full(n * factor, float(value))
 
 
-def _connected(nf, a, b, g, nbound):
+def connected_to_boundary(nf, a, b, g, nbound):
     """Free nodes reachable from a boundary through links with g > 0 (union-find)."""
     parent = np.arange(nf + 1)  # nf = virtual "any boundary" root
 
@@ -182,7 +182,7 @@ def compile_network(net, weather: pd.DataFrame, *, step=None) -> Compiled:
     link_a = np.array([pos[l.a] for l in links], dtype=np.int64)
     link_b = np.array([pos[l.b] for l in links], dtype=np.int64)
     # scheduled conductances
-    G_cols = [_series_or_const(l.conductance, weather, factor, f"link {l.name!r} conductance")
+    G_cols = [series_or_constant(l.conductance, weather, factor, f"link {l.name!r} conductance")
               for l in links]
     G_time = np.stack(G_cols, axis=1) if links else np.zeros((n, 0))
     sched_cols = [i for i, l in enumerate(links) if isinstance(l.conductance, pd.Series)]
@@ -224,7 +224,7 @@ def compile_network(net, weather: pd.DataFrame, *, step=None) -> Compiled:
                 gg *= SLF[k] if bits >> k & 1 else SLF_off[k]
             G_states[si * (1 << nsw) + bits] = gg
     for s_id, g in enumerate(G_states):
-        ok = _connected(len(free), link_a, link_b, g, len(bnames))
+        ok = connected_to_boundary(len(free), link_a, link_b, g, len(bnames))
         if not ok.all():
             lost = [free[i] for i in np.flatnonzero(~ok)]
             where = "" if s_id == 0 else " in a scheduled or switched state"
@@ -234,9 +234,9 @@ def compile_network(net, weather: pd.DataFrame, *, step=None) -> Compiled:
                 "connected node")
 
     # inputs
-    Tb = [_series_or_const(net.boundaries[b].temperature, weather, factor,
+    Tb = [series_or_constant(net.boundaries[b].temperature, weather, factor,
                            f"boundary {b!r}", column_ok=True) for b in bnames]
-    Q = [_series_or_const(s.power, weather, factor, f"source {s.name!r} power") for s in srcs]
+    Q = [series_or_constant(s.power, weather, factor, f"source {s.name!r} power") for s in srcs]
     th = list(net.thermostats.values())
     m = len(th)
     U = np.zeros((n, len(bnames) + len(srcs) + m))
@@ -248,10 +248,10 @@ def compile_network(net, weather: pd.DataFrame, *, step=None) -> Compiled:
     csp = np.full((n, m), np.nan)
     for j, t in enumerate(th):
         if t.heating_setpoint is not None:
-            hsp[:, j] = _series_or_const(t.heating_setpoint, weather, factor,
+            hsp[:, j] = series_or_constant(t.heating_setpoint, weather, factor,
                                          f"thermostat {t.name!r} heating_setpoint")
         if t.cooling_setpoint is not None:
-            csp[:, j] = _series_or_const(t.cooling_setpoint, weather, factor,
+            csp[:, j] = series_or_constant(t.cooling_setpoint, weather, factor,
                                          f"thermostat {t.name!r} cooling_setpoint")
     both = ~np.isnan(hsp) & ~np.isnan(csp)
     if (hsp[both] > csp[both]).any():

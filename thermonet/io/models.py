@@ -82,9 +82,9 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from .controls import Condition, HourWindow, Signal, above, below, colder, hours, warmer
-from .errors import ModelFileError
-from .network import Network, radiation_conductance
+from thermonet.controls import Condition, HourWindow, Signal, above, below, colder, hours, warmer
+from thermonet.errors import ModelFileError
+from thermonet.network import Network, radiation_conductance
 
 __all__ = [
     "FORMAT",
@@ -505,7 +505,7 @@ def to_dict(net: Network, *, weather_columns=None) -> dict:
         tz-aware index, a link whose conductance was edited after it was added, non-JSON
         ``meta``), or ``weather_columns`` omits a column a boundary reads.
     """
-    from . import __version__
+    from thermonet import __version__
 
     used = required_weather_columns(net)
     if weather_columns is None:

@@ -31,7 +31,7 @@ change is ``−Σ C_i (x_i,end − x_i,start)``. These are the same numbers as
 Inputs that are the same for many variants (weather columns, one gains profile shared by
 every variant) are stored once per chunk in a column *bank*; constants are not expanded to
 time series at all. Variants are normally read straight from their :class:`Network` once a
-template of the group has been compiled with :func:`thermonet.compile.compile_network`; a
+template of the group has been compiled with :func:`thermonet.engine.compile.compile_network`; a
 variant with scheduled (Series) link conductances is compiled in full.
 
 References
@@ -51,12 +51,25 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from . import batch_simd, kernels
-from .compile import Compiled, _connected, _series_or_const, compile_network, sim_index
-from .constants import J_PER_KWH
-from .controls import HourWindow, Signal
-from .errors import NetworkError
-from .solvers import MODAL_DEFECT_LIMIT, Discrete, Trajectory, phi1, phi2, zoh_doubling
+from thermonet.constants import J_PER_KWH
+from thermonet.controls import HourWindow, Signal
+from thermonet.engine import batch_simd, kernels
+from thermonet.engine.compile import (
+    Compiled,
+    compile_network,
+    connected_to_boundary,
+    series_or_constant,
+    sim_index,
+)
+from thermonet.engine.simulate import (
+    MODAL_DEFECT_LIMIT,
+    Discrete,
+    Trajectory,
+    phi1,
+    phi2,
+    zoh_doubling,
+)
+from thermonet.errors import NetworkError
 
 #: Default memory budget of one batch of variants [bytes] (arrays of the kernel and of the
 #: batched discretisation; the column bank; traces when kept).
@@ -170,14 +183,14 @@ class ColumnStore:
     def weather_col(self, name: str, what: str):
         key = ("weather", name)
         if key not in self.cols:
-            self.cols[key] = _series_or_const(name, self.weather, self.factor, what,
+            self.cols[key] = series_or_constant(name, self.weather, self.factor, what,
                                               column_ok=True)
         return key
 
     def series_col(self, series: pd.Series, what: str):
         key = ("series", id(series))
         if key not in self.cols:
-            self.cols[key] = _series_or_const(series, self.weather, self.factor, what)
+            self.cols[key] = series_or_constant(series, self.weather, self.factor, what)
             self._refs[key] = series
         return key
 
@@ -274,7 +287,7 @@ def params_from_compiled(comp: Compiled, store: ColumnStore, net=None,
 def params_fast(net, layout: Layout, store: ColumnStore) -> VariantParams:
     """Variant numbers read from the Network, for a network of the layout's structure.
 
-    Mirrors :func:`thermonet.compile.compile_network` for networks without scheduled link
+    Mirrors :func:`thermonet.engine.compile.compile_network` for networks without scheduled link
     conductances (tested against it); raises the same errors for invalid values.
     """
     c = layout.comp
@@ -304,7 +317,7 @@ def params_fast(net, layout: Layout, store: ColumnStore) -> VariantParams:
         G[bits] = gg
     if (G <= 0).any():
         for s_id, g in enumerate(G):
-            ok = _connected(c.nf, c.link_a, c.link_b, g, c.nb)
+            ok = connected_to_boundary(c.nf, c.link_a, c.link_b, g, c.nb)
             if not ok.all():
                 lost = [c.free[i] for i in np.flatnonzero(~ok)]
                 where = "" if s_id == 0 else " in a scheduled or switched state"
@@ -399,7 +412,7 @@ class BatchDiscrete:
 
 
 def discretise_batch(layout: Layout, C: np.ndarray, G: np.ndarray, h: float) -> BatchDiscrete:
-    """Batched twin of :func:`thermonet.solvers.discretise_exact` and ``control_maps``.
+    """Batched twin of :func:`thermonet.engine.simulate.discretise_exact` and ``control_maps``.
 
     Parameters
     ----------
@@ -413,7 +426,7 @@ def discretise_batch(layout: Layout, C: np.ndarray, G: np.ndarray, h: float) -> 
 
     Notes
     -----
-    Same equations as :func:`thermonet.solvers.discretise_exact` (symmetric modal form of
+    Same equations as :func:`thermonet.engine.simulate.discretise_exact` (symmetric modal form of
     ``S = C^{-1/2} K C^{-1/2}``), evaluated on stacks of matrices.
     """
     c = layout.comp
@@ -702,8 +715,8 @@ if kernels.HAVE_NUMBA:
     HAVE_NUMBA = True
 else:  # pragma: no cover
     numba_prange = range
-    kernel_eval_cond = kernels._eval_cond
-    kernel_control = kernels._control
+    kernel_eval_cond = kernels.eval_condition
+    kernel_control = kernels.control_powers
     step_batch = _step_batch
     HAVE_NUMBA = False
 
@@ -829,7 +842,7 @@ def _run_group(layout: Layout, plist: list, store: ColumnStore, warm: int, opts:
             for v in np.flatnonzero(ok):
                 if np.isnan(hsp0[v]).all() and np.isnan(csp0[v]).all():
                     continue
-                kernels._control(T0[v], Mss[v], hsp0[v], csp0[v], plist[v].qh, plist[v].qc,
+                kernels.control_powers(T0[v], Mss[v], hsp0[v], csp0[v], plist[v].qh, plist[v].qc,
                                  P0)
                 x0[v] += Xp[v] @ P0
         for v, p in enumerate(plist):
@@ -969,7 +982,7 @@ def _terms(template_terms: np.ndarray, plist: list) -> np.ndarray:
 
 
 def _results_for(layout, p: VariantParams, bd: BatchDiscrete, v, x_start0, X, U, S, warm):
-    from .results import Results
+    from thermonet.results import Results
 
     comp = p.comp
     disc = {}
@@ -1059,7 +1072,7 @@ def run_batch(nets, weather: pd.DataFrame, *, step=None, warmup_days: float = 14
         if on_error is not None:
             on_error(pos, exc)
 
-    from .network import Network
+    from thermonet.network import Network
 
     for pos, net in enumerate(nets):
         if isinstance(net, BaseException):

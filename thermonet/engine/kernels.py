@@ -22,7 +22,7 @@ except ImportError:  # pragma: no cover
     HAVE_NUMBA = False
 
 
-def _eval_cond(cond, terms, term_clause, clause_cond, temps, sig):
+def eval_condition(cond, terms, term_clause, clause_cond, temps, sig):
     """True if any clause of condition ``cond`` has all its terms true."""
     n_cl = clause_cond.shape[0]
     for c in range(n_cl):
@@ -50,7 +50,7 @@ def _eval_cond(cond, terms, term_clause, clause_cond, temps, sig):
     return False
 
 
-def _control(T0, M, hsp, csp, qh, qc, P):
+def control_powers(T0, M, hsp, csp, qh, qc, P):
     """Projected Gauss–Seidel for thermostat powers ``P`` [W] (in place)."""
     m = T0.shape[0]
     for i in range(m):
@@ -101,12 +101,13 @@ def step_loop(Phi, Gam, Rx, Ru, M, Yx, Yu, x0, U, sched, hsp, csp, qh, qc,
         for w in range(nsw):
             if on[w]:
                 if has_off[w]:
-                    on[w] = not _eval_cond(2 * w + 1, terms, term_clause, clause_cond, temps,
+                    on[w] = not eval_condition(2 * w + 1, terms, term_clause, clause_cond, temps,
                                            signals[k])
                 else:
-                    on[w] = _eval_cond(2 * w, terms, term_clause, clause_cond, temps, signals[k])
+                    on[w] = eval_condition(2 * w, terms, term_clause, clause_cond, temps,
+                                           signals[k])
             else:
-                on[w] = _eval_cond(2 * w, terms, term_clause, clause_cond, temps, signals[k])
+                on[w] = eval_condition(2 * w, terms, term_clause, clause_cond, temps, signals[k])
             if on[w]:
                 bits += 1 << w
         s = sched[k] * (1 << nsw) + bits
@@ -116,7 +117,7 @@ def step_loop(Phi, Gam, Rx, Ru, M, Yx, Yu, x0, U, sched, hsp, csp, qh, qc,
         x1 = Phi[s] @ x + Gam[s] @ u
         if m:
             T0 = Rx[s] @ x1 + Ru[s] @ u
-            _control(T0, M[s], hsp[k], csp[k], qh, qc, P)
+            control_powers(T0, M[s], hsp[k], csp[k], qh, qc, P)
             x1 = x1 + Gam[s][:, pcols] @ P
             u[pcols] = P
             P_out[k] = P
@@ -147,8 +148,8 @@ else:  # pragma: no cover
 
 
 if HAVE_NUMBA:
-    _eval_cond_nb = numba.njit(cache=True)(_eval_cond)
-    _control_nb = numba.njit(cache=True)(_control)
+    _eval_cond_nb = numba.njit(cache=True)(eval_condition)
+    _control_nb = numba.njit(cache=True)(control_powers)
 
     @numba.njit(cache=True)
     def _mv(A, x):

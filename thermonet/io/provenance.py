@@ -8,7 +8,7 @@ plain JSON so any tool can read it.
 
 Examples
 --------
->>> from thermonet.provenance import provenance_record
+>>> from thermonet.io.provenance import provenance_record
 >>> rec = provenance_record(command=["thermonet", "run", "model.json"])  # doctest: +SKIP
 >>> rec["versions"]["numpy"]                                             # doctest: +SKIP
 '2.4.0'
@@ -75,7 +75,7 @@ def file_sha256(path, *, chunk: int = 1 << 20) -> str:
 
 def library_versions() -> dict[str, str | None]:
     """Versions of thermonet, Python and the numerical dependencies (None if not installed)."""
-    from . import __version__
+    from thermonet import __version__
 
     out: dict[str, str | None] = {"thermonet": __version__,
                                   "python": platform.python_version()}
