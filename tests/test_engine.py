@@ -174,12 +174,13 @@ def test_exact_stepper_matches_van_loan_matrix_exponential():
     net = stiff_network()
     w = hourly_weather(10, temp_air=np.linspace(-5, 5, 10))
     res = tn.simulate(net, w, warmup_days=0)
-    from thermonet.engine.compile import compile_network, reduce_state
+    from thermonet.engine.compile import compile_network
+    from thermonet.engine.discretise import reduce
 
     comp = compile_network(net, w)
-    red = reduce_state(comp, comp.G_states[0])
-    A = -red.K / comp.C[:, None]
-    B = red.E / comp.C[:, None]
+    K, E, _, _ = reduce(comp.st, comp.G_states[:1])
+    A = -K[0] / comp.C[:, None]
+    B = E[0] / comp.C[:, None]
     nc, nu = B.shape
     aug = np.zeros((nc + nu, nc + nu))
     aug[:nc, :nc] = A

@@ -225,7 +225,7 @@ def test_doubling_matches_van_loan_expm(seed):
     # is mildly stiff so that expm itself is accurate. Φ, Γ, Φ̄ = (1/h)∫Φ, Γ̄ = (1/h)∫∫Φ B.
     from scipy.linalg import expm
 
-    from thermonet.engine.simulate import zoh_doubling
+    from thermonet.engine.discretise import zoh_doubling
 
     K, E, C = _stiff_chain_matrices(seed, n=5)
     K *= 1e-3                         # keep ‖hA‖ moderate for the reference
@@ -254,15 +254,17 @@ def test_doubling_agrees_with_modal_form_and_keeps_uniform_temperature(seed):
     # Two independent constructions of the same exact step must agree; and with all
     # boundaries at one temperature nothing changes: rows of [Φ, Γ_b] sum to 1 (the
     # isothermal invariant the doubling enforces by construction, GTH 1985).
-    from thermonet.engine.simulate import Discrete, modal_form, zoh_doubling
+    from thermonet.engine.discretise import Discretised, modal_form, zoh_doubling
 
     K, E, C = _stiff_chain_matrices(seed)
     h = 900.0
     lam, Q, W = modal_form(K, E, C)
-    d = Discrete(lam=lam, Q=Q, W=W, K=K, E=E, Yx=np.zeros((0, len(C))),
-                 Yu=np.zeros((0, 3)), C=C, h=h)
+    n = len(C)
+    d = Discretised(h=h, nb=2, C=C[None], K=K[None, None], E=E[None, None],
+                    Yx=np.zeros((1, 1, 0, n)), Yu=np.zeros((1, 1, 0, 3)), lam=lam[None, None],
+                    Q=Q[None, None], W=W[None, None], dense=np.zeros((1, 1), bool))
     Phi, Gam, Phibar, Gambar = zoh_doubling(K, E, C, h, nb=2)
-    for ref, got in ((d.Phi, Phi), (d.Gam, Gam), (d.Phibar, Phibar), (d.Gambar, Gambar)):
+    for ref, got in zip(d.matrices(0, 0), (Phi, Gam, Phibar, Gambar), strict=True):
         assert np.allclose(got, ref, rtol=1e-8, atol=1e-10)
     assert np.abs(Phi.sum(axis=1) + Gam[:, :2].sum(axis=1) - 1).max() < 1e-14
     assert np.abs(Phibar.sum(axis=1) + Gambar[:, :2].sum(axis=1) - 1).max() < 1e-12
@@ -271,7 +273,7 @@ def test_doubling_agrees_with_modal_form_and_keeps_uniform_temperature(seed):
 def test_phi2_large_arguments():
     # (x − 1 + e^{−x})/x² has no cancellation for x ≥ 1, so the direct formula is a
     # reference there; for huge x it tends to 1/x (and x² would overflow beyond 1e154)
-    from thermonet.engine.simulate import phi2
+    from thermonet.engine.discretise import phi2
 
     x = np.array([1.0001, 1.5, 3.0, 10.0, 1e3, 1e6, 1e12])
     assert np.allclose(phi2(x), (x - 1 + np.exp(-x)) / x**2, rtol=1e-14, atol=0)

@@ -19,7 +19,7 @@ import pytest
 
 import thermonet as tn
 from thermonet import studies
-from thermonet.engine import batch_simd
+from thermonet.engine.batch import run_batch
 from thermonet.errors import NetworkError, StudyError, StudyWarning
 
 TZ = "Etc/GMT-1"
@@ -120,14 +120,14 @@ OPTS = dict(warmup_days=WARMUP, hours_above=(25.0, 26.0), degree_hours_above=(24
 
 # ================================================================ batched == one by one
 @pytest.mark.parametrize("comfort", ["room", "slab", "glass"])
-def test_batched_results_equal_one_by_one_for_every_variant(comfort, monkeypatch):
+def test_batched_results_equal_one_by_one_for_every_variant(comfort):
     """Every column of every variant equals the one-by-one run to 1e-9 (relative, floor 1).
 
     Comfort at the thermostat's node, at a capacitive node and at a massless node exercise
-    the three ways the compiled loop gets the comfort temperature. Variants with a night-
-    ventilation switch form a group stepped by the general kernel; the others (including
-    heating-setpoint schedules, no cooling setpoint, no thermostat at all, and solar gains
-    that differ per variant) must go through the SIMD kernel (spied on).
+    the ways the compiled loop gets the comfort temperature. Variants with a night-
+    ventilation switch form a group of their own; the others include heating-setpoint
+    schedules, no cooling setpoint, no thermostat at all, and solar gains that differ per
+    variant.
     """
     params = variant_table(20)
     params["night_vent"] = False
@@ -138,18 +138,8 @@ def test_batched_results_equal_one_by_one_for_every_variant(comfort, monkeypatch
     params.loc[["v05", "v06"], "thermostat"] = False
     params["cool_c"] = params["cool_c"].astype(object)
     params.loc["v07", "cool_c"] = None
-    stepped = []
-    real = batch_simd.step_group
-
-    def spy(*a, **k):
-        ok = real(*a, **k)
-        stepped.append((a[0].shape[0], ok))
-        return ok
-
-    monkeypatch.setattr(batch_simd, "step_group", spy)
     table = studies.run_variants(room, params, WEATHER, comfort_node=comfort, **OPTS)
     assert table["error"].isna().all()
-    assert sum(v for v, ok in stepped if ok) == 18, stepped      # all but the 2 switched
     ref = one_by_one(params, comfort=comfort)
     checked = 0
     for label, d in ref.items():
@@ -161,24 +151,23 @@ def test_batched_results_equal_one_by_one_for_every_variant(comfort, monkeypatch
     pd.testing.assert_frame_equal(table[params.columns], params)
 
 
-def test_groups_the_simd_kernel_declines_run_on_the_general_kernel(monkeypatch):
-    """A variant whose modal form fails the isothermal-defect check (stiff networks) makes
-    the SIMD kernel decline its group; the general kernel then gives the same table."""
+@pytest.mark.parametrize("comfort", ["room", "glass"])
+def test_batch_kernel_sums_equal_the_numpy_reference_traces(comfort):
+    """Twin test of the batch path: the compiled kernel's in-loop sums (modal coordinates)
+    against the numpy reference loop (node coordinates, dense steps) whose hourly traces are
+    summed afterwards — switches, setpoint schedules, several groups, massless nodes."""
     params = variant_table(6)
-    ref = studies.run_variants(room, params, WEATHER, comfort_node="room", **OPTS)
-    calls = []
-
-    def stiff(lam, Q, W, C, h, nb):
-        calls.append(len(lam))
-        return np.zeros(len(lam), dtype=bool)
-
-    monkeypatch.setattr(batch_simd, "modal_ok", stiff)
-    t = studies.run_variants(room, params, WEATHER, comfort_node="room", **OPTS)
-    assert calls == [6]
-    cols = [c for c in t.columns if c not in params.columns and c != "error"]
-    for c in cols:
-        for label in params.index:
-            assert rel_close(t.at[label, c], ref.at[label, c]), (label, c)
+    params["night_vent"] = [False, True, False, True, False, False]
+    params["setback"] = [False, False, True, True, False, False]
+    nets = [room(**kw) for kw in params.to_dict("records")]
+    opts = dict(comfort_node=comfort, warmup_days=WARMUP, hours_above=(22.0, 25.0),
+                degree_hours_above=(24.0,), balance_nodes=["room", "slab"], link_energy=True)
+    fast = run_batch(nets, WEATHER, **opts).table
+    ref = run_batch(nets, WEATHER, kernel="numpy", **opts).table
+    assert list(fast.columns) == list(ref.columns)
+    for c in fast.columns:
+        for i in fast.index:
+            assert rel_close(fast.at[i, c], ref.at[i, c]), (i, c, fast.at[i, c], ref.at[i, c])
 
 
 def _stiff(power=50.0):
@@ -195,19 +184,10 @@ def _stiff(power=50.0):
     return net
 
 
-def test_a_stiff_group_is_declined_by_the_simd_kernel_and_still_exact(monkeypatch):
-    calls = []
-    real = batch_simd.step_group
-
-    def spy(*a, **k):
-        calls.append(real(*a, **k))
-        return calls[-1]
-
-    monkeypatch.setattr(batch_simd, "step_group", spy)
+def test_a_stiff_group_is_stepped_densely_and_still_exact():
     params = pd.DataFrame({"power": [20.0, 50.0, 80.0]})
     t = studies.run_variants(_stiff, params, WEATHER, comfort_node="n2",
                              balance_nodes=["n0", "n1", "n2"], warmup_days=WARMUP)
-    assert calls == [False]
     for i, p in enumerate(params["power"]):
         res = tn.simulate(_stiff(p), WEATHER, warmup_days=WARMUP)
         assert rel_close(t.at[i, "mean_temperature_c"], res.temperatures["n2"].mean())

@@ -34,55 +34,40 @@ class Results:
         self._order = list(net.nodes) + list(net.boundaries)
 
     # ------------------------------------------------------------ raw arrays
-    @cached_property
-    def _xbar(self):
-        t, c = self._t, self._c
-        if getattr(t, "free_mean", None) is not None:
-            return t.free_mean[:, :c.nc]
-        if getattr(t, "modal_mean", None) is not None:
-            zbar, q = t.modal_mean
-            return zbar @ q.T
-        out = np.empty_like(t.X)
-        for s in np.unique(t.S):
-            rows = t.S == s
-            d = t.discrete[int(s)]
-            out[rows] = t.Xstart[rows] @ d.Phibar.T + t.U[rows] @ d.Gambar.T
-        return out if c.nc else np.zeros((len(t.S), 0))
-
-    def _massless(self, X):
-        t, c = self._t, self._c
-        na = c.nf - c.nc
-        out = np.empty((len(t.S), na))
-        if not na:
-            return out
-        for s in np.unique(t.S):
-            rows = t.S == s
-            d = t.discrete[int(s)]
-            out[rows] = X[rows] @ d.Yx.T + t.U[rows] @ d.Yu.T
-        return out
-
-    def _points(self, X, full=None):
-        """Temperatures of free nodes then boundaries (n × (nf + nb)) [°C]."""
-        c = self._c
-        free = full if full is not None else np.hstack([X, self._massless(X)])
-        return np.hstack([free, self._t.U[:, :c.nb]])
+    def _points(self, free: np.ndarray) -> np.ndarray:
+        """Free-node temperatures then the boundaries' (n × (nf + nb)) [°C]."""
+        return np.hstack([free, self._t.U[:, :self._c.nb]])
 
     @cached_property
     def _tmean(self):
-        return self._points(self._xbar, getattr(self._t, "free_mean", None))
+        return self._points(self._t.mean(np.arange(self._c.nf)))
 
     @cached_property
     def _flows(self):
         return self._link_flows(np.arange(len(self._c.link_names)))
 
+    def _point_means(self, pts: np.ndarray) -> np.ndarray:
+        """Step means [°C] of points (free nodes then boundaries) ``pts``, only those."""
+        c = self._c
+        if "_tmean" in self.__dict__:
+            return self.__dict__["_tmean"][:, pts]
+        uniq, inv = np.unique(pts, return_inverse=True)
+        free = uniq < c.nf
+        vals = np.empty((len(self._t.S), len(uniq)))
+        if free.any():
+            vals[:, free] = self._t.mean(uniq[free])
+        vals[:, ~free] = self._t.U[:, uniq[~free] - c.nf]
+        return vals[:, inv.ravel()]
+
     def _link_flows(self, cols):
         """Flows [W] of the links ``cols`` (step means), without forming all the others."""
         if "_flows" in self.__dict__:
             return self.__dict__["_flows"][:, cols]
-        c, t = self._c, self._t
-        tm = self._tmean
-        g = c.G_states[:, cols][t.S]
-        return g * (tm[:, c.link_a[cols]] - tm[:, c.link_b[cols]])
+        c = self._c
+        a, b = c.link_a[cols], c.link_b[cols]
+        tm = self._point_means(np.concatenate([a, b]))
+        k = len(cols)
+        return self._t.conductances(cols) * (tm[:, :k] - tm[:, k:])
 
     def _frame(self, arr, columns, order=None):
         df = pd.DataFrame(arr, index=self.index, columns=columns)
@@ -93,8 +78,8 @@ class Results:
     def temperatures(self) -> pd.DataFrame:
         """Node and boundary temperatures [°C] at the end of each step."""
         c = self._c
-        return self._frame(self._points(self._t.X, getattr(self._t, "free_end", None)),
-                           c.free + c.boundaries, self._order)
+        return self._frame(self._points(self._t.end(np.arange(c.nf))), c.free + c.boundaries,
+                           self._order)
 
     @cached_property
     def mean_temperatures(self) -> pd.DataFrame:
@@ -188,7 +173,7 @@ class Results:
         cols["heating"] = heat
         cols["cooling"] = cool
         cap = np.flatnonzero(inside[:c.nc])
-        cols["storage"] = -((t.X[:, cap] - t.Xstart[:, cap]) @ c.C[cap]) / c.step_s
+        cols["storage"] = -((t.X[:, cap] - t.X_start[:, cap]) @ c.C[cap]) / c.step_s
         df = pd.DataFrame(cols, index=self.index)
         df["residual"] = df.sum(axis=1)
         return df
@@ -252,8 +237,6 @@ class Results:
         out = {k: i.get(k) for k in ("method", "steps", "warmup_steps", "step_s", "states",
                                      "kernel", "seconds")}
         out.update({k: v for k, v in i.items() if k not in out})
-        disc = getattr(self._t, "discrete", {}) or {}
-        out["doubling_states"] = sum(getattr(d, "how", "") == "doubling" for d in disc.values())
         out["worst_residual"] = self.worst_residual()
         return pd.Series(out, dtype=object)
 

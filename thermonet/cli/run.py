@@ -543,9 +543,7 @@ def model_summary(net, weather: pd.DataFrame | None = None, *, max_eigen_nodes: 
     constant, e.g. Incropera et al., Fundamentals of Heat and Mass Transfer, 6th ed., 2007,
     §5.2 lumped capacitance).
     """
-    from scipy.linalg import eigh
-
-    from thermonet.engine.compile import reduce_state
+    from thermonet.engine.discretise import time_constants
     from thermonet.io.models import required_weather_columns
 
     def mean(v):
@@ -581,10 +579,9 @@ def model_summary(net, weather: pd.DataFrame | None = None, *, max_eigen_nodes: 
     eigen = None
     if 0 < comp.nc <= max_eigen_nodes:
         g = comp.G_states[comp.state_id(int(comp.sched_of_step[0]), 0)]
-        red = reduce_state(comp, g)
-        lam = eigh(red.K, np.diag(comp.C), eigvals_only=True)
-        eigen = {"slowest": float(1.0 / lam.min() / 3600.0),
-                 "fastest": float(1.0 / lam.max() / 3600.0), "count": int(lam.size)}
+        tau_s = time_constants(comp.st, comp.C, g)
+        eigen = {"slowest": float(tau_s.max() / 3600.0),
+                 "fastest": float(tau_s.min() / 3600.0), "count": int(tau_s.size)}
     return {
         "name": net.name,
         "nodes": len(net.nodes), "boundaries": len(net.boundaries), "links": len(net.links),

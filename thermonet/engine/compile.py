@@ -1,10 +1,20 @@
-"""Compile a :class:`~thermonet.network.Network` against a weather index into matrices.
+"""Compile a :class:`~thermonet.network.Network` against a time axis: the engine's only compiler.
 
-Free nodes are ordered capacitive first (``x``, C > 0), then massless (``y``, C = 0).
-The input vector of a step is ``u = [T_boundaries, source powers, thermostat powers]``.
-For every *state* (a combination of scheduled link values and switch positions) the links'
-conductances give the Laplacian ``L``; the massless nodes are eliminated exactly
-(Schur complement), leaving ``C dx/dt = −K x + E u`` with ``K`` symmetric positive definite.
+Compiling has two halves, so that many variants of one structure are read cheaply:
+
+* :func:`compile_structure` — what variants of one group share: node order, boundaries,
+  links (ends, paths), sources, thermostats, switch conditions. Free nodes are ordered
+  capacitive first (``x``, C > 0), then massless (``y``, C = 0). The input vector of a step is
+  ``u = [T_boundaries, source powers, thermostat powers]``.
+* :func:`compile_values` — one variant's numbers: capacitances, the conductances of every
+  *state* (a combination of scheduled link values and switch positions), capacity limits,
+  switch factors and thresholds, and its time series as *column specs* into a shared
+  :class:`ColumnStore` (a weather column or a gains profile used by many variants is stored
+  once; a constant is a float and never expanded to a series).
+
+:func:`compile_network` is both halves for one network, with the inputs materialised as
+arrays (a :class:`Compiled`). The batch path of :mod:`thermonet.engine.batch` calls the two
+halves itself.
 
 References
 ----------
@@ -14,6 +24,7 @@ References
 
 from __future__ import annotations
 
+import hashlib
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -23,47 +34,267 @@ from thermonet.controls import HourWindow, Signal
 from thermonet.errors import NetworkError, ScheduleError, WeatherError
 from thermonet.schedules import align, check_index
 
+#: Largest number of cached discretisations (scheduled link states × switch states).
 MAX_STATES = 256
 
 
+# ====================================================================== time axis, columns
+def upsample(values: np.ndarray, factor: int) -> np.ndarray:
+    """Hold each interval's value over its ``factor`` sub-intervals (interval ending)."""
+    return np.repeat(values, factor, axis=0) if factor > 1 else values
+
+
+def sim_index(weather_index: pd.DatetimeIndex, step) -> tuple[pd.DatetimeIndex, int, float]:
+    """The simulation index for ``step`` (None: the weather's), the sub-step factor, step [s].
+
+    Parameters
+    ----------
+    weather_index : pandas.DatetimeIndex
+        Tz-aware, regular, increasing; each label ends its interval.
+    step : str, pandas.Timedelta or None
+        Simulation step; it must divide the weather's step evenly.
+    """
+    wstep = check_index(weather_index, "weather")
+    if step is None:
+        return weather_index, 1, wstep.total_seconds()
+    step = pd.Timedelta(step)
+    if step <= pd.Timedelta(0) or step > wstep:
+        raise ScheduleError(f"step={step} must be positive and not longer than the weather's "
+                            f"step {wstep}")
+    ratio = wstep / step
+    if abs(ratio - round(ratio)) > 1e-9:
+        raise ScheduleError(f"step={step} must divide the weather's step {wstep} evenly")
+    factor = int(round(ratio))
+    if factor == 1:
+        return weather_index, 1, wstep.total_seconds()
+    ends = np.asarray(weather_index.as_unit("ns").asi8)
+    sub = (ends[:, None] - (factor - 1 - np.arange(factor))[None, :] * step.value).ravel()
+    idx = pd.DatetimeIndex(pd.to_datetime(sub, utc=True)).tz_convert(weather_index.tz)
+    return idx, factor, step.total_seconds()
+
+
+def series_or_constant(value, weather: pd.DataFrame, factor: int, what: str,
+                       column_ok: bool = False) -> np.ndarray:
+    """A value on the simulation index: a weather column (boundaries only), a Series or a number.
+
+    Parameters
+    ----------
+    value : str, pandas.Series or float
+        Weather column name, Series aligned to the weather's index, or a constant.
+    weather : pandas.DataFrame
+        The weather (its index is the time axis).
+    factor : int
+        Sub-steps per weather step.
+    what : str
+        Names the input in error messages.
+    column_ok : bool, default False
+        Whether a weather column name is allowed.
+    """
+    n = len(weather.index)
+    if isinstance(value, str):
+        if not column_ok:
+            raise NetworkError(f"{what}: a column name is only allowed for boundaries")
+        if value not in weather.columns:
+            raise WeatherError(f"{what} uses weather column {value!r}, which is missing; "
+                               f"columns: {', '.join(map(str, weather.columns))}")
+        col = np.asarray(weather[value], dtype=float)
+        if not np.isfinite(col).all():
+            i = int((~np.isfinite(col)).argmax())
+            raise WeatherError(f"weather column {value!r} (used by {what}) has NaN/inf at "
+                               f"{weather.index[i]}; repair it explicitly, e.g. "
+                               "thermonet.weather.validate(df, fill='interpolate')")
+        return upsample(col, factor)
+    if isinstance(value, pd.Series):
+        return upsample(align(value, weather.index, what), factor)
+    return np.full(n * factor, float(value))
+
+
+class ColumnStore:
+    """Time series [SI] on the simulation index, stored once and referenced by key.
+
+    A column *spec* is either a float (a constant, never expanded) or a key into the store.
+
+    Parameters
+    ----------
+    weather : pandas.DataFrame
+        The weather; its index is the time axis.
+    factor : int
+        Sub-steps per weather step.
+    index : pandas.DatetimeIndex
+        The simulation index (see :func:`sim_index`).
+    step_s : float
+        Simulation step [s].
+    """
+
+    def __init__(self, weather: pd.DataFrame, factor: int, index: pd.DatetimeIndex,
+                 step_s: float):
+        self.weather, self.factor, self.index, self.step_s = weather, factor, index, step_s
+        self.cols: dict = {}
+        self._refs: dict = {}  # keeps Series alive so that id() keys stay unique
+
+    @classmethod
+    def for_weather(cls, weather: pd.DataFrame, step=None) -> ColumnStore:
+        """A store on the simulation index of ``weather`` at ``step`` (None: the weather's)."""
+        if not isinstance(weather, pd.DataFrame):
+            raise TypeError(f"weather must be a pandas DataFrame, got {type(weather).__name__}")
+        index, factor, step_s = sim_index(weather.index, step)
+        return cls(weather, factor, index, step_s)
+
+    def __len__(self):
+        return len(self.index)
+
+    def slice(self, rows) -> ColumnStore:
+        """A store of the rows ``rows`` of this one (same keys)."""
+        out = ColumnStore(self.weather, self.factor, self.index[rows], self.step_s)
+        out.cols = {k: v[rows] for k, v in self.cols.items()}
+        out._refs = self._refs
+        return out
+
+    def weather_col(self, name: str, what: str):
+        """Key of weather column ``name`` (checked: present, finite)."""
+        key = ("weather", name)
+        if key not in self.cols:
+            self.cols[key] = series_or_constant(name, self.weather, self.factor, what,
+                                                column_ok=True)
+        return key
+
+    def series_col(self, series: pd.Series, what: str):
+        """Key of a Series aligned to the weather (checked: same index, finite)."""
+        key = ("series", id(series))
+        if key not in self.cols:
+            self.cols[key] = series_or_constant(series, self.weather, self.factor, what)
+            self._refs[key] = series
+        return key
+
+    def array_col(self, values: np.ndarray):
+        """A constant → float; otherwise a content-hashed key."""
+        values = np.asarray(values, dtype=float)
+        v0 = values[0]
+        if np.isnan(v0) and np.isnan(values).all():
+            return float("nan")
+        if (values == v0).all():
+            return float(v0)
+        key = ("array", hashlib.blake2b(values.tobytes(), digest_size=16).hexdigest())
+        if key not in self.cols:
+            self.cols[key] = values.copy()
+        return key
+
+    def spec(self, value, what: str, column_ok: bool = False):
+        """Spec of a number, a Series or (``column_ok``) a weather column name."""
+        if isinstance(value, str):
+            if not column_ok:
+                raise NetworkError(f"{what}: a column name is only allowed for boundaries")
+            return self.weather_col(value, what)
+        if isinstance(value, pd.Series):
+            return self.series_col(value, what)
+        return float(value)
+
+    def value(self, spec) -> np.ndarray | float:
+        """The series of a key, or the float itself."""
+        return spec if isinstance(spec, float) else self.cols[spec]
+
+    def array(self, spec) -> np.ndarray:
+        """The spec as a full array on the simulation index."""
+        v = self.value(spec)
+        return np.full(len(self.index), v) if isinstance(v, float) else v
+
+
+# ================================================================================ structure
+def connected_to_boundary(nf: int, a: np.ndarray, b: np.ndarray, g: np.ndarray
+                          ) -> np.ndarray:
+    """Free nodes reachable from a boundary through links with g > 0 (union-find).
+
+    Parameters
+    ----------
+    nf : int
+        Number of free nodes; link ends ≥ nf are boundaries.
+    a, b : ndarray of int
+        Link ends (indices into free nodes then boundaries).
+    g : ndarray
+        Link conductances [W/K].
+    """
+    parent = np.arange(nf + 1)  # nf = virtual "any boundary" root
+
+    def find(i):
+        while parent[i] != i:
+            parent[i] = parent[parent[i]]
+            i = parent[i]
+        return i
+
+    for ai, bi, gi in zip(a, b, g, strict=True):
+        if gi <= 0:
+            continue
+        ra = find(min(ai, nf))
+        rb = find(min(bi, nf))
+        if ra != rb:
+            parent[ra] = rb
+    root = find(nf)
+    return np.array([find(i) == root for i in range(nf)], dtype=bool)
+
+
+def condition_terms(net):
+    """Every term of every switch condition, in compile order (on, then off, per switch)."""
+    for s in net.switches.values():
+        for cond in (s.on, s.off):
+            if cond is None:
+                continue
+            for clause in cond.clauses:
+                yield from clause
+
+
 @dataclass
-class Compiled:
-    """Arrays of a network compiled on a time axis (all SI: °C, W, W/K, J/K, s)."""
+class Structure:
+    """What the variants of one group share (names, connectivity, conditions).
+
+    Attributes
+    ----------
+    index : pandas.DatetimeIndex
+        Simulation index; row t covers (t − h, t].
+    step_s : float
+        Step h [s].
+    free : list of str
+        Free nodes, capacitive first; ``nc`` of them capacitive.
+    boundaries, link_names, link_paths, source_names, source_paths, thermostat_names,
+    switch_names : list of str
+    link_a, link_b : ndarray of int
+        Link ends, indices into ``free + boundaries``.
+    source_node, thermostat_node : ndarray of int
+        Indices into ``free``.
+    sched_links : ndarray of int
+        Links whose conductance is a Series (scheduled).
+    terms : ndarray (n_terms, 6)
+        ``kind_a, idx_a, kind_b, idx_b, op, threshold`` of every condition term (kind 0 free
+        node, 1 signal, 2 none); the threshold column is the template's.
+    term_clause, clause_cond : ndarray of int
+        Clause of each term; condition of each clause (2·switch + 0 on / 1 off).
+    has_off : ndarray of bool
+        Per switch, whether it has an ``off`` condition (hysteresis).
+    signal_refs : list
+        Signal columns in order: ``("boundary", name)``, ``("signal", Signal)`` or
+        ``("hours", HourWindow)``.
+    """
 
     index: pd.DatetimeIndex
     step_s: float
-    free: list[str]
+    free: list
     nc: int
-    boundaries: list[str]
-    C: np.ndarray                      # (nc,) [J/K]
-    link_names: list[str]
-    link_paths: list[str]
-    link_a: np.ndarray                 # index into points = free + boundaries
+    boundaries: list
+    link_names: list
+    link_paths: list
+    link_a: np.ndarray
     link_b: np.ndarray
-    G_states: np.ndarray               # (n_states, n_links) [W/K]
-    sched_of_step: np.ndarray          # (n_steps,) scheduled-state id
-    n_sched: int
-    source_names: list[str]
-    source_paths: list[str]
-    source_node: np.ndarray            # (n_src,) index into free
-    thermostat_names: list[str]
-    thermostat_node: np.ndarray        # (m,) index into free
-    U: np.ndarray                      # (n_steps, nu) base inputs (P columns zero)
-    hsp: np.ndarray                    # (n_steps, m) heating setpoints (NaN = none)
-    csp: np.ndarray
-    qh: np.ndarray                     # (m,) [W]
-    qc: np.ndarray
-    switch_names: list[str]
-    switch_link_factor: np.ndarray     # (nsw, n_links)
-    switch_source_factor: np.ndarray   # (nsw, n_src) factor while on
-    switch_source_factor_off: np.ndarray  # (nsw, n_src) factor while off
-    switch_initial: np.ndarray         # (nsw,) bool
-    terms: np.ndarray                  # (n_terms, 6) float: kind_a, idx_a, kind_b, idx_b, op, thr
-    term_clause: np.ndarray            # (n_terms,) clause id
-    clause_cond: np.ndarray            # (n_clauses,) condition id = 2*switch + (0 on / 1 off)
-    has_off: np.ndarray                # (nsw,) bool
-    signals: np.ndarray                # (n_steps, n_sig)
-    initial: dict = field(default_factory=dict)
+    sched_links: np.ndarray
+    source_names: list
+    source_paths: list
+    source_node: np.ndarray
+    thermostat_names: list
+    thermostat_node: np.ndarray
+    switch_names: list
+    terms: np.ndarray
+    term_clause: np.ndarray
+    clause_cond: np.ndarray
+    has_off: np.ndarray
+    signal_refs: list
 
     @property
     def nb(self):
@@ -86,214 +317,42 @@ class Compiled:
         return len(self.free)
 
     @property
-    def n_states(self):
-        return self.G_states.shape[0]
+    def na(self):
+        return self.nf - self.nc
 
-    def state_id(self, sched, bits):
-        return sched * (1 << len(self.switch_names)) + bits
+    @property
+    def nl(self):
+        return len(self.link_names)
 
-
-def _upsample(values: np.ndarray, factor: int) -> np.ndarray:
-    """Hold each interval's value over its ``factor`` sub-intervals (interval ending)."""
-    return np.repeat(values, factor, axis=0) if factor > 1 else values
-
-
-def sim_index(weather_index: pd.DatetimeIndex, step) -> tuple[pd.DatetimeIndex, int, float]:
-    """The simulation index for ``step`` (None: the weather's) and the sub-step factor."""
-    wstep = check_index(weather_index, "weather")
-    if step is None:
-        return weather_index, 1, wstep.total_seconds()
-    step = pd.Timedelta(step)
-    if step <= pd.Timedelta(0) or step > wstep:
-        raise ScheduleError(f"step={step} must be positive and not longer than the weather's "
-                            f"step {wstep}")
-    ratio = wstep / step
-    if abs(ratio - round(ratio)) > 1e-9:
-        raise ScheduleError(f"step={step} must divide the weather's step {wstep} evenly")
-    factor = int(round(ratio))
-    if factor == 1:
-        return weather_index, 1, wstep.total_seconds()
-    ends = np.asarray(weather_index.as_unit("ns").asi8)
-    sub = (ends[:, None] - (factor - 1 - np.arange(factor))[None, :] * step.value).ravel()
-    idx = pd.DatetimeIndex(pd.to_datetime(sub, utc=True)).tz_convert(weather_index.tz)
-    return idx, factor, step.total_seconds()
+    @property
+    def nsw(self):
+        return len(self.switch_names)
 
 
-def series_or_constant(value, weather, factor, what, column_ok=False):
-    n = len(weather.index)
-    if isinstance(value, str):
-        if not column_ok:
-            raise NetworkError(f"{what}: a column name is only allowed for boundaries")
-        if value not in weather.columns:
-            raise WeatherError(f"{what} uses weather column {value!r}, which is missing; "
-                               f"columns: {', '.join(map(str, weather.columns))}")
-        col = np.asarray(weather[value], dtype=float)
-        if not np.isfinite(col).all():
-            i = int((~np.isfinite(col)).argmax())
-            raise WeatherError(f"weather column {value!r} (used by {what}) has NaN/inf at "
-                               f"{weather.index[i]}; repair it explicitly, e.g. "
-                               "thermonet.weather.validate(df, fill='interpolate')")
-        return _upsample(col, factor)
-    if isinstance(value, pd.Series):
-        return _upsample(align(value, weather.index, what), factor)
-    return np.full(n * factor, float(value))
+def _condition_code(net, free_pos, refs: dict):
+    """Terms of every switch condition as numbers; fills ``refs`` (signal key → column)."""
 
+    def signal(key, ref):
+        if key not in refs:
+            refs[key] = (len(refs), ref)
+        return refs[key][0]
 
-def connected_to_boundary(nf, a, b, g, nbound):
-    """Free nodes reachable from a boundary through links with g > 0 (union-find)."""
-    parent = np.arange(nf + 1)  # nf = virtual "any boundary" root
-
-    def find(i):
-        while parent[i] != i:
-            parent[i] = parent[parent[i]]
-            i = parent[i]
-        return i
-
-    for ai, bi, gi in zip(a, b, g, strict=True):
-        if gi <= 0:
-            continue
-        ra = find(min(ai, nf))
-        rb = find(min(bi, nf))
-        if ra != rb:
-            parent[ra] = rb
-    root = find(nf)
-    return np.array([find(i) == root for i in range(nf)], dtype=bool)
-
-
-def compile_network(net, weather: pd.DataFrame, *, step=None) -> Compiled:
-    """Compile ``net`` against the weather (or any frame with a tz-aware regular index)."""
-    if not isinstance(weather, pd.DataFrame):
-        raise TypeError(f"weather must be a pandas DataFrame, got {type(weather).__name__}")
-    index, factor, step_s = sim_index(weather.index, step)
-    n = len(index)
-    if not net.nodes:
-        raise NetworkError("the network has no free nodes; add_node() first")
-    if not net.boundaries:
-        raise NetworkError("the network has no boundary; every node needs a path to one "
-                           "(add_boundary('outdoor', temperature='temp_air'))")
-    cap = [k for k, v in net.nodes.items() if v.capacitance > 0]
-    massless = [k for k, v in net.nodes.items() if v.capacitance == 0]
-    free = cap + massless
-    bnames = list(net.boundaries)
-    pos = {name: i for i, name in enumerate(free + bnames)}
-    C = np.array([net.nodes[k].capacitance for k in cap], dtype=float)
-
-    links = list(net.links.values())
-    link_a = np.array([pos[l.a] for l in links], dtype=np.int64)
-    link_b = np.array([pos[l.b] for l in links], dtype=np.int64)
-    # scheduled conductances
-    G_cols = [series_or_constant(l.conductance, weather, factor, f"link {l.name!r} conductance")
-              for l in links]
-    G_time = np.stack(G_cols, axis=1) if links else np.zeros((n, 0))
-    sched_cols = [i for i, l in enumerate(links) if isinstance(l.conductance, pd.Series)]
-    if sched_cols:
-        uniq, inv = np.unique(G_time[:, sched_cols], axis=0, return_inverse=True)
-        sched_of_step = inv.ravel().astype(np.int64)
-    else:
-        uniq, sched_of_step = np.zeros((1, 0)), np.zeros(n, dtype=np.int64)
-    n_sched = uniq.shape[0]
-    base_G = G_time[0].copy()
-
-    # switches
-    sw = list(net.switches.values())
-    nsw = len(sw)
-    if n_sched * (1 << nsw) > MAX_STATES:
-        raise NetworkError(f"{n_sched} scheduled link states × 2^{nsw} switch states exceed "
-                           f"{MAX_STATES} cached discretisations; schedule links with fewer "
-                           "distinct values or use fewer switches")
-    link_pos = {l.name: i for i, l in enumerate(links)}
-    srcs = list(net.sources.values())
-    src_pos = {s.name: i for i, s in enumerate(srcs)}
-    SLF = np.ones((nsw, len(links)))
-    SLF_off = np.ones((nsw, len(links)))
-    SSF = np.ones((nsw, len(srcs)))
-    SSF_off = np.ones((nsw, len(srcs)))
-    for k, s in enumerate(sw):
-        for ln, (f_off, f_on) in s.link_factors.items():
-            SLF[k, link_pos[ln]], SLF_off[k, link_pos[ln]] = f_on, f_off
-        for sn, (f_off, f_on) in s.source_factors.items():
-            SSF[k, src_pos[sn]], SSF_off[k, src_pos[sn]] = f_on, f_off
-
-    G_states = np.empty((n_sched * (1 << nsw), len(links)))
-    for si in range(n_sched):
-        g = base_G.copy()
-        g[sched_cols] = uniq[si]
-        for bits in range(1 << nsw):
-            gg = g.copy()
-            for k in range(nsw):
-                gg *= SLF[k] if bits >> k & 1 else SLF_off[k]
-            G_states[si * (1 << nsw) + bits] = gg
-    for s_id, g in enumerate(G_states):
-        ok = connected_to_boundary(len(free), link_a, link_b, g, len(bnames))
-        if not ok.all():
-            lost = [free[i] for i in np.flatnonzero(~ok)]
-            where = "" if s_id == 0 else " in a scheduled or switched state"
-            raise NetworkError(
-                f"node(s) {', '.join(map(repr, lost))} have no path to any boundary{where}; "
-                "the system would be singular. Link them (with G > 0) to a boundary or to a "
-                "connected node")
-
-    # inputs
-    Tb = [series_or_constant(net.boundaries[b].temperature, weather, factor,
-                           f"boundary {b!r}", column_ok=True) for b in bnames]
-    Q = [series_or_constant(s.power, weather, factor, f"source {s.name!r} power") for s in srcs]
-    th = list(net.thermostats.values())
-    m = len(th)
-    U = np.zeros((n, len(bnames) + len(srcs) + m))
-    if bnames:
-        U[:, :len(bnames)] = np.stack(Tb, axis=1)
-    if srcs:
-        U[:, len(bnames):len(bnames) + len(srcs)] = np.stack(Q, axis=1)
-    hsp = np.full((n, m), np.nan)
-    csp = np.full((n, m), np.nan)
-    for j, t in enumerate(th):
-        if t.heating_setpoint is not None:
-            hsp[:, j] = series_or_constant(t.heating_setpoint, weather, factor,
-                                         f"thermostat {t.name!r} heating_setpoint")
-        if t.cooling_setpoint is not None:
-            csp[:, j] = series_or_constant(t.cooling_setpoint, weather, factor,
-                                         f"thermostat {t.name!r} cooling_setpoint")
-    both = ~np.isnan(hsp) & ~np.isnan(csp)
-    if (hsp[both] > csp[both]).any():
-        raise NetworkError("a thermostat's heating setpoint exceeds its cooling setpoint; "
-                           "keep heating ≤ cooling at every step")
-
-    # conditions
-    sig_cols, sig_keys = [], {}
-
-    def signal_index(ref, what):
-        if isinstance(ref, Signal):
-            key = id(ref)
-            if key not in sig_keys:
-                sig_keys[key] = len(sig_cols)
-                sig_cols.append(_upsample(align(ref.series, weather.index, what), factor))
-            return sig_keys[key]
-        if isinstance(ref, HourWindow):
-            key = ("hours", ref.start, ref.end)
-            if key not in sig_keys:
-                sig_keys[key] = len(sig_cols)
-                sig_cols.append(ref.values(index, pd.Timedelta(seconds=step_s)))
-            return sig_keys[key]
-        raise TypeError(ref)
-
-    def ref_code(ref, what):
+    def code(ref):
         if ref is None:
             return 2, 0
         if isinstance(ref, str):
             if ref in net.boundaries:
-                return 1, _boundary_signal(ref)
-            return 0, free.index(ref)
-        return 1, signal_index(ref, what)
-
-    def _boundary_signal(bname):
-        key = ("boundary", bname)
-        if key not in sig_keys:
-            sig_keys[key] = len(sig_cols)
-            sig_cols.append(U[:, bnames.index(bname)].copy())
-        return sig_keys[key]
+                return 1, signal(("boundary", ref), ref)
+            return 0, free_pos[ref]
+        if isinstance(ref, Signal):
+            return 1, signal(("signal", id(ref)), ref)
+        if isinstance(ref, HourWindow):
+            return 1, signal(("hours", ref.start, ref.end), ref)
+        raise TypeError(f"a condition term refers to {ref!r}; use a node or boundary name, a "
+                        "Signal or thermonet.hours()")
 
     terms, term_clause, clause_cond = [], [], []
-    for k, s in enumerate(sw):
+    for k, s in enumerate(net.switches.values()):
         for ci, cond in enumerate((s.on, s.off)):
             if cond is None:
                 continue
@@ -301,84 +360,349 @@ def compile_network(net, weather: pd.DataFrame, *, step=None) -> Compiled:
                 cid = len(clause_cond)
                 clause_cond.append(2 * k + ci)
                 for t in clause:
-                    ka, ia = ref_code(t.a, f"switch {s.name!r} condition")
-                    kb, ib = ref_code(t.b, f"switch {s.name!r} condition")
+                    ka, ia = code(t.a)
+                    kb, ib = code(t.b)
                     terms.append([ka, ia, kb, ib, 1.0 if t.op == ">" else -1.0, t.threshold])
                     term_clause.append(cid)
-    signals = np.stack(sig_cols, axis=1) if sig_cols else np.zeros((n, 0))
+    return terms, term_clause, clause_cond
 
-    return Compiled(
-        index=index, step_s=step_s, free=free, nc=len(cap), boundaries=bnames, C=C,
+
+def compile_structure(net, store: ColumnStore) -> Structure:
+    """The shared half of compiling ``net`` (see the module docstring).
+
+    Parameters
+    ----------
+    net : Network
+    store : ColumnStore
+        Gives the simulation index and step.
+
+    Raises
+    ------
+    NetworkError
+        No free node or no boundary.
+    """
+    if not net.nodes:
+        raise NetworkError("the network has no free nodes; add_node() first")
+    if not net.boundaries:
+        raise NetworkError("the network has no boundary; every node needs a path to one "
+                           "(add_boundary('outdoor', temperature='temp_air'))")
+    cap = [k for k, v in net.nodes.items() if v.capacitance > 0]
+    free = cap + [k for k, v in net.nodes.items() if v.capacitance == 0]
+    bnames = list(net.boundaries)
+    pos = {name: i for i, name in enumerate(free + bnames)}
+    links = list(net.links.values())
+    srcs = list(net.sources.values())
+    th = list(net.thermostats.values())
+    refs: dict = {}
+    terms, term_clause, clause_cond = _condition_code(net, pos, refs)
+    return Structure(
+        index=store.index, step_s=store.step_s, free=free, nc=len(cap), boundaries=bnames,
         link_names=[l.name for l in links], link_paths=[l.path for l in links],
-        link_a=link_a, link_b=link_b, G_states=G_states, sched_of_step=sched_of_step,
-        n_sched=n_sched, source_names=[s.name for s in srcs],
-        source_paths=[s.path for s in srcs],
-        source_node=np.array([free.index(s.node) for s in srcs], dtype=np.int64),
+        link_a=np.array([pos[l.a] for l in links], dtype=np.int64),
+        link_b=np.array([pos[l.b] for l in links], dtype=np.int64),
+        sched_links=np.array([i for i, l in enumerate(links)
+                              if isinstance(l.conductance, pd.Series)], dtype=np.int64),
+        source_names=[s.name for s in srcs], source_paths=[s.path for s in srcs],
+        source_node=np.array([pos[s.node] for s in srcs], dtype=np.int64),
         thermostat_names=[t.name for t in th],
-        thermostat_node=np.array([free.index(t.node) for t in th], dtype=np.int64),
-        U=U, hsp=hsp, csp=csp, qh=np.array([t.max_heating_w for t in th], dtype=float),
-        qc=np.array([t.max_cooling_w for t in th], dtype=float),
-        switch_names=[s.name for s in sw], switch_link_factor=SLF, switch_source_factor=SSF,
-        switch_source_factor_off=SSF_off,
-        switch_initial=np.array([s.initial for s in sw], dtype=bool),
+        thermostat_node=np.array([pos[t.node] for t in th], dtype=np.int64),
+        switch_names=list(net.switches),
         terms=np.array(terms, dtype=float).reshape(-1, 6),
         term_clause=np.array(term_clause, dtype=np.int64),
         clause_cond=np.array(clause_cond, dtype=np.int64),
-        has_off=np.array([s.off is not None for s in sw], dtype=bool),
-        signals=signals,
-        initial={k: v.initial for k, v in net.nodes.items() if v.initial is not None},
+        has_off=np.array([s.off is not None for s in net.switches.values()], dtype=bool),
+        signal_refs=[(key[0], ref) for key, (_, ref) in sorted(refs.items(),
+                                                                key=lambda kv: kv[1][0])],
     )
 
 
-def laplacian_blocks(comp: Compiled, g: np.ndarray):
-    """Dense ``L_ff`` (nf×nf) and ``L_fb`` (nf×nb) for conductances ``g`` [W/K]."""
-    nf, nb = comp.nf, comp.nb
-    L = np.zeros((nf + nb, nf + nb))
-    a, b = comp.link_a, comp.link_b
-    np.add.at(L, (a, a), g)
-    np.add.at(L, (b, b), g)
-    np.add.at(L, (a, b), -g)
-    np.add.at(L, (b, a), -g)
-    return L[:nf, :nf], L[:nf, nf:]
-
-
-def input_matrix(comp: Compiled, L_fb: np.ndarray) -> np.ndarray:
-    """``E_f`` (nf × nu): heat into free nodes per unit input (−L_fb for boundary temps)."""
-    E = np.zeros((comp.nf, comp.nu))
-    E[:, :comp.nb] = -L_fb
-    for j, node in enumerate(comp.source_node):
-        E[node, comp.nb + j] = 1.0
-    for j, node in enumerate(comp.thermostat_node):
-        E[node, comp.nb + comp.nsrc + j] = 1.0
-    return E
-
-
+# =================================================================================== values
 @dataclass
-class Reduced:
-    """``C dx/dt = −K x + E u`` and massless nodes ``y = Yx x + Yu u`` for one state."""
+class Values:
+    """One variant's numbers (SI); time series as column specs (see :class:`ColumnStore`).
 
-    K: np.ndarray
-    E: np.ndarray
-    Yx: np.ndarray
-    Yu: np.ndarray
+    Attributes
+    ----------
+    C : ndarray (nc,)
+        Capacitances [J/K].
+    G : ndarray (ns, nl)
+        Link conductances of every state [W/K]; state ``sched · 2^nsw + switch bits``.
+    n_sched : int
+        Number of distinct scheduled-conductance rows.
+    sched : float or key
+        Spec of the scheduled-state id per step.
+    qh, qc : ndarray (m,)
+        Heating and cooling capacities [W].
+    source_factor : ndarray (ns, nsrc)
+        Factor on each source in each state (product of the switches' factors).
+    sw_init : ndarray (nsw,) of bool
+    thresholds : ndarray (n_terms,)
+        Condition thresholds [°C or the signal's unit].
+    initial : list of (int, float)
+        Capacitive node index and its initial temperature [°C].
+    ucols, hcols, ccols, scols : list
+        Specs of the boundary temperatures and source powers, heating and cooling setpoints
+        (NaN = none), and condition signals.
+    """
+
+    C: np.ndarray
+    G: np.ndarray
+    n_sched: int
+    sched: object
+    qh: np.ndarray
+    qc: np.ndarray
+    source_factor: np.ndarray
+    sw_init: np.ndarray
+    thresholds: np.ndarray
+    initial: list
+    ucols: list
+    hcols: list
+    ccols: list
+    scols: list
+    own_columns: int = 0
+
+    @property
+    def n_states(self):
+        return self.G.shape[0]
 
 
-def reduce_state(comp: Compiled, g: np.ndarray) -> Reduced:
-    """Eliminate massless nodes exactly (Schur complement) for conductances ``g``."""
-    L_ff, L_fb = laplacian_blocks(comp, g)
-    E = input_matrix(comp, L_fb)
-    nc = comp.nc
-    Lcc, Lca = L_ff[:nc, :nc], L_ff[:nc, nc:]
-    Lac, Laa = L_ff[nc:, :nc], L_ff[nc:, nc:]
-    Ec, Ea = E[:nc], E[nc:]
-    if Laa.shape[0]:
-        Yx = -np.linalg.solve(Laa, Lac)
-        Yu = np.linalg.solve(Laa, Ea)
-        K = Lcc + Lca @ Yx
-        Er = Ec + (-Lca) @ Yu
+def _switch_factors(net, st: Structure):
+    """Per switch: link and source factors while on and while off."""
+    nsw, nl, nsrc = st.nsw, st.nl, st.nsrc
+    link_pos = {n: i for i, n in enumerate(st.link_names)}
+    src_pos = {n: i for i, n in enumerate(st.source_names)}
+    lf = np.ones((2, nsw, nl))        # [0] off, [1] on
+    sf = np.ones((2, nsw, nsrc))
+    for k, s in enumerate(net.switches.values()):
+        for ln, (f_off, f_on) in s.link_factors.items():
+            lf[0, k, link_pos[ln]], lf[1, k, link_pos[ln]] = f_off, f_on
+        for sn, (f_off, f_on) in s.source_factors.items():
+            sf[0, k, src_pos[sn]], sf[1, k, src_pos[sn]] = f_off, f_on
+    return lf, sf
+
+
+def _state_products(f: np.ndarray, nsw: int) -> np.ndarray:
+    """Row ``bits`` = product over switches of their on/off factors (f: (2, nsw, k))."""
+    out = np.ones((1 << nsw, f.shape[2]))
+    for bits in range(1 << nsw):
+        for k in range(nsw):
+            out[bits] *= f[bits >> k & 1, k]
+    return out
+
+
+def _scheduled_rows(net, st: Structure, store: ColumnStore, links):
+    """Base conductances, distinct scheduled rows and the spec of the row id per step."""
+    base = np.empty(st.nl)
+    sched_cols = []
+    for i, l in enumerate(links):
+        if isinstance(l.conductance, pd.Series):
+            sched_cols.append(store.array(store.series_col(l.conductance,
+                                                           f"link {l.name!r} conductance")))
+            base[i] = np.nan
+        else:
+            base[i] = float(l.conductance)
+    if not sched_cols:
+        return base, np.zeros((1, 0)), 0.0
+    G_time = np.stack(sched_cols, axis=1)
+    uniq, inv = np.unique(G_time, axis=0, return_inverse=True)
+    base[st.sched_links] = G_time[0]
+    return base, uniq, store.array_col(inv.ravel().astype(float))
+
+
+def _check_connected(st: Structure, G: np.ndarray) -> None:
+    if (G > 0).all():
+        states = G[:1]
     else:
-        Yx = np.zeros((0, nc))
-        Yu = np.zeros((0, comp.nu))
-        K, Er = Lcc, Ec
-    K = 0.5 * (K + K.T)
-    return Reduced(K, Er, Yx, Yu)
+        states = G
+    for s_id, g in enumerate(states):
+        ok = connected_to_boundary(st.nf, st.link_a, st.link_b, g)
+        if not ok.all():
+            lost = [st.free[i] for i in np.flatnonzero(~ok)]
+            where = "" if s_id == 0 else " in a scheduled or switched state"
+            raise NetworkError(
+                f"node(s) {', '.join(map(repr, lost))} have no path to any boundary{where}; "
+                "the system would be singular. Link them (with G > 0) to a boundary or to a "
+                "connected node")
+
+
+def _input_specs(net, st: Structure, store: ColumnStore):
+    ucols = [store.spec(net.boundaries[b].temperature, f"boundary {b!r}", column_ok=True)
+             for b in st.boundaries]
+    ucols += [store.spec(s.power, f"source {s.name!r} power") for s in net.sources.values()]
+    hcols, ccols = [], []
+    for t in net.thermostats.values():
+        hs = (float("nan") if t.heating_setpoint is None else
+              store.spec(t.heating_setpoint, f"thermostat {t.name!r} heating_setpoint"))
+        cs = (float("nan") if t.cooling_setpoint is None else
+              store.spec(t.cooling_setpoint, f"thermostat {t.name!r} cooling_setpoint"))
+        if t.heating_setpoint is not None and t.cooling_setpoint is not None and np.any(
+                np.asarray(store.value(hs)) > np.asarray(store.value(cs))):
+            raise NetworkError("a thermostat's heating setpoint exceeds its cooling setpoint; "
+                               "keep heating ≤ cooling at every step")
+        hcols.append(hs)
+        ccols.append(cs)
+    bpos = {b: j for j, b in enumerate(st.boundaries)}
+    scols = []
+    for kind, ref in st.signal_refs:
+        if kind == "boundary":
+            scols.append(ucols[bpos[ref]])
+        elif kind == "signal":
+            scols.append(store.series_col(ref.series, f"signal {ref.name!r}"))
+        else:
+            scols.append(store.array_col(ref.values(store.index,
+                                                    pd.Timedelta(seconds=store.step_s))))
+    return ucols, hcols, ccols, scols
+
+
+def compile_values(net, st: Structure, store: ColumnStore) -> Values:
+    """One variant's numbers for a network of structure ``st`` (see the module docstring).
+
+    Parameters
+    ----------
+    net : Network
+        A network whose structure is ``st`` (same names, ends, paths and conditions).
+    st : Structure
+        From :func:`compile_structure` (of this network or one of the same structure).
+    store : ColumnStore
+        Where its time series are stored.
+
+    Raises
+    ------
+    NetworkError
+        Too many states, a node without a path to a boundary in some state, heating setpoint
+        above cooling setpoint.
+    WeatherError, ScheduleError
+        A missing or non-finite weather column, a Series on another index.
+    """
+    before = len(store.cols)
+    nodes = net.nodes
+    C = np.array([nodes[n].capacitance for n in st.free[:st.nc]], dtype=float)
+    links = list(net.links.values())
+    base, uniq, sched = _scheduled_rows(net, st, store, links)
+    n_sched = uniq.shape[0]
+    nsw = st.nsw
+    if n_sched * (1 << nsw) > MAX_STATES:
+        raise NetworkError(f"{n_sched} scheduled link states × 2^{nsw} switch states exceed "
+                           f"{MAX_STATES} cached discretisations; schedule links with fewer "
+                           "distinct values or use fewer switches")
+    lf, sf = _switch_factors(net, st)
+    link_f = _state_products(lf, nsw)                       # (2^nsw, nl)
+    G = np.empty((n_sched * (1 << nsw), st.nl))
+    for si in range(n_sched):
+        g = base.copy()
+        g[st.sched_links] = uniq[si]
+        G[si << nsw:(si + 1) << nsw] = g[None, :] * link_f
+    _check_connected(st, G)
+    ucols, hcols, ccols, scols = _input_specs(net, st, store)
+    th = list(net.thermostats.values())
+    return Values(
+        C=C, G=G, n_sched=n_sched, sched=sched,
+        qh=np.array([t.max_heating_w for t in th], dtype=float),
+        qc=np.array([t.max_cooling_w for t in th], dtype=float),
+        source_factor=np.tile(_state_products(sf, nsw), (n_sched, 1)),
+        sw_init=np.array([s.initial for s in net.switches.values()], dtype=bool),
+        thresholds=np.array([t.threshold for t in condition_terms(net)], dtype=float),
+        initial=[(i, float(nodes[n].initial)) for i, n in enumerate(st.free[:st.nc])
+                 if nodes[n].initial is not None],
+        ucols=ucols, hcols=hcols, ccols=ccols, scols=scols,
+        own_columns=len(store.cols) - before)
+
+
+# ================================================================================ one network
+@dataclass
+class Compiled:
+    """A network compiled on a time axis: its structure, numbers and inputs as arrays (SI)."""
+
+    st: Structure
+    val: Values
+    store: ColumnStore
+    initial: dict = field(default_factory=dict)
+
+    def __getattr__(self, name):
+        # structure fields (free, link_a, ...) read through
+        if name in ("st", "val", "store"):
+            raise AttributeError(name)
+        return getattr(self.st, name)
+
+    @property
+    def C(self):
+        return self.val.C
+
+    @property
+    def G_states(self):
+        return self.val.G
+
+    @property
+    def n_states(self):
+        return self.val.n_states
+
+    @property
+    def n_sched(self):
+        return self.val.n_sched
+
+    @property
+    def qh(self):
+        return self.val.qh
+
+    @property
+    def qc(self):
+        return self.val.qc
+
+    @property
+    def U(self) -> np.ndarray:
+        """(n, nu) raw inputs: boundary temperatures [°C], source powers [W], zeros for P."""
+        if "_U" not in self.__dict__:
+            n = len(self.st.index)
+            U = np.zeros((n, self.st.nu))
+            for j, spec in enumerate(self.val.ucols):
+                U[:, j] = self.store.value(spec)
+            self.__dict__["_U"] = U
+        return self.__dict__["_U"]
+
+    @property
+    def sched_of_step(self) -> np.ndarray:
+        return self.store.array(self.val.sched).astype(np.int64)
+
+    @property
+    def hsp(self) -> np.ndarray:
+        return _stack(self.store, self.val.hcols, len(self.st.index))
+
+    @property
+    def csp(self) -> np.ndarray:
+        return _stack(self.store, self.val.ccols, len(self.st.index))
+
+    @property
+    def signals(self) -> np.ndarray:
+        return _stack(self.store, self.val.scols, len(self.st.index))
+
+    def state_id(self, sched: int, bits: int) -> int:
+        return sched * (1 << self.st.nsw) + bits
+
+
+def _stack(store, specs, n):
+    out = np.empty((n, len(specs)))
+    for j, spec in enumerate(specs):
+        out[:, j] = store.value(spec)
+    return out
+
+
+def compile_network(net, weather: pd.DataFrame, *, step=None) -> Compiled:
+    """Compile ``net`` against the weather (or any frame with a tz-aware regular index).
+
+    Parameters
+    ----------
+    net : Network
+    weather : pandas.DataFrame
+        Tz-aware regular index; the columns the boundaries name.
+    step : str or Timedelta, optional
+        Simulation step (default: the weather's).
+
+    Returns
+    -------
+    Compiled
+    """
+    store = ColumnStore.for_weather(weather, step)
+    st = compile_structure(net, store)
+    val = compile_values(net, st, store)
+    return Compiled(st, val, store,
+                    initial={k: v.initial for k, v in net.nodes.items() if v.initial is not None})

@@ -1,13 +1,36 @@
-"""The sequential stepping loop, as plain numpy and as a numba-compiled twin.
+"""The stepping loop: one compiled kernel on a variant axis, and its plain-numpy reference.
 
-Both functions take the same arrays and return the same numbers (tested). One step ``n``:
+Both step every variant (axis 0) of a group through every row of the inputs and follow the
+same algorithm; they differ in coordinates and in how the arithmetic is organised, so the
+tests compare them on the same networks. One step ``k`` of one variant:
 
-1. switch positions from the end-of-previous-step temperatures and this step's signals;
-2. state ``s`` = scheduled state × switch bits; inputs scaled by switched source factors;
-3. free response ``x⁺ = Φ_s x + Γ_s u``;
-4. thermostats by superposition: controlled temperatures ``T = T₀ + M P``; ``P`` found by
-   projected Gauss–Seidel under the capacity limits (exact in one sweep for one thermostat);
-5. ``x ← x⁺ + Γ_s[:, P] P``.
+1. switch positions from the previous step's end temperatures and this step's signals
+   (each switch turns on when its ``on`` condition holds; with an ``off`` condition it stays
+   on until that holds — hysteresis);
+2. state ``s`` = scheduled state × switch bits; sources are scaled by the state's factors;
+3. free response over the step with the state's exact zero-order-hold step;
+4. thermostats by superposition: the controlled nodes' free end temperatures ``T₀`` and
+   their response ``M`` [K/W] to 1 W held over the step give the powers ``P`` [W] that meet
+   the setpoints at the end of the step, clamped to the capacities (projected Gauss–Seidel,
+   exact in one sweep for one thermostat);
+5. the end state is the free response plus the powers' response.
+
+:func:`step_modal` (numba) works in each state's modal coordinates ``z = Qᵀ C x``, where
+the step is diagonal: ``z⁺ = e^{−λh} ⊙ z + B u`` with ``B = hφ₁(λh) W`` — O(nc·k) per step
+for k varying inputs instead of O(nc²). Inputs that are constant for a variant are folded
+into one vector per state; the temperatures the loop must see (thermostat, condition and
+comfort nodes) are rows ``O_x z + O_u u``; on a change of state the coordinates are mapped
+``z' = Q_{s'}ᵀ C Q_s z``. States whose modal form failed its check (very stiff networks,
+:mod:`thermonet.engine.discretise`) are stepped densely in node coordinates.
+:func:`step_reference` is the plain-numpy reference: node coordinates, the dense matrices
+``x⁺ = Φx + Γu``, one variant and one step at a time.
+
+References
+----------
+.. [1] Franklin, G. F., Powell, J. D., Workman, M. L., Digital Control of Dynamic Systems,
+   3rd ed., Addison-Wesley, 1998, §4.3 (zero-order-hold equivalent of a continuous system).
+.. [2] Cottle, R. W., Pang, J.-S., Stone, R. E., The Linear Complementarity Problem,
+   Academic Press, 1992, §5.2 (projected Gauss–Seidel) — from memory.
 """
 
 from __future__ import annotations
@@ -23,7 +46,22 @@ except ImportError:  # pragma: no cover
 
 
 def eval_condition(cond, terms, term_clause, clause_cond, temps, sig):
-    """True if any clause of condition ``cond`` has all its terms true."""
+    """True if any clause of condition ``cond`` has all its terms true.
+
+    Parameters
+    ----------
+    cond : int
+        Condition id (2·switch + 0 for ``on``, 1 for ``off``).
+    terms : ndarray (n_terms, 6)
+        ``kind_a, idx_a, kind_b, idx_b, op, threshold``; kind 0 reads ``temps``, 1 ``sig``,
+        2 is zero.
+    term_clause, clause_cond : ndarray of int
+        Clause of each term, condition of each clause.
+    temps : ndarray
+        Temperatures [°C] the terms of kind 0 index.
+    sig : ndarray
+        This step's signal values.
+    """
     n_cl = clause_cond.shape[0]
     for c in range(n_cl):
         if clause_cond[c] != cond:
@@ -51,7 +89,21 @@ def eval_condition(cond, terms, term_clause, clause_cond, temps, sig):
 
 
 def control_powers(T0, M, hsp, csp, qh, qc, P):
-    """Projected Gauss–Seidel for thermostat powers ``P`` [W] (in place)."""
+    """Thermostat powers ``P`` [W] (in place) by projected Gauss–Seidel.
+
+    Parameters
+    ----------
+    T0 : ndarray (m,)
+        Controlled nodes' end temperatures without thermostat power [°C].
+    M : ndarray (m, m)
+        End-temperature response to 1 W held over the step [K/W].
+    hsp, csp : ndarray (m,)
+        Heating and cooling setpoints [°C] (NaN = none).
+    qh, qc : ndarray (m,)
+        Heating and cooling capacities [W].
+    P : ndarray (m,)
+        Output: heating (> 0) or cooling (< 0) power [W].
+    """
     m = T0.shape[0]
     for i in range(m):
         P[i] = 0.0
@@ -73,173 +125,291 @@ def control_powers(T0, M, hsp, csp, qh, qc, P):
             break
 
 
-def step_loop(Phi, Gam, Rx, Ru, M, Yx, Yu, x0, U, sched, hsp, csp, qh, qc,
-              SSF, SSF_off, sw_init, has_off, terms, term_clause, clause_cond,
-              signals, nb, X, P_out, S_out, U_out):
-    """Step all rows of ``U``; fills X (end states), P_out, S_out (state ids), U_out.
+def switch_bits(on, has_off, terms, term_clause, clause_cond, temps, sig):
+    """Update switch positions ``on`` (in place) and return their bit pattern."""
+    bits = 0
+    for w in range(on.shape[0]):
+        if on[w] and has_off[w]:
+            on[w] = not eval_condition(2 * w + 1, terms, term_clause, clause_cond, temps, sig)
+        else:
+            on[w] = eval_condition(2 * w, terms, term_clause, clause_cond, temps, sig)
+        if on[w]:
+            bits += 1 << w
+    return bits
 
-    Reference (numpy) implementation. Shapes: Phi (ns, nc, nc), Gam (ns, nc, nu),
-    Rx (ns, m, nc), Ru (ns, m, nu), M (ns, m, m), Yx (ns, na, nc), Yu (ns, na, nu).
+
+def _column(bank, k, col, const):
+    return bank[k, col] if col >= 0 else const
+
+
+def step_modal(a, Ad, dense, BT, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, vj, vcol, bank,
+               z0, x0, s0, obs0, schcol, schconst, hcol, hconst, ccol, cconst, scol, sconst,
+               qh, qc, sw_init, has_off, terms, term_clause, clause_cond, nin, nsw, warm,
+               th_obs, c_obs, thr_h, thr_d, keep, Ztr, Str, Ptr,
+               heat, cool, peak_h, peak_c, hrs, dgh, tstat, zs_sum, us_sum, cnt,
+               x_first, x_last):  # pragma: no cover - compiled
+    """Step every variant over every row of ``bank`` in modal coordinates (see module doc).
+
+    Shapes (V variants, ns states, nc capacitive nodes, nu inputs, m thermostats, nobs
+    observed points, n steps):
+    a (V, ns, nc) e^{−λh}; Ad (V, ns, nc, nc) Φ of dense states; dense (V, ns);
+    BT (V, ns, nu, nc) input operator rows (source factors folded); Qx, Pz (V, ns, nc, nc)
+    with x = Qx z, z = Pz x; Ox (V, ns, nobs, nc), Ou (V, ns, nobs, nu); M (V, ns, m, m);
+    bconst (V, ns, nc), oconst (V, ns, nobs) the constant inputs' part; nvar (V,), vj, vcol
+    (V, k) the varying inputs and their bank columns; z0, x0 (V, nc), s0 (V,), obs0
+    (V, nobs) start; schedules, setpoints and signals as bank column or constant per
+    variant. ``keep``: write Ztr (V, n − warm, nc) end coordinates, Str state ids, Ptr
+    powers; else only the sums over the reported steps ``k ≥ warm``.
     """
-    n = U.shape[0]
-    nc = x0.shape[0]
-    m = hsp.shape[1]
-    nsw = sw_init.shape[0]
-    nsrc = SSF.shape[1]
-    na = Yx.shape[1]
-    x = x0.copy()
-    on = sw_init.copy()
-    temps = np.zeros(nc + na)
-    temps[:nc] = x
-    P = np.zeros(m)
-    u_prev = U[0].copy()
-    if na:
-        temps[nc:] = Yx[0] @ x + Yu[0] @ u_prev
-    pcols = nb + nsrc + np.arange(m)
-    for k in range(n):
-        bits = 0
-        for w in range(nsw):
-            if on[w]:
-                if has_off[w]:
-                    on[w] = not eval_condition(2 * w + 1, terms, term_clause, clause_cond, temps,
-                                           signals[k])
-                else:
-                    on[w] = eval_condition(2 * w, terms, term_clause, clause_cond, temps,
-                                           signals[k])
-            else:
-                on[w] = eval_condition(2 * w, terms, term_clause, clause_cond, temps, signals[k])
-            if on[w]:
-                bits += 1 << w
-        s = sched[k] * (1 << nsw) + bits
-        u = U[k].copy()
-        for w in range(nsw):
-            u[nb:nb + nsrc] *= SSF[w] if on[w] else SSF_off[w]
-        x1 = Phi[s] @ x + Gam[s] @ u
-        if m:
-            T0 = Rx[s] @ x1 + Ru[s] @ u
-            control_powers(T0, M[s], hsp[k], csp[k], qh, qc, P)
-            x1 = x1 + Gam[s][:, pcols] @ P
-            u[pcols] = P
-            P_out[k] = P
-        x = x1
-        X[k] = x
-        S_out[k] = s
-        U_out[k] = u
-        if nsw:
-            temps[:nc] = x
-            if na:
-                temps[nc:] = Yx[s] @ x + Yu[s] @ u
-
-
-def _modal_recursion_py(a, B, z0):
-    """``Z[k] = a ⊙ Z[k−1] + B[k]`` with ``Z[−1] = z0`` (reference implementation)."""
-    Z = np.empty_like(B)
-    z = z0.copy()
-    for k in range(B.shape[0]):
-        z = a * z + B[k]
-        Z[k] = z
-    return Z
-
-
-if HAVE_NUMBA:
-    modal_recursion = numba.njit(cache=True)(_modal_recursion_py)
-else:  # pragma: no cover
-    modal_recursion = _modal_recursion_py
-
-
-if HAVE_NUMBA:
-    _eval_cond_nb = numba.njit(cache=True)(eval_condition)
-    _control_nb = numba.njit(cache=True)(control_powers)
-
-    @numba.njit(cache=True)
-    def _mv(A, x):
-        out = np.zeros(A.shape[0])
-        for i in range(A.shape[0]):
-            acc = 0.0
-            for j in range(A.shape[1]):
-                acc += A[i, j] * x[j]
-            out[i] = acc
-        return out
-
-    @numba.njit(cache=True)
-    def step_loop_numba(Phi, Gam, Rx, Ru, M, Yx, Yu, x0, U, sched, hsp, csp, qh, qc,
-                        SSF, SSF_off, sw_init, has_off, terms, term_clause, clause_cond,
-                        signals, nb, X, P_out, S_out, U_out):  # pragma: no cover - compiled
-        n = U.shape[0]
-        nc = x0.shape[0]
-        m = hsp.shape[1]
-        nsw = sw_init.shape[0]
-        nsrc = SSF.shape[1]
-        na = Yx.shape[1]
-        nu = U.shape[1]
-        x = x0.copy()
-        on = sw_init.copy()
-        temps = np.zeros(nc + na)
-        temps[:nc] = x
-        P = np.zeros(m)
-        if na:
-            y = _mv(Yx[0], x) + _mv(Yu[0], U[0])
-            temps[nc:] = y
-        x1 = np.zeros(nc)
+    V = z0.shape[0]
+    n = bank.shape[0]
+    nc = z0.shape[1]
+    nu = BT.shape[2]
+    m = M.shape[2]
+    nobs = Ox.shape[2]
+    nsig = scol.shape[1]
+    nth = thr_h.shape[0]
+    ndh = thr_d.shape[0]
+    for v in numba.prange(V):
+        z = z0[v].copy()
+        z1 = np.zeros(nc)
+        xt = np.zeros(nc)
         u = np.zeros(nu)
+        on = sw_init[v].copy()
+        obs = obs0[v].copy()
+        sig = np.zeros(nsig)
+        hs = np.zeros(m)
+        cs = np.zeros(m)
         T0 = np.zeros(m)
+        P = np.zeros(m)
+        sp = s0[v]
+        tmax = -np.inf
+        tmin = np.inf
+        tsum = 0.0
         for k in range(n):
             bits = 0
-            for w in range(nsw):
-                if on[w]:
-                    if has_off[w]:
-                        on[w] = not _eval_cond_nb(2 * w + 1, terms, term_clause, clause_cond,
-                                                  temps, signals[k])
-                    else:
-                        on[w] = _eval_cond_nb(2 * w, terms, term_clause, clause_cond, temps,
-                                              signals[k])
+            if nsw > 0:
+                for j in range(nsig):
+                    sig[j] = _column_nb(bank, k, scol[v, j], sconst[v, j])
+                bits = switch_bits_nb(on, has_off, terms[v], term_clause, clause_cond, obs, sig)
+            s = int(_column_nb(bank, k, schcol[v], schconst[v])) * (1 << nsw) + bits
+            if k == warm:
+                if k == 0:
+                    for i in range(nc):
+                        x_first[v, i] = x0[v, i]
                 else:
-                    on[w] = _eval_cond_nb(2 * w, terms, term_clause, clause_cond, temps,
-                                          signals[k])
-                if on[w]:
-                    bits += 1 << w
-            s = sched[k] * (1 << nsw) + bits
-            for j in range(nu):
-                u[j] = U[k, j]
-            for w in range(nsw):
-                for j in range(nsrc):
-                    u[nb + j] *= SSF[w, j] if on[w] else SSF_off[w, j]
-            Ph = Phi[s]
-            Ga = Gam[s]
-            for i in range(nc):
-                acc = 0.0
-                for j in range(nc):
-                    acc += Ph[i, j] * x[j]
-                for j in range(nu):
-                    acc += Ga[i, j] * u[j]
-                x1[i] = acc
-            if m:
-                for i in range(m):
+                    for i in range(nc):
+                        acc = 0.0
+                        for j in range(nc):
+                            acc += Qx[v, sp, i, j] * z[j]
+                        x_first[v, i] = acc
+            if s != sp:   # new coordinates: z' = Pz[s] Qx[sp] z
+                for i in range(nc):
                     acc = 0.0
                     for j in range(nc):
-                        acc += Rx[s, i, j] * x1[j]
-                    for j in range(nu):
-                        acc += Ru[s, i, j] * u[j]
-                    T0[i] = acc
-                _control_nb(T0, M[s], hsp[k], csp[k], qh, qc, P)
-                for j in range(m):
-                    c = nb + nsrc + j
-                    for i in range(nc):
-                        x1[i] += Ga[i, c] * P[j]
-                    u[c] = P[j]
-                    P_out[k, j] = P[j]
-            for i in range(nc):
-                x[i] = x1[i]
-                X[k, i] = x1[i]
-            S_out[k] = s
-            for j in range(nu):
-                U_out[k, j] = u[j]
-            if nsw:
+                        acc += Qx[v, sp, i, j] * z[j]
+                    xt[i] = acc
                 for i in range(nc):
-                    temps[i] = x[i]
-                if na:
-                    y = _mv(Yx[s], x) + _mv(Yu[s], u)
-                    for i in range(na):
-                        temps[nc + i] = y[i]
+                    acc = 0.0
+                    for j in range(nc):
+                        acc += Pz[v, s, i, j] * xt[j]
+                    z[i] = acc
+            # free response
+            for j in range(nvar[v]):
+                u[vj[v, j]] = bank[k, vcol[v, j]]
+            if dense[v, s]:
+                for i in range(nc):
+                    acc = bconst[v, s, i]
+                    for j in range(nc):
+                        acc += Ad[v, s, i, j] * z[j]
+                    z1[i] = acc
+            else:
+                for i in range(nc):
+                    z1[i] = a[v, s, i] * z[i] + bconst[v, s, i]
+            for q in range(nvar[v]):
+                j = vj[v, q]
+                uj = u[j]
+                for i in range(nc):
+                    z1[i] += BT[v, s, j, i] * uj
+            # thermostats
+            if m > 0:
+                for r in range(m):
+                    o = th_obs[r]
+                    acc = oconst[v, s, o]
+                    for i in range(nc):
+                        acc += Ox[v, s, o, i] * z1[i]
+                    for q in range(nvar[v]):
+                        acc += Ou[v, s, o, vj[v, q]] * u[vj[v, q]]
+                    T0[r] = acc
+                    hs[r] = _column_nb(bank, k, hcol[v, r], hconst[v, r])
+                    cs[r] = _column_nb(bank, k, ccol[v, r], cconst[v, r])
+                control_powers_nb(T0, M[v, s], hs, cs, qh[v], qc[v], P)
+                for r in range(m):
+                    pr = P[r]
+                    u[nin + r] = pr
+                    for i in range(nc):
+                        z1[i] += BT[v, s, nin + r, i] * pr
+            # observed temperatures at the end of the step
+            for o in range(nobs):
+                acc = oconst[v, s, o]
+                for i in range(nc):
+                    acc += Ox[v, s, o, i] * z1[i]
+                for q in range(nvar[v]):
+                    acc += Ou[v, s, o, vj[v, q]] * u[vj[v, q]]
+                for r in range(m):
+                    acc += Ou[v, s, o, nin + r] * u[nin + r]
+                obs[o] = acc
+            if k >= warm:
+                kk = k - warm
+                if keep:
+                    for i in range(nc):
+                        Ztr[v, kk, i] = z1[i]
+                    Str[v, kk] = s
+                    for r in range(m):
+                        Ptr[v, kk, r] = P[r]
+                else:
+                    for i in range(nc):
+                        zs_sum[v, s, i] += z[i]
+                    for q in range(nvar[v]):
+                        us_sum[v, s, vj[v, q]] += u[vj[v, q]]
+                    for r in range(m):
+                        us_sum[v, s, nin + r] += u[nin + r]
+                    cnt[v, s] += 1.0
+                    th_ = 0.0
+                    tc_ = 0.0
+                    for r in range(m):
+                        if P[r] > 0.0:
+                            heat[v, r] += P[r]
+                            th_ += P[r]
+                        elif P[r] < 0.0:
+                            cool[v, r] -= P[r]
+                            tc_ -= P[r]
+                    if th_ > peak_h[v]:
+                        peak_h[v] = th_
+                    if tc_ > peak_c[v]:
+                        peak_c[v] = tc_
+                    if c_obs >= 0:
+                        t = obs[c_obs]
+                        for q in range(nth):
+                            if t > thr_h[q]:
+                                hrs[v, q] += 1.0
+                        for q in range(ndh):
+                            if t > thr_d[q]:
+                                dgh[v, q] += t - thr_d[q]
+                        tmax = max(tmax, t)
+                        tmin = min(tmin, t)
+                        tsum += t
+            for i in range(nc):
+                z[i] = z1[i]
+            sp = s
+        for i in range(nc):
+            acc = 0.0
+            for j in range(nc):
+                acc += Qx[v, sp, i, j] * z[j]
+            x_last[v, i] = acc
+        tstat[v, 0] = tmax
+        tstat[v, 1] = tmin
+        tstat[v, 2] = tsum
+
+
+def step_reference(mats, Rx, Ru, Yx, Yu, factor, x0, s0, U, sched, hsp, csp, signals, qh, qc,
+                   sw_init, has_off, terms, term_clause, clause_cond, nb, nsrc, warm):
+    """Plain-numpy reference of the stepping loop, in node coordinates, one variant.
+
+    Parameters
+    ----------
+    mats : dict
+        State id → (Φ, Γ) dense step matrices.
+    Rx, Ru, Yx, Yu : dict
+        State id → thermostat rows (m × nc, m × nu) and massless-node maps.
+    factor : ndarray (ns, nsrc)
+        Source factor per state.
+    x0 : ndarray (nc,)
+        Start state [°C]; ``s0`` its state id (unused but for symmetry with the kernel).
+    U : ndarray (n, nu)
+        Raw inputs per step (thermostat columns ignored).
+    sched : ndarray (n,) of int
+        Scheduled-state id per step.
+    hsp, csp : ndarray (n, m)
+        Setpoints [°C] (NaN = none).
+    signals : ndarray (n, nsig)
+    qh, qc : ndarray (m,)
+        Capacities [W].
+    sw_init, has_off, terms, term_clause, clause_cond
+        Switches and their conditions (terms index free nodes).
+    nb, nsrc : int
+        Numbers of boundaries and sources.
+    warm : int
+        Steps before the reported ones.
+
+    Returns
+    -------
+    X : ndarray (n − warm, nc)
+        End-of-step capacitive temperatures [°C].
+    S : ndarray (n − warm,)
+        State ids.
+    P : ndarray (n − warm, m)
+        Thermostat powers [W].
+    x_first : ndarray (nc,)
+        Start state of the first reported step [°C].
+    """
+    n = U.shape[0]
+    m = hsp.shape[1]
+    nsw = sw_init.shape[0]
+    nc = x0.shape[0]
+    pcols = nb + nsrc + np.arange(m)
+    x = x0.copy()
+    on = sw_init.copy()
+    u0 = U[0].copy()
+    u0[pcols] = 0.0
+    temps = np.concatenate([x, Yx[0] @ x + Yu[0] @ u0])
+    X = np.zeros((n, nc))
+    S = np.zeros(n, dtype=np.int64)
+    Pout = np.zeros((n, m))
+    P = np.zeros(m)
+    x_first = x0.copy()
+    for k in range(n):
+        if k == warm:
+            x_first = x.copy()
+        bits = switch_bits(on, has_off, terms, term_clause, clause_cond, temps, signals[k])
+        s = int(sched[k]) * (1 << nsw) + bits
+        u = U[k].copy()
+        u[pcols] = 0.0
+        u[nb:nb + nsrc] *= factor[s]
+        Phi, Gam = mats[s]
+        x1 = Phi @ x + Gam @ u
+        if m:
+            control_powers(Rx[s] @ x1 + Ru[s] @ u, Rx[s] @ Gam[:, pcols] + Ru[s][:, pcols],
+                           hsp[k], csp[k], qh, qc, P)
+            x1 = x1 + Gam[:, pcols] @ P
+            u[pcols] = P
+            Pout[k] = P
+        x = x1
+        X[k] = x
+        S[k] = s
+        temps = np.concatenate([x, Yx[s] @ x + Yu[s] @ u])
+    return X[warm:], S[warm:], Pout[warm:], x_first
+
+
+if HAVE_NUMBA:
+    _column_nb = numba.njit(cache=True, inline="always")(_column)
+    eval_condition_nb = numba.njit(cache=True)(eval_condition)
+    control_powers_nb = numba.njit(cache=True)(control_powers)
+
+    @numba.njit(cache=True)
+    def switch_bits_nb(on, has_off, terms, term_clause, clause_cond, temps, sig
+                       ):  # pragma: no cover - compiled
+        bits = 0
+        for w in range(on.shape[0]):
+            if on[w] and has_off[w]:
+                on[w] = not eval_condition_nb(2 * w + 1, terms, term_clause, clause_cond,
+                                              temps, sig)
+            else:
+                on[w] = eval_condition_nb(2 * w, terms, term_clause, clause_cond, temps, sig)
+            if on[w]:
+                bits += 1 << w
+        return bits
+
+    step_modal_nb = numba.njit(parallel=True, cache=True, nogil=True)(step_modal)
 else:  # pragma: no cover
-    step_loop_numba = None
+    step_modal_nb = None

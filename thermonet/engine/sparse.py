@@ -52,7 +52,10 @@ from thermonet.engine.banded import (
     solve_band_many,
     to_band,
 )
-from thermonet.engine.compile import Compiled, input_matrix
+from thermonet.engine.compile import Compiled
+from thermonet.engine.discretise import input_matrix, laplacian_sparse
+from thermonet.engine.start import apply_initial, steady_start
+from thermonet.engine.trajectory import NodeTrajectory
 from thermonet.errors import AccuracyWarning, NetworkError
 
 #: Largest bandwidth (after reverse Cuthill–McKee) for the banded LDLᵀ path; beyond it SuperLU.
@@ -136,23 +139,12 @@ def degree_for(tol: float) -> int:
     return DEGREES[-1]
 
 
-def laplacian_sparse(comp: Compiled, g: np.ndarray):
-    """Sparse ``L_ff`` (CSC) and dense-column ``L_fb`` of the free nodes for conductances g."""
-    nf, nb = comp.nf, comp.nb
-    a, b = comp.link_a, comp.link_b
-    rows = np.concatenate([a, b, a, b])
-    cols = np.concatenate([a, b, b, a])
-    vals = np.concatenate([g, g, -g, -g])
-    L = sp.coo_matrix((vals, (rows, cols)), shape=(nf + nb, nf + nb)).tocsc()
-    return L[:nf, :nf].tocsc(), L[:nf, nf:].toarray()
-
-
 class SparseState:
     """Factorisations for one state: L (real) and z_k C + hL (complex), per pole."""
 
     def __init__(self, comp: Compiled, g: np.ndarray, degree: int):
-        self.Lff, Lfb = laplacian_sparse(comp, g)
-        self.E = sp.csr_matrix(input_matrix(comp, Lfb))
+        self.Lff, Lfb = laplacian_sparse(comp.st, g)
+        self.E = sp.csr_matrix(input_matrix(comp.st, Lfb))
         self.c_full = np.zeros(comp.nf)
         self.c_full[:comp.nc] = comp.C
         Cm = sp.diags(self.c_full)
@@ -246,10 +238,72 @@ def _free_run_banded(st: SparseState, U: np.ndarray, T0: np.ndarray, h: float):
                            np.ascontiguousarray(T0[perm]), perm.astype(np.int64), h)
 
 
-def run_sparse(comp: Compiled, warmup_steps: int, tol: float = 1e-7):
-    """Step a large network with :class:`SparseState`; returns (Trajectory, info)."""
-    from thermonet.engine.simulate import Trajectory
+def _start(comp: Compiled, st0: SparseState, u0, hsp0, csp0) -> np.ndarray:
+    """Steady start of the sparse method (thermostats acting), then ``initial=`` values."""
+    Rx = np.zeros((comp.m, comp.nf))
+    Rx[np.arange(comp.m), comp.thermostat_node] = 1.0
+    Ru = np.zeros((comp.m, comp.nu))
+    T = steady_start(comp.st, lambda r: st0.solve_many(np.asarray(r).reshape(comp.nf, -1)
+                                                       ).reshape(np.shape(r)),
+                     st0.E, Rx, Ru, u0, hsp0, csp0, comp.qh, comp.qc)
+    return apply_initial(T, [(i, comp.initial[nm]) for i, nm in enumerate(comp.free[:comp.nc])
+                             if nm in comp.initial])
 
+
+def _responses(comp: Compiled, states: dict) -> dict:
+    """Per state: end-of-step response of every free node to 1 W at each thermostat [K/W]."""
+    m, nf = comp.m, comp.nf
+    pcols = comp.nb + comp.nsrc + np.arange(m)
+    resp = {}
+    for s, st in states.items():
+        R = np.zeros((nf, m))
+        for j in range(m):
+            xe = st.equilibrium(st.E[:, [pcols[j]]].toarray().ravel())
+            R[:, j] = xe - st.expm_apply(xe)
+        if m and (R[comp.thermostat_node, np.arange(m)] <= 0).any():
+            raise NetworkError("a thermostat node does not respond to heating within a step")
+        resp[s] = R
+    return resp
+
+
+def _march(comp, states, resp, T, U, sched, hsp, csp, sig):
+    """The general sparse loop (switches, thermostats): end temperatures, inputs, states."""
+    m, nb, nsrc, nf, nsw = comp.m, comp.nb, comp.nsrc, comp.nf, comp.nsw
+    pcols = nb + nsrc + np.arange(m)
+    n = U.shape[0]
+    factor = comp.val.source_factor
+    terms = comp.terms.copy()
+    terms[:, 5] = comp.val.thresholds
+    on = comp.val.sw_init.copy()
+    Tend = np.zeros((n, nf))
+    Ue = np.zeros((n, comp.nu))
+    S = np.zeros(n, dtype=np.int64)
+    P = np.zeros(m)
+    for k in range(n):
+        bits = kernels.switch_bits(on, comp.has_off, terms, comp.term_clause, comp.clause_cond,
+                                   T, sig[k]) if nsw else 0
+        s = comp.state_id(int(sched[k]), bits)
+        st = states[s]
+        u = U[k].copy()
+        u[nb:nb + nsrc] *= factor[s]
+        u[pcols] = 0.0
+        xe = st.equilibrium(st.E @ u)
+        T1 = xe + st.expm_apply(T - xe)
+        if m:
+            R = resp[s]
+            kernels.control_powers(T1[comp.thermostat_node], R[comp.thermostat_node], hsp[k],
+                                   csp[k], comp.qh, comp.qc, P)
+            T1 = T1 + R @ P
+            u[pcols] = P
+        Tend[k] = T1
+        Ue[k] = u
+        S[k] = s
+        T = T1
+    return Tend, Ue, S
+
+
+def run_sparse(comp: Compiled, warmup_steps: int, tol: float = 1e-7) -> NodeTrajectory:
+    """Step a large network with :class:`SparseState`; returns its trajectory."""
     t0 = time.perf_counter()
     # The error bound holds for the eigenvalues; in node temperatures it is amplified by at
     # most cond(C^{1/2}) = sqrt(C_max/C_min) (the modes are C-orthogonal).
@@ -260,93 +314,28 @@ def run_sparse(comp: Compiled, warmup_steps: int, tol: float = 1e-7):
         warnings.warn(f"method='sparse' cannot meet sparse_tol={tol:g}: with capacitances "
                       f"spanning {comp.C.min():.3g} … {comp.C.max():.3g} J/K its error bound is "
                       f"{bound:.2g}; make nodes of tiny capacitance massless "
-                      "(capacitance=0) or use method='exact'", AccuracyWarning, stacklevel=3)
-    nsw = len(comp.switch_names)
-    needed = sorted({comp.state_id(s, b) for s in range(comp.n_sched) for b in range(1 << nsw)})
-    states = {s: SparseState(comp, comp.G_states[s], degree) for s in needed}
-    t_factor = time.perf_counter() - t0
-    m, nb, nsrc, nf = comp.m, comp.nb, comp.nsrc, comp.nf
-    pcols = nb + nsrc + np.arange(m)
-    # unit responses of thermostat power, per state
-    resp = {}
-    for s, st in states.items():
-        R = np.zeros((nf, m))
-        for j in range(m):
-            xe = st.equilibrium(st.E[:, [pcols[j]]].toarray().ravel())
-            R[:, j] = xe - st.expm_apply(xe)
-        if m and (R[comp.thermostat_node, np.arange(m)] <= 0).any():
-            raise NetworkError("a thermostat node does not respond to heating within a step")
-        resp[s] = R
+                      "(capacitance=0) or use method='exact'", AccuracyWarning, stacklevel=4)
+    states = {s: SparseState(comp, comp.G_states[s], degree) for s in range(comp.n_states)}
+    info = {"rational_degree": degree, "exp_error_bound": bound,
+            "factor_seconds": time.perf_counter() - t0}
+    resp = _responses(comp, states)
     w = warmup_steps
     cat = (lambda a: np.concatenate([a[:w], a], axis=0)) if w else (lambda a: a)
     U, sched, hsp, csp, sig = (cat(comp.U), cat(comp.sched_of_step), cat(comp.hsp),
                                cat(comp.csp), cat(comp.signals))
     n = U.shape[0]
-    on = comp.switch_initial.copy()
-    bits = sum(1 << k for k, v in enumerate(on) if v)
-    s = comp.state_id(int(sched[0]), bits)
-    u0 = U[0].copy()
-    u0[pcols] = 0.0
-    st0 = states[s]
-    T = st0.equilibrium(st0.E @ u0)
-    if m and not (np.isnan(hsp[0]).all() and np.isnan(csp[0]).all()):
-        # start warm: thermostats act in the steady state (as solvers.steady_start)
-        Xp = np.column_stack([st0.equilibrium(st0.E[:, [c]].toarray().ravel()) for c in pcols])
-        P0 = np.zeros(m)
-        kernels.control_powers(T[comp.thermostat_node], Xp[comp.thermostat_node], hsp[0], csp[0],
-                         comp.qh, comp.qc, P0)
-        T = T + Xp @ P0
-    for i, name in enumerate(comp.free[:comp.nc]):
-        if name in comp.initial:
-            T[i] = comp.initial[name]
-    if nsw == 0 and m == 0 and len(states) == 1 and st0.banded:
+    bits = sum(1 << k for k, v in enumerate(comp.val.sw_init) if v)
+    st0 = states[comp.state_id(int(sched[0]), bits)]
+    T = _start(comp, st0, U[0], hsp[0], csp[0])
+    if comp.nsw == 0 and comp.m == 0 and len(states) == 1 and st0.banded:
         Tall, Tmean = _free_run_banded(st0, U, T, comp.step_s)
-        w = warmup_steps
-        nc = comp.nc
-        traj = Trajectory(Tall[w + 1:, :nc], Tall[w:-1, :nc], U[w:],
-                          np.zeros(n - w, dtype=np.int64), discrete={})
-        traj.free_end = Tall[w + 1:]
-        traj.free_mean = Tmean[w:]
-        return traj, {"rational_degree": degree, "exp_error_bound": bound,
-                      "factor_seconds": t_factor}
-    Tend = np.zeros((n, nf))
-    Tstart = np.zeros((n, nf))
-    Ue = np.zeros((n, comp.nu))
-    S = np.zeros(n, dtype=np.int64)
-    P = np.zeros(m)
-    for k in range(n):
-        if nsw:
-            bits = 0
-            for q in range(nsw):
-                if on[q] and comp.has_off[q]:
-                    on[q] = not kernels.eval_condition(2 * q + 1, comp.terms, comp.term_clause,
-                                                   comp.clause_cond, T, sig[k])
-                else:
-                    on[q] = kernels.eval_condition(2 * q, comp.terms, comp.term_clause,
-                                               comp.clause_cond, T, sig[k])
-                bits += (1 << q) if on[q] else 0
-        s = comp.state_id(int(sched[k]), bits)
-        st = states[s]
-        u = U[k].copy()
-        for q in range(nsw):
-            u[nb:nb + nsrc] *= (comp.switch_source_factor[q] if on[q]
-                                else comp.switch_source_factor_off[q])
-        u[pcols] = 0.0
-        xe = st.equilibrium(st.E @ u)
-        T1 = xe + st.expm_apply(T - xe)
-        if m:
-            R = resp[s]
-            T0 = T1[comp.thermostat_node]
-            M = R[comp.thermostat_node]
-            kernels.control_powers(T0, M, hsp[k], csp[k], comp.qh, comp.qc, P)
-            T1 = T1 + R @ P
-            u[pcols] = P
-        Tstart[k] = T
-        Tend[k] = T1
-        Ue[k] = u
-        S[k] = s
-        T = T1
-    Tend, Tstart, Ue, S = Tend[w:], Tstart[w:], Ue[w:], S[w:]
+        return NodeTrajectory(Tall[w + 1:], Tmean[w:], Tall[w, :comp.nc],
+                              np.zeros(n - w, dtype=np.int64), U[w:], comp.G_states, comp.nc,
+                              info)
+    Tend, Ue, S = _march(comp, states, resp, T, U, sched, hsp, csp, sig)
+    t_first = (Tend[w - 1] if w else T).copy()
+    Tend, Ue, S = Tend[w:], Ue[w:], S[w:]
+    Tstart = np.vstack([t_first[None, :], Tend[:-1]])
     Tmean = np.empty_like(Tend)
     h = comp.step_s
     for s in np.unique(S):
@@ -354,10 +343,4 @@ def run_sparse(comp: Compiled, warmup_steps: int, tol: float = 1e-7):
         st = states[int(s)]
         rhs = (st.E @ Ue[rows].T).T - (Tend[rows] - Tstart[rows]) * st.c_full / h
         Tmean[rows] = st.solve_many(np.ascontiguousarray(rhs.T)).T
-    nc = comp.nc
-    traj = Trajectory(Tend[:, :nc], Tstart[:, :nc], Ue, S, discrete={})
-    traj.free_end = Tend
-    traj.free_mean = Tmean
-    info = {"rational_degree": degree, "exp_error_bound": bound,
-            "factor_seconds": t_factor}
-    return traj, info
+    return NodeTrajectory(Tend, Tmean, t_first[:comp.nc], S, Ue, comp.G_states, comp.nc, info)

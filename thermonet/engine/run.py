@@ -1,0 +1,451 @@
+"""Run a group of variants of one structure through the stepping kernel.
+
+The one path from compiled numbers to stepped states, for a single simulation (one variant,
+hourly traces kept) and for a batch (many variants, sums over the reported period):
+
+1. :class:`Bank` — the inputs of the group: every time series once (warm-up rows first, the
+   first ``warm`` rows repeated), constants as numbers per variant;
+2. :func:`discretise` — exact steps of every variant and state;
+3. :func:`start_states` — the steady start of every variant, thermostats acting;
+4. :func:`operators` — the kernel's arrays (modal coordinates, folded constants, observed
+   rows);
+5. :func:`step_group` — the compiled kernel, or the numpy reference
+   (:func:`thermonet.engine.kernels.step_reference`).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from thermonet.engine import kernels
+from thermonet.engine.discretise import Discretised, discretise, phi1
+from thermonet.engine.start import apply_initial, steady_start, thermostat_rows
+from thermonet.errors import NetworkError
+
+KERNELS = ("auto", "numba", "numpy")
+
+
+# ===================================================================================== bank
+@dataclass
+class Bank:
+    """Input columns of a group on the warm-up-extended time axis (see the module docstring).
+
+    ``col`` arrays hold a column of ``data`` per variant and input (−1: the constant in the
+    matching ``const`` array is used).
+    """
+
+    data: np.ndarray
+    ucol: np.ndarray
+    uconst: np.ndarray
+    hcol: np.ndarray
+    hconst: np.ndarray
+    ccol: np.ndarray
+    cconst: np.ndarray
+    scol: np.ndarray
+    sconst: np.ndarray
+    schcol: np.ndarray
+    schconst: np.ndarray
+
+    def first(self, cols: np.ndarray, const: np.ndarray) -> np.ndarray:
+        """Values of the first row for (V, k) column specs."""
+        return np.where(cols >= 0, self.data[0, np.maximum(cols, 0)], const)
+
+    def column_sums(self, warm: int) -> np.ndarray:
+        """Sum of each data column over the reported rows."""
+        return self.data[warm:].sum(axis=0)
+
+
+def _columns(specs_per_variant, k, index_of):
+    V = len(specs_per_variant)
+    cols = np.full((V, k), -1, dtype=np.int64)
+    const = np.zeros((V, k))
+    for v, specs in enumerate(specs_per_variant):
+        for j, spec in enumerate(specs):
+            if isinstance(spec, float):
+                const[v, j] = spec
+            else:
+                cols[v, j] = index_of(spec)
+    return cols, const
+
+
+def make_bank(st, vals: list, store, warm: int) -> Bank:
+    """Stack the group's time series once (see :class:`Bank`)."""
+    keys: dict = {}
+
+    def index_of(spec):
+        if spec not in keys:
+            keys[spec] = len(keys)
+        return keys[spec]
+
+    nin = st.nb + st.nsrc
+    ucol, uconst = _columns([p.ucols for p in vals], nin, index_of)
+    hcol, hconst = _columns([p.hcols for p in vals], st.m, index_of)
+    ccol, cconst = _columns([p.ccols for p in vals], st.m, index_of)
+    scol, sconst = _columns([p.scols for p in vals], len(st.signal_refs), index_of)
+    schcol, schconst = _columns([[p.sched] for p in vals], 1, index_of)
+    n = len(store.index)
+    data = np.empty((warm + n, max(len(keys), 1)))
+    for key, j in keys.items():
+        col = store.cols[key]
+        data[warm:, j] = col
+        data[:warm, j] = col[:warm]
+    return Bank(data, ucol, uconst, hcol, hconst, ccol, cconst, scol, sconst, schcol[:, 0],
+                schconst[:, 0])
+
+
+# ==================================================================================== start
+def input_factors(st, vals: list) -> np.ndarray:
+    """(V, ns, nu) factor on each input in each state (sources: the switches' factors)."""
+    F = np.ones((len(vals), vals[0].n_states, st.nu))
+    for v, p in enumerate(vals):
+        F[v, :, st.nb:st.nb + st.nsrc] = p.source_factor
+    return F
+
+
+def start_states(st, vals: list, disc: Discretised, bank: Bank, ok: np.ndarray):
+    """Start state ``x0`` (V, nc) [°C], its state id ``s0`` (V,) and raw first inputs ``u0``."""
+    V, nc, nsw = len(vals), st.nc, st.nsw
+    sw = np.array([p.sw_init for p in vals], dtype=bool).reshape(V, nsw)
+    bits0 = (sw * (1 << np.arange(nsw))[None, :]).sum(axis=1).astype(np.int64)
+    sched0 = np.where(bank.schcol >= 0, bank.data[0, np.maximum(bank.schcol, 0)],
+                      bank.schconst)
+    s0 = sched0.astype(np.int64) * (1 << nsw) + bits0
+    u0 = np.zeros((V, st.nu))
+    u0[:, :st.nb + st.nsrc] = bank.first(bank.ucol, bank.uconst)
+    hsp0 = bank.first(bank.hcol, bank.hconst)
+    csp0 = bank.first(bank.ccol, bank.cconst)
+    x0 = np.zeros((V, nc))
+    if not nc:
+        return x0, s0, u0
+    Rx, Ru = thermostat_rows(st, disc.Yx, disc.Yu)
+    for v in np.flatnonzero(ok):
+        s = s0[v]
+        K = disc.K[v, s]
+        x0[v] = steady_start(st, lambda r, K=K: np.linalg.solve(K, r), disc.E[v, s],
+                             Rx[v, s], Ru[v, s], u0[v], hsp0[v], csp0[v], vals[v].qh,
+                             vals[v].qc)
+        apply_initial(x0[v], vals[v].initial)
+    return x0, s0, u0
+
+
+# ================================================================================ operators
+@dataclass
+class Operators:
+    """Arrays of :func:`thermonet.engine.kernels.step_modal` (see its docstring)."""
+
+    a: np.ndarray
+    Ad: np.ndarray
+    dense: np.ndarray
+    BT: np.ndarray
+    Qx: np.ndarray
+    Pz: np.ndarray
+    Ox: np.ndarray
+    Ou: np.ndarray
+    M: np.ndarray
+    bconst: np.ndarray
+    oconst: np.ndarray
+    nvar: np.ndarray
+    vj: np.ndarray
+    vcol: np.ndarray
+    obs_nodes: list
+
+
+def observed_nodes(st, comfort: int | None) -> tuple[list, np.ndarray, int]:
+    """Free nodes the loop observes: thermostat nodes, condition nodes, the comfort node.
+
+    Returns the node list, the terms remapped to observed positions, and the comfort
+    node's position (−1: none).
+    """
+    nodes = [int(i) for i in st.thermostat_node]
+    terms = st.terms.copy()
+    for t in range(terms.shape[0]):
+        for kcol, icol in ((0, 1), (2, 3)):
+            if terms[t, kcol] == 0:
+                i = int(terms[t, icol])
+                if i not in nodes[st.m:]:
+                    nodes.append(i)
+                terms[t, icol] = st.m + nodes[st.m:].index(i)
+    c = -1
+    if comfort is not None:
+        nodes.append(int(comfort))
+        c = len(nodes) - 1
+    return nodes, terms, c
+
+
+def _node_rows(st, disc: Discretised, F: np.ndarray, Qx: np.ndarray, nodes: list):
+    """Observed rows ``Ox`` (V, ns, nobs, nc), ``Ou`` (V, ns, nobs, nu) of free nodes."""
+    V, ns = disc.K.shape[:2]
+    nc = st.nc
+    Ox = np.zeros((V, ns, len(nodes), nc))
+    Ou = np.zeros((V, ns, len(nodes), st.nu))
+    for o, i in enumerate(nodes):
+        if i < nc:
+            Ox[:, :, o, :] = Qx[:, :, i, :]
+        else:
+            Ox[:, :, o, :] = np.einsum("vsj,vsji->vsi", disc.Yx[:, :, i - nc, :], Qx)
+            Ou[:, :, o, :] = disc.Yu[:, :, i - nc, :] * F
+    return Ox, Ou
+
+
+def operators(st, disc: Discretised, F: np.ndarray, bank: Bank, nodes: list) -> Operators:
+    """The kernel's arrays for every variant and state (see the module docstring)."""
+    V, ns = disc.K.shape[:2]
+    nc, m, h = st.nc, st.m, disc.h
+    nin = st.nb + st.nsrc
+    x = disc.lam * h
+    a = np.exp(-x)
+    BT = np.swapaxes(disc.W, -1, -2) * (h * phi1(x))[:, :, None, :] * F[..., None]
+    Qx = disc.Q.copy()
+    Pz = np.swapaxes(disc.Q, -1, -2) * disc.C[:, None, None, :]
+    anyd = bool(disc.dense.any())
+    Ad = np.zeros((V, ns, nc, nc) if anyd else (V, ns, 0, 0))
+    for (v, s), (Phi, Gam, _, _) in disc.dense_mats.items():
+        Ad[v, s] = Phi
+        BT[v, s] = (Gam * F[v, s][None, :]).T
+        Qx[v, s] = np.eye(nc)
+        Pz[v, s] = np.eye(nc)
+    Ox, Ou = _node_rows(st, disc, F, Qx, nodes)
+    pcols = nin + np.arange(m)
+    M = (Ox[:, :, :m, :] @ np.swapaxes(BT[:, :, pcols, :], -1, -2) + Ou[:, :, :m][..., pcols])
+    const = np.where(bank.ucol >= 0, 0.0, bank.uconst)                       # (V, nin)
+    bconst = np.einsum("vsji,vj->vsi", BT[:, :, :nin, :], const)
+    oconst = np.einsum("vsoj,vj->vso", Ou[..., :nin], const)
+    nvar = (bank.ucol >= 0).sum(axis=1).astype(np.int64)
+    k = max(int(nvar.max()) if V else 0, 1)
+    vj = np.zeros((V, k), dtype=np.int64)
+    vcol = np.zeros((V, k), dtype=np.int64)
+    for v in range(V):
+        js = np.flatnonzero(bank.ucol[v] >= 0)
+        vj[v, :len(js)] = js
+        vcol[v, :len(js)] = bank.ucol[v, js]
+    return Operators(a, Ad, disc.dense, np.ascontiguousarray(BT), Qx, Pz, Ox, Ou, M, bconst,
+                     oconst, nvar, vj, vcol, nodes)
+
+
+def thermostat_errors(st, ops: Operators, errors: list) -> None:
+    """Mark variants whose thermostat node does not respond to heating within a step."""
+    if not st.m:
+        return
+    d = np.diagonal(ops.M, axis1=-2, axis2=-1)          # (V, ns, m)
+    for v in np.flatnonzero(~(d.min(axis=(1, 2)) > 0)):
+        if errors[v] is None:
+            bad = st.thermostat_names[int(np.argmin(d[v].min(axis=0)))]
+            errors[v] = NetworkError(f"thermostat {bad!r}: its node does not respond to "
+                                     "heating within a step; attach it to a node with a "
+                                     "conductive path")
+
+
+def observed_start(st, disc: Discretised, x0: np.ndarray, u0: np.ndarray, nodes: list):
+    """Observed temperatures before the first step (state 0's massless maps, raw inputs)."""
+    V = x0.shape[0]
+    obs = np.zeros((V, len(nodes)))
+    for o, i in enumerate(nodes):
+        if i < st.nc:
+            obs[:, o] = x0[:, i]
+        else:
+            r = i - st.nc
+            obs[:, o] = (np.einsum("vj,vj->v", disc.Yx[:, 0, r, :], x0)
+                         + np.einsum("vj,vj->v", disc.Yu[:, 0, r, :], u0))
+    return obs
+
+
+# ================================================================================= stepping
+@dataclass
+class GroupRun:
+    """What stepping a group gave.
+
+    Traces (``keep``): ``X`` (V, n, nc) end-of-step capacitive temperatures [°C], ``S``
+    (V, n) state ids, ``P`` (V, n, m) thermostat powers [W]. Always: ``x_first``, ``x_last``
+    (V, nc) [°C]; sums (without ``keep``): ``heat``, ``cool`` (V, m) [W·steps], peaks [W],
+    ``hrs``, ``dgh`` (V, thresholds), ``tstat`` (V, 3) max/min/sum [°C], ``zs_sum`` (V, ns,
+    nc) start coordinates, ``us_sum`` (V, ns, nu) raw inputs, ``cnt`` (V, ns) steps per
+    state.
+    """
+
+    X: np.ndarray | None
+    S: np.ndarray | None
+    P: np.ndarray | None
+    x_first: np.ndarray
+    x_last: np.ndarray
+    sums: dict
+    disc: Discretised
+    ops: Operators | None
+    F: np.ndarray
+    errors: list
+
+
+def resolve_kernel(kernel: str) -> str:
+    """``"numba"`` or ``"numpy"`` for a ``kernel=`` option (validated)."""
+    if kernel not in KERNELS:
+        raise ValueError(f"kernel must be one of {KERNELS}, got {kernel!r}")
+    if kernel == "auto":
+        return "numba" if kernels.HAVE_NUMBA else "numpy"
+    return kernel
+
+
+def _modal_to_nodes(Z, S, Qx):
+    """End temperatures X (n, nc) from coordinates Z (n, nc) in each row's state."""
+    X = np.empty_like(Z)
+    for s in np.unique(S):
+        rows = S == s
+        X[rows] = Z[rows] @ Qx[s].T
+    return X
+
+
+def _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep, comfort, thr_h, thr_d,
+                errors):
+    V, nc, m, ns = len(vals), st.nc, st.m, vals[0].n_states
+    nodes, terms, c_obs = observed_nodes(st, comfort)
+    ops = operators(st, disc, F, bank, nodes)
+    thermostat_errors(st, ops, errors)
+    ok = np.array([e is None for e in errors], dtype=bool)
+    obs0 = observed_start(st, disc, x0, u0, nodes)
+    z0 = np.einsum("vij,vj->vi", ops.Pz[np.arange(V), s0], x0)
+    n = bank.data.shape[0]
+    nrep = n - warm
+    Ztr = np.zeros((V, nrep if keep else 0, nc))
+    Str = np.zeros((V, nrep if keep else 0), dtype=np.int64)
+    Ptr = np.zeros((V, nrep if keep else 0, m))
+    sums = {"heat": np.zeros((V, m)), "cool": np.zeros((V, m)), "peak_h": np.zeros(V),
+            "peak_c": np.zeros(V), "hrs": np.zeros((V, len(thr_h))),
+            "dgh": np.zeros((V, len(thr_d))), "tstat": np.zeros((V, 3)),
+            "zs_sum": np.zeros((V, ns, nc)), "us_sum": np.zeros((V, ns, st.nu)),
+            "cnt": np.zeros((V, ns))}
+    x_first = np.zeros((V, nc))
+    x_last = np.zeros((V, nc))
+    tv = np.broadcast_to(terms, (V,) + terms.shape).copy()
+    for v, p in enumerate(vals):
+        tv[v, :, 5] = p.thresholds
+    sel = np.flatnonzero(ok)
+    if sel.size:
+        def pick(arr):
+            return np.ascontiguousarray(arr[sel]) if sel.size < V else arr
+
+        outs = [pick(a) for a in (Ztr, Str, Ptr)] + [pick(sums[k]) for k in (
+            "heat", "cool", "peak_h", "peak_c", "hrs", "dgh", "tstat", "zs_sum", "us_sum",
+            "cnt")] + [pick(x_first), pick(x_last)]
+        kernels.step_modal_nb(
+            pick(ops.a), pick(ops.Ad), pick(ops.dense), pick(ops.BT), pick(ops.Qx),
+            pick(ops.Pz), pick(ops.Ox), pick(ops.Ou), pick(ops.M), pick(ops.bconst),
+            pick(ops.oconst), pick(ops.nvar), pick(ops.vj), pick(ops.vcol), bank.data,
+            pick(z0), pick(x0), pick(s0), pick(obs0), pick(bank.schcol), pick(bank.schconst),
+            pick(bank.hcol), pick(bank.hconst), pick(bank.ccol), pick(bank.cconst),
+            pick(bank.scol), pick(bank.sconst),
+            pick(np.array([p.qh for p in vals]).reshape(V, m)),
+            pick(np.array([p.qc for p in vals]).reshape(V, m)),
+            pick(np.array([p.sw_init for p in vals], dtype=np.bool_).reshape(V, st.nsw)),
+            st.has_off.astype(np.bool_), pick(tv), st.term_clause, st.clause_cond,
+            int(st.nb + st.nsrc), int(st.nsw), int(warm), np.arange(m, dtype=np.int64),
+            int(c_obs), np.asarray(thr_h, dtype=float), np.asarray(thr_d, dtype=float),
+            bool(keep), *outs)
+        if sel.size < V:
+            full = [Ztr, Str, Ptr] + [sums[k] for k in (
+                "heat", "cool", "peak_h", "peak_c", "hrs", "dgh", "tstat", "zs_sum",
+                "us_sum", "cnt")] + [x_first, x_last]
+            for f, part in zip(full, outs, strict=True):
+                f[sel] = part
+    X = None
+    if keep:
+        X = np.zeros_like(Ztr)
+        for v in sel:
+            X[v] = _modal_to_nodes(Ztr[v], Str[v], ops.Qx[v])
+    return X, Str, Ptr, x_first, x_last, sums, ops
+
+
+def _step_numpy(st, vals, disc, F, bank, x0, s0, u0, warm, errors):
+    """The reference kernel, variant by variant (traces only)."""
+    V, nc, m, ns = len(vals), st.nc, st.m, vals[0].n_states
+    n = bank.data.shape[0]
+    nin = st.nb + st.nsrc
+    Rx, Ru = thermostat_rows(st, disc.Yx, disc.Yu)
+    X = np.zeros((V, n - warm, nc))
+    S = np.zeros((V, n - warm), dtype=np.int64)
+    P = np.zeros((V, n - warm, m))
+    x_first = np.zeros((V, nc))
+    x_last = np.zeros((V, nc))
+    pcols = nin + np.arange(m)
+    for v, p in enumerate(vals):
+        if errors[v] is not None:
+            continue
+        mats = {}
+        for s in range(ns):
+            Phi, Gam, _, _ = disc.matrices(v, s)
+            mats[s] = (Phi, Gam)
+            Mv = Rx[v, s] @ Gam[:, pcols] + Ru[v, s][:, pcols]
+            if m and (np.diag(Mv) <= 0).any():
+                bad = st.thermostat_names[int(np.argmin(np.diag(Mv)))]
+                errors[v] = NetworkError(f"thermostat {bad!r}: its node does not respond to "
+                                         "heating within a step; attach it to a node with a "
+                                         "conductive path")
+        if errors[v] is not None:
+            continue
+
+        U = np.zeros((n, st.nu))
+        U[:, :nin] = np.where(bank.ucol[v] >= 0, bank.data[:, np.maximum(bank.ucol[v], 0)],
+                              bank.uconst[v])
+        hsp = np.where(bank.hcol[v] >= 0, bank.data[:, np.maximum(bank.hcol[v], 0)],
+                       bank.hconst[v])
+        csp = np.where(bank.ccol[v] >= 0, bank.data[:, np.maximum(bank.ccol[v], 0)],
+                       bank.cconst[v])
+        sig = np.where(bank.scol[v] >= 0, bank.data[:, np.maximum(bank.scol[v], 0)],
+                       bank.sconst[v])
+        sched = (bank.data[:, bank.schcol[v]] if bank.schcol[v] >= 0
+                 else np.full(n, bank.schconst[v]))
+        terms = st.terms.copy()
+        terms[:, 5] = p.thresholds
+        X[v], S[v], P[v], x_first[v] = kernels.step_reference(
+            mats, Rx[v], Ru[v], disc.Yx[v], disc.Yu[v], p.source_factor, x0[v], s0[v], U,
+            sched, hsp.reshape(n, m), csp.reshape(n, m), sig.reshape(n, -1), p.qh, p.qc,
+            p.sw_init.copy(), st.has_off, terms, st.term_clause, st.clause_cond, st.nb,
+            st.nsrc, warm)
+        x_last[v] = X[v, -1] if n > warm else x_first[v]
+    return X, S, P, x_first, x_last
+
+
+def step_group(st, vals: list, store, warm: int, *, keep: bool, kernel: str = "auto",
+               comfort: int | None = None, thr_h=(), thr_d=()) -> GroupRun:
+    """Discretise, start and step the variants ``vals`` of structure ``st``.
+
+    Parameters
+    ----------
+    st : Structure
+    vals : list of Values
+        The variants (same number of states).
+    store : ColumnStore
+        Their time series.
+    warm : int
+        Warm-up steps run before the reported ones.
+    keep : bool
+        Keep hourly traces (else only sums over the reported steps; numba kernel only).
+    kernel : {"auto", "numba", "numpy"}
+        Compiled kernel or the numpy reference (traces only).
+    comfort : int, optional
+        Free-node index whose end temperature is summed (hours and degree-hours above
+        ``thr_h``/``thr_d`` [°C], max/min/mean) — without ``keep``.
+
+    Returns
+    -------
+    GroupRun
+    """
+    kernel = resolve_kernel(kernel)
+    V = len(vals)
+    C = np.array([p.C for p in vals]).reshape(V, st.nc)
+    G = np.array([p.G for p in vals]).reshape(V, vals[0].n_states, st.nl)
+    disc = discretise(st, C, G, store.step_s)
+    errors = list(disc.errors)
+    ok = np.array([e is None for e in errors], dtype=bool)
+    bank = make_bank(st, vals, store, warm)
+    F = input_factors(st, vals)
+    x0, s0, u0 = start_states(st, vals, disc, bank, ok)
+    if kernel == "numpy":
+        if not keep:
+            raise ValueError("the numpy reference kernel keeps traces only (keep=True)")
+        X, S, P, xf, xl = _step_numpy(st, vals, disc, F, bank, x0, s0, u0, warm, errors)
+        return GroupRun(X, S, P, xf, xl, {}, disc, None, F, errors)
+    X, S, P, xf, xl, sums, ops = _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep,
+                                             comfort, thr_h, thr_d, errors)
+    if keep:
+        sums = {}
+    return GroupRun(X, S, P, xf, xl, sums, disc, ops, F, errors)

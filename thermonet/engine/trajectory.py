@@ -1,0 +1,189 @@
+"""The one trajectory type every method returns; :class:`thermonet.Results` reads only this.
+
+Row ``t`` describes the step ``(t − h, t]``. A trajectory gives, for any free nodes asked for,
+their temperatures at the end of each step and their means over it [°C], plus the effective
+inputs (boundary temperatures [°C], applied source powers and thermostat powers [W]), the
+state of each step and each link's conductance in it [W/K]. Means are formed on demand and
+only for the nodes asked for, so a balance of a few rooms on a large network does not form
+every node's mean.
+"""
+
+from __future__ import annotations
+
+import abc
+
+import numpy as np
+
+from thermonet.engine.discretise import phi1, phi2
+
+
+class Trajectory(abc.ABC):
+    """Base of the trajectory types (see the module docstring).
+
+    Attributes
+    ----------
+    U : ndarray (n, nu)
+        Effective inputs per step: boundary temperatures [°C], source powers as applied
+        (switch factors included) and thermostat powers [W], step means.
+    S : ndarray (n,)
+        State id per step.
+    X : ndarray (n, nc)
+        End-of-step temperatures of the capacitive nodes [°C].
+    x_first : ndarray (nc,)
+        Capacitive temperatures at the start of the first step [°C].
+    info : dict
+        Method-specific counters for :meth:`thermonet.Results.diagnostics`.
+    """
+
+    nc: int
+    nf: int
+    U: np.ndarray
+    S: np.ndarray
+    X: np.ndarray
+    x_first: np.ndarray
+    info: dict
+
+    @property
+    def X_start(self) -> np.ndarray:
+        """Start-of-step capacitive temperatures [°C] (n, nc)."""
+        if len(self.X) == 0:
+            return self.X.copy()
+        return np.vstack([self.x_first[None, :], self.X[:-1]])
+
+    @abc.abstractmethod
+    def end(self, idx) -> np.ndarray:
+        """End-of-step temperatures [°C] (n, k) of free nodes ``idx``."""
+
+    @abc.abstractmethod
+    def mean(self, idx) -> np.ndarray:
+        """Step-mean temperatures [°C] (n, k) of free nodes ``idx``."""
+
+    @abc.abstractmethod
+    def conductances(self, cols) -> np.ndarray:
+        """Conductances [W/K] (n, k) of links ``cols`` in each step's state."""
+
+
+class ExactTrajectory(Trajectory):
+    """Trajectory of the exact method for one variant.
+
+    Parameters
+    ----------
+    X, x_first, S, U
+        See :class:`Trajectory`.
+    G : ndarray (ns, nl)
+        Conductances of every state [W/K].
+    K, E, Yx, Yu, lam, Q, W : ndarray (ns, ...)
+        Reduced system and modal form of every state (:mod:`thermonet.engine.discretise`).
+    C : ndarray (nc,)
+        Capacitances [J/K].
+    h : float
+        Step [s].
+    dense : dict
+        State id → (Φ, Γ, Φ̄, Γ̄) for states stepped densely.
+    info : dict
+    """
+
+    def __init__(self, X, x_first, S, U, G, Yx, Yu, lam, Q, W, C, h, dense, info):
+        self.X, self.x_first, self.S, self.U, self.G = X, x_first, S, U, G
+        self.Yx, self.Yu, self.lam, self.Q, self.W, self.C, self.h = Yx, Yu, lam, Q, W, C, h
+        self.dense = dense
+        self.info = info
+        self.nc = X.shape[1]
+        self.nf = self.nc + Yx.shape[1]
+        self._xbar = None
+
+    def _groups(self):
+        for s in np.unique(self.S):
+            yield int(s), self.S == s
+
+    def _massless(self, Xc, rows_state, idx):
+        out = np.empty((len(self.S), len(idx)))
+        r = np.asarray(idx) - self.nc
+        for s, rows in rows_state:
+            out[rows] = Xc[rows] @ self.Yx[s][r].T + self.U[rows] @ self.Yu[s][r].T
+        return out
+
+    def _split(self, idx):
+        idx = np.asarray(idx, dtype=np.int64)
+        return idx, idx < self.nc
+
+    def end(self, idx):
+        idx, cap = self._split(idx)
+        out = np.empty((len(self.S), len(idx)))
+        out[:, cap] = self.X[:, idx[cap]]
+        if (~cap).any():
+            out[:, ~cap] = self._massless(self.X, list(self._groups()), idx[~cap])
+        return out
+
+    @property
+    def x_mean(self) -> np.ndarray:
+        """Step-mean capacitive temperatures [°C] (n, nc), formed once."""
+        if self._xbar is None:
+            Xs = self.X_start
+            out = np.empty_like(self.X)
+            for s, rows in self._groups():
+                if s in self.dense:
+                    _, _, Phibar, Gambar = self.dense[s]
+                    out[rows] = Xs[rows] @ Phibar.T + self.U[rows] @ Gambar.T
+                    continue
+                x = self.lam[s] * self.h
+                Q = self.Q[s]
+                z = (Xs[rows] * self.C[None, :]) @ Q
+                zbar = z * phi1(x) + (self.U[rows] @ self.W[s].T) * (self.h * phi2(x))
+                out[rows] = zbar @ Q.T
+            self._xbar = out
+        return self._xbar
+
+    def mean(self, idx):
+        idx, cap = self._split(idx)
+        out = np.empty((len(self.S), len(idx)))
+        xbar = self.x_mean
+        out[:, cap] = xbar[:, idx[cap]]
+        if (~cap).any():
+            out[:, ~cap] = self._massless(xbar, list(self._groups()), idx[~cap])
+        return out
+
+    def conductances(self, cols):
+        return self.G[:, cols][self.S]
+
+
+class NodeTrajectory(Trajectory):
+    """Trajectory that stores every free node's end and mean temperatures (sparse method)."""
+
+    def __init__(self, T_end, T_mean, x_first, S, U, G, nc, info):
+        self.T_end, self.T_mean = T_end, T_mean
+        self.x_first, self.S, self.U, self.G = x_first, S, U, G
+        self.nc, self.nf = nc, T_end.shape[1]
+        self.X = T_end[:, :nc]
+        self.info = info
+
+    def end(self, idx):
+        return self.T_end[:, np.asarray(idx, dtype=np.int64)]
+
+    def mean(self, idx):
+        return self.T_mean[:, np.asarray(idx, dtype=np.int64)]
+
+    def conductances(self, cols):
+        return self.G[:, cols][self.S]
+
+
+class JoinedTrajectory(Trajectory):
+    """Consecutive trajectories of one network (e.g. periods of re-linearised radiation)."""
+
+    def __init__(self, parts, info):
+        self.parts = parts
+        self.nc, self.nf = parts[0].nc, parts[0].nf
+        self.x_first = parts[0].x_first
+        self.X = np.vstack([p.X for p in parts])
+        self.U = np.vstack([p.U for p in parts])
+        self.S = np.concatenate([p.S for p in parts])
+        self.info = info
+
+    def end(self, idx):
+        return np.vstack([p.end(idx) for p in self.parts])
+
+    def mean(self, idx):
+        return np.vstack([p.mean(idx) for p in self.parts])
+
+    def conductances(self, cols):
+        return np.vstack([p.conductances(cols) for p in self.parts])
