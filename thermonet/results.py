@@ -36,7 +36,11 @@ class Results:
     # ------------------------------------------------------------ raw arrays
     def _points(self, free: np.ndarray) -> np.ndarray:
         """Free-node temperatures then the boundaries' (n × (nf + nb)) [°C]."""
-        return np.hstack([free, self._t.U[:, :self._c.nb]])
+        nf = free.shape[1]
+        out = np.empty((free.shape[0], nf + self._c.nb))
+        out[:, :nf] = free
+        out[:, nf:] = self._t.U[:, :self._c.nb]
+        return out
 
     @cached_property
     def _tmean(self):
@@ -70,8 +74,11 @@ class Results:
         return self._t.conductances(cols) * (tm[:, :k] - tm[:, k:])
 
     def _frame(self, arr, columns, order=None):
-        df = pd.DataFrame(arr, index=self.index, columns=columns)
-        return df[order] if order is not None else df
+        if order is not None and list(columns) != order:
+            pos = {c: i for i, c in enumerate(columns)}
+            arr = arr[:, [pos[c] for c in order]]
+            columns = order
+        return pd.DataFrame(arr, index=self.index, columns=columns, copy=False)
 
     # ---------------------------------------------------------------- tables
     @cached_property

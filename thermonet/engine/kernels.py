@@ -145,7 +145,7 @@ def _column(bank, k, col, const):
 def step_modal(a, Ad, dense, BT, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, vj, vcol, bank,
                z0, x0, s0, obs0, schcol, schconst, hcol, hconst, ccol, cconst, scol, sconst,
                qh, qc, sw_init, has_off, terms, term_clause, clause_cond, nin, nsw, warm,
-               th_obs, c_obs, thr_h, thr_d, keep, Ztr, Str, Ptr,
+               th_obs, c_obs, thr_h, thr_d, keep, to_nodes, Ztr, Str, Ptr,
                heat, cool, peak_h, peak_c, hrs, dgh, tstat, zs_sum, us_sum, cnt,
                x_first, x_last):  # pragma: no cover - compiled
     """Step every variant over every row of ``bank`` in modal coordinates (see module doc).
@@ -158,8 +158,9 @@ def step_modal(a, Ad, dense, BT, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, vj, vc
     bconst (V, ns, nc), oconst (V, ns, nobs) the constant inputs' part; nvar (V,), vj, vcol
     (V, k) the varying inputs and their bank columns; z0, x0 (V, nc), s0 (V,), obs0
     (V, nobs) start; schedules, setpoints and signals as bank column or constant per
-    variant. ``keep``: write Ztr (V, n − warm, nc) end coordinates, Str state ids, Ptr
-    powers; else only the sums over the reported steps ``k ≥ warm``.
+    variant. ``keep``: write Ztr (V, n − warm, nc) end coordinates (node temperatures
+    ``x = Qx z`` if ``to_nodes``), Str state ids, Ptr powers; else only the sums over the
+    reported steps ``k ≥ warm``.
     """
     V = z0.shape[0]
     n = bank.shape[0]
@@ -183,6 +184,17 @@ def step_modal(a, Ad, dense, BT, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, vj, vc
         T0 = np.zeros(m)
         P = np.zeros(m)
         sp = s0[v]
+        sv = -1              # state whose views below are current
+        BTs = BT[v, 0]
+        Oxs = Ox[v, 0]
+        Ous = Ou[v, 0]
+        ocs = oconst[v, 0]
+        Ads = Ad[v, 0]
+        a_s = a[v, 0]
+        bc = bconst[v, 0]
+        Ms = M[v, 0]
+        Qs = Qx[v, 0]
+        dn = False
         tmax = -np.inf
         tmin = np.inf
         tsum = 0.0
@@ -215,55 +227,88 @@ def step_modal(a, Ad, dense, BT, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, vj, vc
                         acc += Pz[v, s, i, j] * xt[j]
                     z[i] = acc
             # free response
+            if s != sv:
+                BTs = BT[v, s]
+                Oxs = Ox[v, s]
+                Ous = Ou[v, s]
+                ocs = oconst[v, s]
+                Ads = Ad[v, s]
+                a_s = a[v, s]
+                bc = bconst[v, s]
+                Ms = M[v, s]
+                Qs = Qx[v, s]
+                dn = dense[v, s]
+                sv = s
             for j in range(nvar[v]):
                 u[vj[v, j]] = bank[k, vcol[v, j]]
-            if dense[v, s]:
+            if dn:
                 for i in range(nc):
-                    acc = bconst[v, s, i]
+                    acc = bc[i]
                     for j in range(nc):
-                        acc += Ad[v, s, i, j] * z[j]
+                        acc += Ads[i, j] * z[j]
                     z1[i] = acc
             else:
                 for i in range(nc):
-                    z1[i] = a[v, s, i] * z[i] + bconst[v, s, i]
+                    z1[i] = a_s[i] * z[i] + bc[i]
             for q in range(nvar[v]):
                 j = vj[v, q]
                 uj = u[j]
+                row = BTs[j]
                 for i in range(nc):
-                    z1[i] += BT[v, s, j, i] * uj
+                    z1[i] += row[i] * uj
             # thermostats
             if m > 0:
                 for r in range(m):
                     o = th_obs[r]
-                    acc = oconst[v, s, o]
+                    acc = ocs[o]
+                    ro = Oxs[o]
                     for i in range(nc):
-                        acc += Ox[v, s, o, i] * z1[i]
+                        acc += ro[i] * z1[i]
                     for q in range(nvar[v]):
-                        acc += Ou[v, s, o, vj[v, q]] * u[vj[v, q]]
+                        acc += Ous[o, vj[v, q]] * u[vj[v, q]]
                     T0[r] = acc
                     hs[r] = _column_nb(bank, k, hcol[v, r], hconst[v, r])
                     cs[r] = _column_nb(bank, k, ccol[v, r], cconst[v, r])
-                control_powers_nb(T0, M[v, s], hs, cs, qh[v], qc[v], P)
+                if m == 1:   # one thermostat: exact in one step, no iteration
+                    t0 = T0[0]
+                    mm = Ms[0, 0]
+                    if not np.isnan(hs[0]) and t0 < hs[0]:
+                        P[0] = min((hs[0] - t0) / mm, qh[v, 0])
+                    elif not np.isnan(cs[0]) and t0 > cs[0]:
+                        P[0] = -min((t0 - cs[0]) / mm, qc[v, 0])
+                    else:
+                        P[0] = 0.0
+                else:
+                    control_powers_nb(T0, Ms, hs, cs, qh[v], qc[v], P)
                 for r in range(m):
                     pr = P[r]
                     u[nin + r] = pr
+                    row = BTs[nin + r]
                     for i in range(nc):
-                        z1[i] += BT[v, s, nin + r, i] * pr
-            # observed temperatures at the end of the step
-            for o in range(nobs):
-                acc = oconst[v, s, o]
+                        z1[i] += row[i] * pr
+            # observed temperatures at the end of the step (for conditions and comfort)
+            for o in range(nobs if (nsw > 0 or c_obs >= 0) else 0):
+                acc = ocs[o]
+                ro = Oxs[o]
                 for i in range(nc):
-                    acc += Ox[v, s, o, i] * z1[i]
+                    acc += ro[i] * z1[i]
                 for q in range(nvar[v]):
-                    acc += Ou[v, s, o, vj[v, q]] * u[vj[v, q]]
+                    acc += Ous[o, vj[v, q]] * u[vj[v, q]]
                 for r in range(m):
-                    acc += Ou[v, s, o, nin + r] * u[nin + r]
+                    acc += Ous[o, nin + r] * u[nin + r]
                 obs[o] = acc
             if k >= warm:
                 kk = k - warm
                 if keep:
-                    for i in range(nc):
-                        Ztr[v, kk, i] = z1[i]
+                    if to_nodes:
+                        for i in range(nc):
+                            acc = 0.0
+                            for j in range(nc):
+                                acc += Qs[i, j] * z1[j]
+                            Ztr[v, kk, i] = acc
+                    else:
+                        for i in range(nc):
+                            Ztr[v, kk, i] = z1[i]
                     Str[v, kk] = s
                     for r in range(m):
                         Ptr[v, kk, r] = P[r]

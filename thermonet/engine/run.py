@@ -17,6 +17,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+import numba
 import numpy as np
 
 from thermonet.engine import kernels
@@ -25,6 +26,11 @@ from thermonet.engine.start import apply_initial, steady_start, thermostat_rows
 from thermonet.errors import NetworkError
 
 KERNELS = ("auto", "numba", "numpy")
+
+#: Capacitive nodes up to which a run that keeps hourly traces is stepped in node
+#: coordinates (dense exact steps, nc² operations a step, no mapping back); larger networks and
+#: batches that keep only sums step in modal coordinates (nc operations a step per input).
+NODES_IN_KERNEL = 64
 
 
 # ===================================================================================== bank
@@ -189,8 +195,13 @@ def _node_rows(st, disc: Discretised, F: np.ndarray, Qx: np.ndarray, nodes: list
     return Ox, Ou
 
 
-def operators(st, disc: Discretised, F: np.ndarray, bank: Bank, nodes: list) -> Operators:
-    """The kernel's arrays for every variant and state (see the module docstring)."""
+def operators(st, disc: Discretised, F: np.ndarray, bank: Bank, nodes: list,
+              node_coords: bool = False) -> Operators:
+    """The kernel's arrays for every variant and state (see the module docstring).
+
+    With ``node_coords`` every state is stepped densely in node coordinates (``x⁺ = Φx +
+    Γu``); otherwise in modal coordinates, except the states that failed the modal check.
+    """
     V, ns = disc.K.shape[:2]
     nc, m, h = st.nc, st.m, disc.h
     nin = st.nb + st.nsrc
@@ -199,9 +210,12 @@ def operators(st, disc: Discretised, F: np.ndarray, bank: Bank, nodes: list) -> 
     BT = np.swapaxes(disc.W, -1, -2) * (h * phi1(x))[:, :, None, :] * F[..., None]
     Qx = disc.Q.copy()
     Pz = np.swapaxes(disc.Q, -1, -2) * disc.C[:, None, None, :]
-    anyd = bool(disc.dense.any())
-    Ad = np.zeros((V, ns, nc, nc) if anyd else (V, ns, 0, 0))
-    for (v, s), (Phi, Gam, _, _) in disc.dense_mats.items():
+    dense = disc.dense.copy()
+    if node_coords:
+        dense[:] = True
+    Ad = np.zeros((V, ns, nc, nc) if dense.any() else (V, ns, 0, 0))
+    for v, s in zip(*np.nonzero(dense), strict=True):
+        Phi, Gam, _, _ = disc.matrices(v, s)
         Ad[v, s] = Phi
         BT[v, s] = (Gam * F[v, s][None, :]).T
         Qx[v, s] = np.eye(nc)
@@ -220,7 +234,7 @@ def operators(st, disc: Discretised, F: np.ndarray, bank: Bank, nodes: list) -> 
         js = np.flatnonzero(bank.ucol[v] >= 0)
         vj[v, :len(js)] = js
         vcol[v, :len(js)] = bank.ucol[v, js]
-    return Operators(a, Ad, disc.dense, np.ascontiguousarray(BT), Qx, Pz, Ox, Ou, M, bconst,
+    return Operators(a, Ad, dense, np.ascontiguousarray(BT), Qx, Pz, Ox, Ou, M, bconst,
                      oconst, nvar, vj, vcol, nodes)
 
 
@@ -287,8 +301,11 @@ def resolve_kernel(kernel: str) -> str:
 
 def _modal_to_nodes(Z, S, Qx):
     """End temperatures X (n, nc) from coordinates Z (n, nc) in each row's state."""
+    states = np.unique(S)
+    if len(states) == 1:
+        return Z @ Qx[states[0]].T
     X = np.empty_like(Z)
-    for s in np.unique(S):
+    for s in states:
         rows = S == s
         X[rows] = Z[rows] @ Qx[s].T
     return X
@@ -298,7 +315,8 @@ def _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep, comfort, thr_h,
                 errors):
     V, nc, m, ns = len(vals), st.nc, st.m, vals[0].n_states
     nodes, terms, c_obs = observed_nodes(st, comfort)
-    ops = operators(st, disc, F, bank, nodes)
+    in_nodes = bool(keep) and nc <= NODES_IN_KERNEL
+    ops = operators(st, disc, F, bank, nodes, node_coords=in_nodes)
     thermostat_errors(st, ops, errors)
     ok = np.array([e is None for e in errors], dtype=bool)
     obs0 = observed_start(st, disc, x0, u0, nodes)
@@ -315,6 +333,7 @@ def _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep, comfort, thr_h,
             "cnt": np.zeros((V, ns))}
     x_first = np.zeros((V, nc))
     x_last = np.zeros((V, nc))
+    to_nodes = False   # node coordinates (in_nodes) or a product after the loop
     tv = np.broadcast_to(terms, (V,) + terms.shape).copy()
     for v, p in enumerate(vals):
         tv[v, :, 5] = p.thresholds
@@ -326,20 +345,25 @@ def _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep, comfort, thr_h,
         outs = [pick(a) for a in (Ztr, Str, Ptr)] + [pick(sums[k]) for k in (
             "heat", "cool", "peak_h", "peak_c", "hrs", "dgh", "tstat", "zs_sum", "us_sum",
             "cnt")] + [pick(x_first), pick(x_last)]
-        kernels.step_modal_nb(
-            pick(ops.a), pick(ops.Ad), pick(ops.dense), pick(ops.BT), pick(ops.Qx),
-            pick(ops.Pz), pick(ops.Ox), pick(ops.Ou), pick(ops.M), pick(ops.bconst),
-            pick(ops.oconst), pick(ops.nvar), pick(ops.vj), pick(ops.vcol), bank.data,
-            pick(z0), pick(x0), pick(s0), pick(obs0), pick(bank.schcol), pick(bank.schconst),
-            pick(bank.hcol), pick(bank.hconst), pick(bank.ccol), pick(bank.cconst),
-            pick(bank.scol), pick(bank.sconst),
-            pick(np.array([p.qh for p in vals]).reshape(V, m)),
-            pick(np.array([p.qc for p in vals]).reshape(V, m)),
-            pick(np.array([p.sw_init for p in vals], dtype=np.bool_).reshape(V, st.nsw)),
-            st.has_off.astype(np.bool_), pick(tv), st.term_clause, st.clause_cond,
-            int(st.nb + st.nsrc), int(st.nsw), int(warm), np.arange(m, dtype=np.int64),
-            int(c_obs), np.asarray(thr_h, dtype=float), np.asarray(thr_d, dtype=float),
-            bool(keep), *outs)
+        threads = numba.get_num_threads()
+        numba.set_num_threads(max(1, min(threads, sel.size)))   # one variant: no thread pool
+        try:
+            kernels.step_modal_nb(
+                pick(ops.a), pick(ops.Ad), pick(ops.dense), pick(ops.BT), pick(ops.Qx),
+                pick(ops.Pz), pick(ops.Ox), pick(ops.Ou), pick(ops.M), pick(ops.bconst),
+                pick(ops.oconst), pick(ops.nvar), pick(ops.vj), pick(ops.vcol), bank.data,
+                pick(z0), pick(x0), pick(s0), pick(obs0), pick(bank.schcol), pick(bank.schconst),
+                pick(bank.hcol), pick(bank.hconst), pick(bank.ccol), pick(bank.cconst),
+                pick(bank.scol), pick(bank.sconst),
+                pick(np.array([p.qh for p in vals]).reshape(V, m)),
+                pick(np.array([p.qc for p in vals]).reshape(V, m)),
+                pick(np.array([p.sw_init for p in vals], dtype=np.bool_).reshape(V, st.nsw)),
+                st.has_off.astype(np.bool_), pick(tv), st.term_clause, st.clause_cond,
+                int(st.nb + st.nsrc), int(st.nsw), int(warm), np.arange(m, dtype=np.int64),
+                int(c_obs), np.asarray(thr_h, dtype=float), np.asarray(thr_d, dtype=float),
+                bool(keep), to_nodes, *outs)
+        finally:
+            numba.set_num_threads(threads)
         if sel.size < V:
             full = [Ztr, Str, Ptr] + [sums[k] for k in (
                 "heat", "cool", "peak_h", "peak_c", "hrs", "dgh", "tstat", "zs_sum",
@@ -348,8 +372,8 @@ def _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep, comfort, thr_h,
                 f[sel] = part
     X = None
     if keep:
-        X = np.zeros_like(Ztr)
-        for v in sel:
+        X = Ztr if in_nodes else np.zeros_like(Ztr)
+        for v in sel if not in_nodes else ():
             X[v] = _modal_to_nodes(Ztr[v], Str[v], ops.Qx[v])
     return X, Str, Ptr, x_first, x_last, sums, ops
 

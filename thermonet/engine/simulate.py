@@ -50,7 +50,8 @@ def effective_inputs(comp: Compiled, F: np.ndarray, S: np.ndarray, P: np.ndarray
                      rows: slice | np.ndarray) -> np.ndarray:
     """Inputs as applied: raw boundary temperatures and source powers × the state's factors,
     thermostat powers ``P`` [W] (n, nu)."""
-    U = comp.U[rows] * F[S]
+    U = comp.U[rows]
+    U = U * (F[S[0]] if len(S) and (S == S[0]).all() else F[S])
     U[:, comp.nb + comp.nsrc:] = P
     return U
 
