@@ -258,10 +258,12 @@ def case_large(args):
         Ein = E[:, :E.shape[1] - len(nodes)]
         x0 = steady_with_thermostats(K, Ein, U[0], nodes, np.full(len(nodes), 20.0),
                                      np.full(len(nodes), np.inf))
+        args_ = (K, E, C, U, x0)
         if therm:
-            t_b, ref = min_time(lambda: dense_modal_thermostats(K, E, C, U, x0, nodes, 20.0), 1)
+            t_b, ref = min_time(lambda a=args_, n_=nodes: dense_modal_thermostats(*a, n_, 20.0),
+                                1)
         else:
-            t_b, ref = min_time(lambda: dense_modal_free(K, E, C, U, x0), 1)
+            t_b, ref = min_time(lambda a=args_: dense_modal_free(*a), 1)
         err = np.abs(res[order].to_numpy() - ref).max()
         label = f"{len(nodes)} thermostatted rooms" if therm else "free-running"
         print(f"case 3: {len(net.nodes)}-node year, {label}\n  thermonet {t_tn:.2f} s | "
