@@ -252,14 +252,18 @@ def raining(weather: pd.DataFrame, column: str = "precipitation", threshold: flo
 
 
 def _negate_term(t: Term) -> Term:
-    return Term(t.a, t.b, "<" if t.op == ">" else ">", t.threshold)
+    # ¬(d > t) is d ≤ t, which for float64 values is exactly d < nextafter(t, +inf)
+    if t.op == ">":
+        return Term(t.a, t.b, "<", float(np.nextafter(t.threshold, np.inf)))
+    return Term(t.a, t.b, ">", float(np.nextafter(t.threshold, -np.inf)))
 
 
 def negate(condition: Condition) -> Condition:
     """The logical complement of a condition (De Morgan), built from the same terms.
 
-    ``value > x`` becomes ``value < x`` and vice versa: the two differ from an exact complement
-    only when a value equals its threshold exactly.
+    ``value > x`` becomes ``value ≤ x``, written as ``value < x⁺`` with x⁺ the next float64
+    above x (and ``value < x`` becomes ``value > x⁻``), so the complement is exact also when a
+    value equals its threshold (no rain: precipitation 0 is "not raining").
 
     Parameters
     ----------
