@@ -229,6 +229,9 @@ def test_no_temperature_difference_and_no_wind_gives_no_flow():
     assert float(af.stack_flow(1.0, 1.0, 3.0, 20.0, 20.0)) == 0.0
     assert float(af.cross_flow_wind(1.0, 1.0, 0.0, 0.6, -0.3)) == 0.0
     assert float(af.two_opening_flow(1.0, 1.0, 20.0, 20.0, height_2=3.0, cp_1=0.6)) == 0.0
+    # a shut opening closes a path of openings in series
+    assert float(af.stack_flow(0.0, 0.5, 3.0, 25.0, 15.0)) == 0.0
+    assert float(af.cross_flow_wind(0.8, 0.0, 4.0, 0.6, -0.3)) == 0.0
     # de Gids & Phaff keep their turbulence term C3 = 0.01 m²/s²: Q = ½·A·0.1 = 0.05·A
     assert float(af.single_sided_de_gids_phaff(2.0, 1.2, 20.0, 20.0, 0.0)) == pytest.approx(0.1)
     assert float(af.single_sided_de_gids_phaff(2.0, 1.2, 20.0, 20.0, 0.0, c3=0.0)) == 0.0
@@ -312,6 +315,27 @@ def test_flow_conductance_enters_a_network():
     res = tn.simulate(net, weather, warmup_days=2)
     np.testing.assert_allclose(res.temperatures["room"].iloc[-1], 18.0 + 100.0 / 60.0,
                                atol=1e-9)
+
+
+def test_wind_driven_cross_flow_as_a_scheduled_airflow():
+    # cross ventilation by wind does not depend on the room state, so it can be used today as a
+    # scheduled airflow (m³/h at the edge); its heat flow is ρc_p·V̇·(T_e − T_i) (ISO 13789)
+    idx = pd.date_range("2025-07-01 01:00", periods=24 * 4, freq="h", tz="Etc/GMT-1")
+    rng = np.random.default_rng(7)
+    weather = pd.DataFrame({"temp_air": 20.0 + 5.0 * np.sin(np.arange(len(idx)) / 24 * 2 * np.pi),
+                            "wind_speed": rng.uniform(0.0, 6.0, len(idx))}, index=idx)
+    u_roof = af.wind_speed_at_height(weather["wind_speed"], 6.0, "urban")
+    flow = af.cross_flow_wind(0.3, 0.4, u_roof, 0.4, -0.2)
+    assert isinstance(flow, pd.Series) and flow.index.equals(idx)
+    net = tn.Network()
+    net.add_boundary("outdoor", temperature="temp_air")
+    net.add_node("room", kind="air", capacitance=2e5)
+    net.add_link("outdoor", "room", conductance=20.0, path="opaque")
+    net.add_source("room", power=300.0, path="internal")
+    name = net.add_airflow("outdoor", "room", flow_m3h=af.to_m3h(flow), path="window_ventilation")
+    res = tn.simulate(net, weather, warmup_days=1)
+    expected = 1200.0 * flow * (weather["temp_air"] - res.mean_temperatures["room"])
+    np.testing.assert_allclose(res.flows[name], expected, rtol=1e-9, atol=1e-9)
 
 
 # --------------------------------------------------------------------------------------------
