@@ -160,6 +160,19 @@ def test_hottest_spell_against_brute_force(tmy):
     assert spell["temp_air"].mean() == pytest.approx(best, abs=1e-12)
 
 
+def test_civil_time_zone_with_daylight_saving(tmy):
+    # the same year on New York civil time: days of 23 and 25 rows are still whole days
+    civil = tmy.tz_convert("America/New_York")
+    spell = w.hottest_spell(civil, 5)
+    assert spell.attrs["spell"]["mean"] == pytest.approx(
+        w.hottest_spell(tmy, 5).attrs["spell"]["mean"], abs=0.2)
+    morphed = w.morph_shift_stretch(civil, D_MEAN, D_MAX, D_MIN)
+    mid = civil.index - pd.Timedelta("30min")
+    shift = (pd.Series(morphed["temp_air"].to_numpy() - civil["temp_air"].to_numpy(), index=mid)
+             .groupby(mid.month).mean())
+    np.testing.assert_allclose(shift.to_numpy(), D_MEAN, atol=1e-10)
+
+
 def test_insert_warm_spell_plateau_and_smooth_edges(tmy):
     start, days, offset, ramp = "2025-07-20", 4, 5.0, 12
     hot = w.insert_warm_spell(tmy, start, days, offset, ramp_hours=ramp)

@@ -1476,12 +1476,15 @@ def _calendar_days(df: pd.DataFrame, what: str) -> tuple[pd.DatetimeIndex, pd.Da
     mid = df.index - step / 2
     days = mid.normalize()
     per_day = pd.Series(1, index=days).groupby(level=0).size()
-    full = int(round(pd.Timedelta(days=1) / step))
-    short = per_day[per_day != full]
+    # rows a whole local day holds (23 or 25 h on daylight-saving changes in a civil zone)
+    starts = pd.DatetimeIndex(per_day.index)
+    full = np.asarray((starts + pd.DateOffset(days=1) - starts) / step).round().astype(int)
+    short = np.flatnonzero(per_day.to_numpy() != full)
     if len(short):
+        i = int(short[0])
         raise WeatherError(
-            f"{what} needs whole days ({full} rows of {step} per day, days taken at the "
-            f"interval mid-points); day {short.index[0].date()} has {int(short.iloc[0])}. "
+            f"{what} needs whole days ({full[i]} rows of {step} on that day, days taken at the "
+            f"interval mid-points); day {starts[i].date()} has {int(per_day.iloc[i])}. "
             "Pass whole days, e.g. a full typical year from read_tmy3"
         )
     return mid, days
@@ -1659,11 +1662,12 @@ def morph_shift_stretch(weather: pd.DataFrame, delta_mean: Any, delta_max: Any, 
     span = (stats["mean_daily_max"] - stats["mean_daily_min"]).reindex(range(1, 13)).to_numpy()
     alpha = (dmax - dmin) / span
     present = stats.index.to_numpy()
-    bad = [int(m) for m in present if not alpha[m - 1] > -1.0]
+    bad = [int(m) for m in present if not (np.isfinite(alpha[m - 1]) and alpha[m - 1] > -1.0)]
     if bad:
         raise WeatherError(f"{what}: stretch α = (ΔT_max − ΔT_min)/(⟨T_max⟩ − ⟨T_min⟩) must be "
-                           f"> −1, got {alpha[bad[0] - 1]:.3f} in month {bad[0]}; the daily "
-                           "range would shrink below zero. Check delta_max and delta_min")
+                           f"finite and > −1, got {alpha[bad[0] - 1]:.3f} in month {bad[0]}; "
+                           "the daily range would shrink below zero (or the file's month has "
+                           "no daily range). Check delta_max and delta_min")
     step = time_step(weather)
     month = np.asarray((weather.index - step / 2).month) - 1
     mean0 = stats["mean"].reindex(range(1, 13)).to_numpy()
