@@ -11,21 +11,27 @@ areas in m²; pressures in Pa; angles in degrees.
 
 Methods
 -------
-===================================== ===================================================
-single-sided, wind + stack + turbulence :func:`single_sided_de_gids_phaff` (de Gids & Phaff 1982)
-single-sided, wind or stack           :func:`single_sided_en16798_7` (EN 16798-7:2017, from memory)
-one opening, stack only               :func:`single_opening_stack_bs5925` (BS 5925:1991)
-two openings, stack only              :func:`stack_flow` (BS 5925:1991)
-two openings, wind only               :func:`cross_flow_wind` (BS 5925:1991)
-two openings, wind and stack          :func:`two_opening_flow` (orifice equation, pressure loop)
-orifice equation                      :func:`orifice_flow` (BS 5925:1991 eq. 2)
-openings in series                    :func:`series_area`
-free area of a hinged sash            :func:`hinged_free_area` (plane geometry)
-EN 16798-7 opening-angle factor       :func:`opening_angle_factor_en16798_7` (from memory)
-sash angle for a restricted gap       :func:`restricted_opening_angle`
-wind speed at height                  :func:`wind_speed_at_height` (BS 5925 / CIBSE terrain law)
-heat conductance of a flow            :func:`flow_conductance` (ρ·c_p·V̇)
-===================================== ===================================================
+* single-sided, wind + stack + turbulence: :func:`single_sided_de_gids_phaff`
+  (de Gids & Phaff 1982);
+* single-sided, the larger of wind and stack: :func:`single_sided_en16798_7`
+  (EN 16798-7:2017, from memory);
+* one opening, stack only: :func:`single_opening_stack_bs5925` (BS 5925:1991);
+* two openings, stack only: :func:`stack_flow` (BS 5925:1991);
+* two openings, wind only (cross ventilation): :func:`cross_flow_wind` (BS 5925:1991);
+* two openings, wind and stack together: :func:`two_opening_flow` (orifice equation around
+  the pressure loop);
+* orifice equation :func:`orifice_flow` (BS 5925:1991 eq. 2); openings in series
+  :func:`series_area`;
+* free area of a top-, bottom- or side-hung sash from its opening angle
+  :func:`hinged_free_area` (plane geometry); EN 16798-7 opening-angle factor
+  :func:`opening_angle_factor_en16798_7` (from memory); sash angle for a restricted gap
+  :func:`restricted_opening_angle`;
+* wind speed at a height :func:`wind_speed_at_height` (BS 5925 / CIBSE terrain law);
+* heat conductance of a flow :func:`flow_conductance` (ρ·c_p·|V̇|).
+
+Every function raises :class:`thermonet.errors.AirflowError` naming the parameter, the allowed
+range and the value received (negative area or wind speed, C_d outside (0, 1], NaN/inf,
+an angle outside 0 … 90°, Series on different indexes).
 
 Effective area = discharge coefficient C_d × free area. The orifice functions take the free
 area and C_d separately; the two single-sided correlations are fitted to the opening area
@@ -670,9 +676,9 @@ def two_opening_flow(area_1, area_2, temp_in, temp_out, *, wind_speed=0.0, cp_1=
     (:func:`orifice_flow`), so the pressure drops add and
     Q = C_d A_s √(2|Δp|/ρ_e) with 1/A_s² = 1/A_1² + 1/A_2² (:func:`series_area`); both
     openings see the outdoor density (the Boussinesq approximation of BS 5925). With no wind
-    this is :func:`stack_flow` up to that approximation (ρ_e − ρ_i)/ρ_e ≈ ΔT/T̄; with no
-    stack it is :func:`cross_flow_wind` exactly. Wind and stack may oppose each other and
-    cancel.
+    this is :func:`stack_flow` up to BS 5925's approximation of (ρ_e − ρ_i)/ρ_e = ΔT/T_i by
+    ΔT/T̄; with no stack it is :func:`cross_flow_wind` exactly. Wind and stack may oppose
+    each other and cancel.
 
     References
     ----------
