@@ -25,9 +25,9 @@ from thermonet.results import Results  # noqa: E402
 
 #: Public submodules, imported on first attribute access (``tn.builders``) so that
 #: ``import thermonet`` stays quick; ``import thermonet.builders`` works as usual.
-SUBMODULES = ("builders", "comfort", "constants", "constructions", "controls", "engine",
-              "errors", "gains", "io", "network", "plots", "results", "schedules", "solar",
-              "studies", "weather")
+SUBMODULES = ("airflow", "builders", "comfort", "constants", "constructions", "controls",
+              "engine", "errors", "gains", "io", "network", "occupancy", "plots", "results",
+              "schedules", "solar", "studies", "weather")
 
 
 def __getattr__(name):
@@ -48,6 +48,7 @@ __all__ = [
     "Results",
     "Signal",
     "above",
+    "airflow",
     "below",
     "builders",
     "colder",
@@ -61,6 +62,7 @@ __all__ = [
     "hours",
     "io",
     "network",
+    "occupancy",
     "plots",
     "radiation_conductance",
     "results",

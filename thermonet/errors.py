@@ -49,3 +49,7 @@ class AccuracyWarning(ThermonetWarning):
 
 class StudyWarning(ThermonetWarning):
     """Some variants of a design study failed; the others finished."""
+
+
+class AirflowError(ThermonetError, ValueError):
+    """An opening, flow or driving quantity of an airflow calculation is invalid."""

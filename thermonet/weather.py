@@ -1437,3 +1437,383 @@ def add_ground_temperature(
     out.attrs = dict(df.attrs)
     out[f"temp_ground_{depth:g}m"] = ground.to_numpy()
     return out
+
+
+# ============================================================================================
+# Warmer climates: shift/stretch morphing (Belcher, Hacker & Powell 2005) and hot spells.
+# A self-contained section of NEW functions; nothing above depends on it.
+# ============================================================================================
+#: Columns derived from ``temp_air`` that a morph would leave stale: morph first, then derive.
+_DERIVED_PREFIXES = ("temp_sky", "temp_ground_")
+
+#: Irradiance columns stretched together by :func:`morph_shift_stretch`.
+_IRRADIANCE_COLUMNS = ("ghi", "dni", "dhi")
+
+
+def _twelve(values: Any, name: str) -> np.ndarray:
+    """Twelve monthly values [Jan … Dec] from a number, a sequence of 12 or a month mapping."""
+    if isinstance(values, pd.Series) and not isinstance(values.index, pd.DatetimeIndex):
+        values = {int(k): v for k, v in values.items()}
+    if isinstance(values, Mapping):
+        keys = sorted(values)
+        if keys != list(range(1, 13)):
+            raise WeatherError(f"{name}: a mapping needs the months 1 … 12 as keys, got {keys}")
+        values = [values[m] for m in range(1, 13)]
+    arr = np.asarray(values, dtype=float)
+    if arr.ndim == 0:
+        arr = np.full(12, float(arr))
+    if arr.shape != (12,):
+        raise WeatherError(f"{name}: give one number, 12 monthly values (January first) or a "
+                           f"mapping month → value; got shape {arr.shape}")
+    if not np.isfinite(arr).all():
+        raise WeatherError(f"{name}: monthly values must be finite, got {arr.tolist()}")
+    return arr
+
+
+def _calendar_days(df: pd.DataFrame, what: str) -> tuple[pd.DatetimeIndex, pd.DatetimeIndex]:
+    """Interval mid-points and their local calendar days; every day must be complete."""
+    step = time_step(df)
+    mid = df.index - step / 2
+    days = mid.normalize()
+    per_day = pd.Series(1, index=days).groupby(level=0).size()
+    # rows a whole local day holds (23 or 25 h on daylight-saving changes in a civil zone)
+    starts = pd.DatetimeIndex(per_day.index)
+    full = np.asarray((starts + pd.DateOffset(days=1) - starts) / step).round().astype(int)
+    short = np.flatnonzero(per_day.to_numpy() != full)
+    if len(short):
+        i = int(short[0])
+        raise WeatherError(
+            f"{what} needs whole days ({full[i]} rows of {step} on that day, days taken at the "
+            f"interval mid-points); day {starts[i].date()} has {int(per_day.iloc[i])}. "
+            "Pass whole days, e.g. a full typical year from read_tmy3"
+        )
+    return mid, days
+
+
+def monthly_temperature_statistics(weather: pd.DataFrame, column: str = "temp_air"
+                                   ) -> pd.DataFrame:
+    """Monthly mean, mean daily maximum and mean daily minimum of a temperature column.
+
+    Parameters
+    ----------
+    weather : pandas.DataFrame
+        Weather with a regular tz-aware index of whole days (hour-ending labels).
+    column : str, default "temp_air"
+        Temperature column [°C].
+
+    Returns
+    -------
+    pandas.DataFrame
+        Index ``month`` (1 … 12, the months present); columns ``mean`` ⟨T⟩_m, ``mean_daily_max``
+        ⟨T_max⟩_m, ``mean_daily_min`` ⟨T_min⟩_m [°C] and ``days``. Rows and days are assigned
+        to months and days by their interval mid-points.
+    """
+    if column not in weather.columns:
+        raise WeatherError(f"weather has no column {column!r}; columns: {list(weather.columns)}")
+    mid, days = _calendar_days(weather, "monthly_temperature_statistics")
+    t = pd.Series(np.asarray(weather[column], dtype=float), index=mid)
+    daily = t.groupby(days).agg(["max", "min"])
+    month_of_day = daily.index.month
+    out = pd.DataFrame({
+        "mean": t.groupby(mid.month).mean(),
+        "mean_daily_max": daily["max"].groupby(month_of_day).mean(),
+        "mean_daily_min": daily["min"].groupby(month_of_day).mean(),
+        "days": daily["max"].groupby(month_of_day).size(),
+    })
+    out.index.name = "month"
+    return out
+
+
+def mean_change_for(weather: pd.DataFrame, delta_max: Any, delta_min: Any,
+                    column: str = "temp_air") -> np.ndarray:
+    """Monthly mean change [K] under which the shift/stretch morph meets ΔT_max and ΔT_min.
+
+    The morph moves the monthly mean daily maximum by ΔT_m + α_m (⟨T_max⟩_m − ⟨T⟩_m) and the
+    minimum by ΔT_m + α_m (⟨T_min⟩_m − ⟨T⟩_m). Both equal the given changes when
+
+    ΔT_m = ΔT_max,m − α_m (⟨T_max⟩_m − ⟨T⟩_m),  α_m = (ΔT_max,m − ΔT_min,m)/(⟨T_max⟩_m − ⟨T_min⟩_m).
+
+    Parameters
+    ----------
+    weather : pandas.DataFrame
+    delta_max, delta_min : number, 12 values or mapping month → value
+        Changes of the monthly mean daily maximum and minimum [K].
+    column : str, default "temp_air"
+
+    Returns
+    -------
+    numpy.ndarray
+        12 monthly mean changes [K] (NaN for months absent from ``weather``).
+    """
+    stats = monthly_temperature_statistics(weather, column).reindex(range(1, 13))
+    dmax = _twelve(delta_max, "delta_max [K]")
+    dmin = _twelve(delta_min, "delta_min [K]")
+    span = (stats["mean_daily_max"] - stats["mean_daily_min"]).to_numpy()
+    alpha = (dmax - dmin) / span
+    return dmax - alpha * (stats["mean_daily_max"] - stats["mean"]).to_numpy()
+
+
+def _move_humidity(out: pd.DataFrame, t_old: np.ndarray, t_new: np.ndarray,
+                   humidity: str, what: str) -> None:
+    """Update ``temp_dew`` / ``relative_humidity`` of ``out`` in place after a temperature change.
+
+    ``"relative"``: relative humidity kept; the dew point moved so that the vapour pressure is
+    RH·e_s(T_new). ``"dew_point"``: dew point (vapour pressure) kept; RH scaled by
+    e_s(T_old)/e_s(T_new). e_s from the Magnus form of :mod:`pvlib.atmosphere` (WMO).
+    """
+    if humidity not in ("relative", "dew_point"):
+        raise WeatherError(f"{what}: humidity must be 'relative' (keep relative humidity, move "
+                           f"the dew point) or 'dew_point' (keep the dew point, recompute "
+                           f"relative humidity), got {humidity!r}")
+    if humidity == "relative" and "temp_dew" in out.columns:
+        rh_magnus = pvlib.atmosphere.rh_from_tdew(t_old, out["temp_dew"].to_numpy(float))
+        out["temp_dew"] = pvlib.atmosphere.tdew_from_rh(t_new, rh_magnus)
+    if humidity == "dew_point" and "relative_humidity" in out.columns:
+        # rh_from_tdew(T_new, T_old) = 100·e_s(T_old)/e_s(T_new)
+        ratio = pvlib.atmosphere.rh_from_tdew(t_new, t_old) / 100.0
+        rh = out["relative_humidity"].to_numpy(float) * ratio
+        if (rh > 100.0 + 1e-9).any():
+            i = int(np.argmax(rh))
+            raise WeatherError(f"{what}: keeping the dew point gives relative humidity "
+                               f"{rh[i]:.1f} % > 100 % at {out.index[i]} (the air was cooled "
+                               "below its dew point); use humidity='relative'")
+        out["relative_humidity"] = rh
+
+
+def _check_derived(weather: pd.DataFrame, what: str) -> None:
+    stale = [c for c in weather.columns if str(c).startswith(_DERIVED_PREFIXES)]
+    if stale:
+        raise WeatherError(f"{what}: columns {stale} are derived from temp_air and would be "
+                           "left unchanged; drop them, morph, then add them again "
+                           "(add_sky_temperature / add_ground_temperature)")
+
+
+def morph_shift_stretch(weather: pd.DataFrame, delta_mean: Any, delta_max: Any, delta_min: Any,
+                        *, irradiance_change: Any = None, humidity: str = "relative",
+                        column: str = "temp_air") -> pd.DataFrame:
+    """Morph a typical year to a warmer climate by shift and stretch (Belcher et al. 2005).
+
+    Parameters
+    ----------
+    weather : pandas.DataFrame
+        Present-day typical year (whole days, regular tz-aware hour-ending index).
+    delta_mean, delta_max, delta_min : number, 12 values or mapping month → value
+        Changes of the monthly mean ΔT_m, of the monthly mean daily maximum ΔT_max,m and of
+        the monthly mean daily minimum ΔT_min,m of the dry-bulb temperature [K], e.g. from a
+        climate projection for the site. :func:`mean_change_for` gives the ΔT_m that makes
+        the max and min changes exact.
+    irradiance_change : number, 12 values or mapping, optional
+        Fractional change of the monthly mean global irradiance [-] (0.05 = +5 %), > −1;
+        ``ghi``, ``dni`` and ``dhi`` are stretched by the same factor 1 + f_m, which keeps
+        the diffuse fraction and the closure GHI = DNI·cos z + DHI. Default: unchanged.
+    humidity : {"relative", "dew_point"}, default "relative"
+        ``"relative"``: relative humidity is kept and ``temp_dew`` is moved to the dew point
+        of that humidity at the new temperature (more moisture in warmer air);
+        ``"dew_point"``: ``temp_dew`` (the vapour pressure) is kept and
+        ``relative_humidity`` is scaled by e_s(T)/e_s(T′). Saturation pressure e_s from the
+        Magnus form in :func:`pvlib.atmosphere.rh_from_tdew`. A column that is absent is
+        left absent.
+    column : str, default "temp_air"
+        The dry-bulb column [°C].
+
+    Returns
+    -------
+    pandas.DataFrame
+        A morphed copy; other columns unchanged; ``attrs["source"]`` notes the morph and
+        ``attrs["morph"]`` holds the monthly changes and stretch factors.
+
+    Raises
+    ------
+    WeatherError
+        Missing column, partial days, derived columns (``temp_sky``, ``temp_ground_*``),
+        a stretch α_m ≤ −1 (it would invert the daily cycle), irradiance change ≤ −1, or a
+        relative humidity above 100 % with ``humidity="dew_point"``.
+
+    Notes
+    -----
+    Belcher, Hacker & Powell (2005), dry-bulb temperature by shift and stretch, month m:
+
+    .. math::
+
+        T = T_0 + \\Delta T_m + \\alpha_m (T_0 - \\langle T_0 \\rangle_m), \\qquad
+        \\alpha_m = \\frac{\\Delta T_{max,m} - \\Delta T_{min,m}}
+                         {\\langle T_{0,max} \\rangle_m - \\langle T_{0,min} \\rangle_m}
+
+    ⟨T_0⟩_m is the monthly mean, ⟨T_0,max⟩_m and ⟨T_0,min⟩_m the monthly means of the daily
+    maximum and minimum of the present-day file. The monthly mean moves by exactly ΔT_m and
+    the monthly mean daily range by exactly ΔT_max,m − ΔT_min,m; the mean daily maximum and
+    minimum move by ΔT_m + α_m(⟨T_0,max⟩_m − ⟨T_0⟩_m) and ΔT_m + α_m(⟨T_0,min⟩_m − ⟨T_0⟩_m),
+    which equal ΔT_max,m and ΔT_min,m when ΔT_m is consistent (:func:`mean_change_for`).
+    Irradiance by stretch α = 1 + f_m (their "stretch" with the fractional change of the
+    monthly mean). Rows and days belong to months by their interval mid-points.
+
+    References
+    ----------
+    Belcher, S.E., Hacker, J.N., Powell, D.S. (2005). Constructing design weather data for
+    future climates. Building Services Engineering Research and Technology 26(1), 49–61.
+    doi:10.1191/0143624405bt112oa
+    """
+    what = "morph_shift_stretch"
+    _check_derived(weather, what)
+    stats = monthly_temperature_statistics(weather, column)
+    dmean = _twelve(delta_mean, "delta_mean [K]")
+    dmax = _twelve(delta_max, "delta_max [K]")
+    dmin = _twelve(delta_min, "delta_min [K]")
+    span = (stats["mean_daily_max"] - stats["mean_daily_min"]).reindex(range(1, 13)).to_numpy()
+    alpha = (dmax - dmin) / span
+    present = stats.index.to_numpy()
+    bad = [int(m) for m in present if not (np.isfinite(alpha[m - 1]) and alpha[m - 1] > -1.0)]
+    if bad:
+        raise WeatherError(f"{what}: stretch α = (ΔT_max − ΔT_min)/(⟨T_max⟩ − ⟨T_min⟩) must be "
+                           f"finite and > −1, got {alpha[bad[0] - 1]:.3f} in month {bad[0]}; "
+                           "the daily range would shrink below zero (or the file's month has "
+                           "no daily range). Check delta_max and delta_min")
+    step = time_step(weather)
+    month = np.asarray((weather.index - step / 2).month) - 1
+    mean0 = stats["mean"].reindex(range(1, 13)).to_numpy()
+    t0 = weather[column].to_numpy(float)
+    t1 = t0 + dmean[month] + alpha[month] * (t0 - mean0[month])
+    out = weather.copy()
+    out.attrs = dict(weather.attrs)
+    out[column] = t1
+    _move_humidity(out, t0, t1, humidity, what)
+    record = {"delta_mean": dmean.tolist(), "delta_max": dmax.tolist(),
+              "delta_min": dmin.tolist(), "alpha": alpha.tolist(), "humidity": humidity}
+    if irradiance_change is not None:
+        frac = _twelve(irradiance_change, "irradiance_change [-]")
+        if not (frac > -1.0).all():
+            raise WeatherError(f"{what}: irradiance_change must be > −1 (−100 %), got "
+                               f"{frac.tolist()}")
+        for col in _IRRADIANCE_COLUMNS:
+            if col in out.columns:
+                out[col] = out[col].to_numpy(float) * (1.0 + frac[month])
+        record["irradiance_change"] = frac.tolist()
+    out.attrs["morph"] = record
+    out.attrs["source"] = _add_note(
+        str(weather.attrs.get("source", "")),
+        "morphed to a warmer climate by shift/stretch (Belcher, Hacker & Powell 2005)")
+    return out
+
+
+def hottest_spell(weather: pd.DataFrame, days: int, column: str = "temp_air") -> pd.DataFrame:
+    """The rows of the ``days`` consecutive days with the highest mean temperature.
+
+    Parameters
+    ----------
+    weather : pandas.DataFrame
+        Weather of whole days (regular tz-aware hour-ending index).
+    days : int
+        Length of the spell [d], ≥ 1.
+    column : str, default "temp_air"
+        Temperature column [°C].
+
+    Returns
+    -------
+    pandas.DataFrame
+        The rows of the hottest window (days by interval mid-point; the first one wins a tie);
+        ``attrs["spell"]`` holds ``first_day``, ``last_day`` (ISO dates) and ``mean`` [°C].
+
+    Notes
+    -----
+    The running mean of the daily means over ``days`` days is maximised; the year is not
+    wrapped round. Use the result as the period of a heat-wave check, or with a warm-up.
+    """
+    if isinstance(days, bool) or not isinstance(days, (int, np.integer)) or days < 1:
+        raise WeatherError(f"hottest_spell: days must be a whole number ≥ 1, got {days!r}")
+    if column not in weather.columns:
+        raise WeatherError(f"weather has no column {column!r}; columns: {list(weather.columns)}")
+    mid, day_of_row = _calendar_days(weather, "hottest_spell")
+    daily = pd.Series(weather[column].to_numpy(float), index=mid).groupby(day_of_row).mean()
+    if days > len(daily):
+        raise WeatherError(f"hottest_spell: days={days} exceeds the {len(daily)} days of the "
+                           "weather")
+    running = daily.rolling(days).mean()
+    last = int(np.nanargmax(running.to_numpy()))
+    first_day, last_day = daily.index[last - days + 1], daily.index[last]
+    rows = weather[(day_of_row >= first_day) & (day_of_row <= last_day)].copy()
+    rows.attrs = dict(weather.attrs)
+    rows.attrs["spell"] = {"first_day": first_day.date().isoformat(),
+                           "last_day": last_day.date().isoformat(),
+                           "mean": float(running.iloc[last])}
+    return rows
+
+
+def insert_warm_spell(weather: pd.DataFrame, start: Any, days: float, offset: float, *,
+                      ramp_hours: float = 24.0, humidity: str = "relative",
+                      column: str = "temp_air") -> pd.DataFrame:
+    """Add a warm (or cold) offset for a number of days, with raised-cosine edges.
+
+    Parameters
+    ----------
+    weather : pandas.DataFrame
+        Weather with a regular tz-aware index.
+    start : str or pandas.Timestamp
+        Local start of the full offset (e.g. ``"2025-07-14"`` for midnight); a naive time is
+        read in the index's time zone.
+    days : float
+        Duration of the full offset [d], > 0.
+    offset : float
+        Temperature added during the spell [K] (negative for a cold spell).
+    ramp_hours : float, default 24
+        Duration of each edge [h], ≥ 0: the offset rises as ½(1 − cos(π t/ramp)) before
+        ``start`` and falls the same way after the end (0 gives a step).
+    humidity : {"relative", "dew_point"}, default "relative"
+        As in :func:`morph_shift_stretch`.
+    column : str, default "temp_air"
+
+    Returns
+    -------
+    pandas.DataFrame
+        A copy with the offset added at the interval mid-points; ``attrs["source"]`` notes it.
+    """
+    what = "insert_warm_spell"
+    _check_derived(weather, what)
+    if column not in weather.columns:
+        raise WeatherError(f"weather has no column {column!r}; columns: {list(weather.columns)}")
+    checks = (("days [d]", days, "> 0", lambda v: v > 0),
+              ("ramp_hours [h]", ramp_hours, "≥ 0", lambda v: v >= 0),
+              ("offset [K]", offset, "", lambda v: True))
+    for name, value, rule, ok in checks:
+        number = isinstance(value, (int, float, np.integer, np.floating)) and not isinstance(
+            value, bool)
+        if not (number and math.isfinite(value) and ok(value)):
+            raise WeatherError(f"{what}: {name} must be a finite number {rule}, got {value!r}")
+    step = time_step(weather)
+    t0 = pd.Timestamp(start)
+    t0 = t0.tz_localize(weather.index.tz) if t0.tzinfo is None else t0.tz_convert(
+        weather.index.tz)
+    t1 = t0 + pd.Timedelta(days=float(days))
+    ramp = pd.Timedelta(hours=float(ramp_hours))
+    first, last = weather.index[0] - step, weather.index[-1]
+    if t0 - ramp < first or t1 + ramp > last:
+        raise WeatherError(f"{what}: the spell {t0 - ramp} … {t1 + ramp} (with its ramps) "
+                           f"does not lie within the weather {first} … {last}; move or "
+                           "shorten it")
+    mid = weather.index - step / 2
+    hours_before = np.asarray((t0 - mid) / pd.Timedelta(hours=1), dtype=float)
+    hours_after = np.asarray((mid - t1) / pd.Timedelta(hours=1), dtype=float)
+    outside = np.maximum(hours_before, hours_after)        # > 0 outside the plateau [h]
+    if ramp_hours > 0:
+        x = np.clip(1.0 - outside / ramp_hours, 0.0, 1.0)  # 1 on the plateau, 0 beyond ramps
+        weight = np.where(outside <= 0.0, 1.0, 0.5 * (1.0 - np.cos(np.pi * x)))
+    else:
+        weight = (outside <= 0.0).astype(float)
+    t_old = weather[column].to_numpy(float)
+    t_new = t_old + offset * weight
+    out = weather.copy()
+    out.attrs = dict(weather.attrs)
+    out[column] = t_new
+    _move_humidity(out, t_old, t_new, humidity, what)
+    out.attrs["source"] = _add_note(
+        str(weather.attrs.get("source", "")),
+        f"{offset:+g} K spell from {t0} for {days:g} d, {ramp_hours:g} h raised-cosine edges")
+    return out
+
+
+__all__ += [
+    "hottest_spell",
+    "insert_warm_spell",
+    "mean_change_for",
+    "monthly_temperature_statistics",
+    "morph_shift_stretch",
+]
