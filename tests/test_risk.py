@@ -320,6 +320,24 @@ def test_warming_reaches_the_weather_and_handles_reach_the_temperature():
     np.testing.assert_allclose(sorted(seen), sorted(20.0 + r.samples[studies.WARMING]))
 
 
+def test_resumed_study_equals_the_uninterrupted_one(tmp_path):
+    calls = []
+
+    def build(ua=50.0, gain=0.0, colour=0.0):
+        calls.append(gain)
+        return toy_room(ua, gain)
+
+    kw = dict(warming=WARM, n_samples=16, seed=9, warmup_days=0.0, progress=False,
+              criteria=[studies.hours_above_criterion(26.0, max_hours=0.0)])
+    args = (build, OPTIONS, {"gain": GAIN, "colour": (0.0, 1.0)}, TOY_WEATHER)
+    first = studies.overheating_risk(*args, temperature="room", out=tmp_path, **kw)
+    assert len(calls) == 32
+    again = studies.overheating_risk(*args, temperature="room", out=tmp_path, **kw)
+    assert len(calls) == 32          # every run was read back from the folder
+    pd.testing.assert_frame_equal(first.runs, again.runs)
+    pd.testing.assert_frame_equal(first.risk, again.risk)
+
+
 # ------------------------------------------------------------------ report
 def test_summary_and_plot(toy):
     text = toy.summary()
