@@ -26,7 +26,7 @@ from scipy import stats
 import thermonet as tn
 from thermonet import comfort, studies
 from thermonet.constants import CAUTION
-from thermonet.errors import StudyError
+from thermonet.errors import StudyError, StudyWarning
 
 TZ = "Etc/GMT-1"
 
@@ -369,6 +369,13 @@ def test_bad_input_is_refused_with_names():
     with pytest.raises(StudyError, match="both option parameters and uncertain"):
         studies.overheating_risk(toy_room, OPTIONS, {"ua": (10.0, 20.0)}, TOY_WEATHER,
                                  temperature="room")
+    with pytest.warns(StudyWarning, match="8 of 8 variants failed"):
+        failed = studies.overheating_risk(toy_room, OPTIONS, {"gain": GAIN}, TOY_WEATHER,
+                                          temperature="kitchen", n_samples=4, seed=0,
+                                          warmup_days=0.0, progress=False)
+    assert (failed.risk["n_errors"] == 4).all() and failed.risk["probability"].isna().all()
+    assert "no run finished" in failed.summary()
+    assert "'kitchen' is not a node" in failed.runs["error"].iloc[0]
     with pytest.raises(StudyError, match="'kitchen' is not a node"):
         studies.overheating_risk(toy_room, OPTIONS, {"gain": GAIN}, TOY_WEATHER,
                                  temperature="kitchen", n_samples=2, seed=0,

@@ -1020,6 +1020,8 @@ def _tabulate(runs, opts, crits, samples, dists, meta) -> RiskResult:
     """Failure flags, probabilities with intervals, and drivers from the run table."""
     ok = runs[ERROR].isna().to_numpy()
     for c in crits:
+        if c.key not in runs.columns:   # no run finished: run_variants has no value column
+            runs.insert(len(runs.columns) - 1, c.key, np.full(len(runs), np.nan))
         flags = pd.Series(c.fails(runs[c.key].to_numpy()), index=runs.index, dtype="boolean")
         runs[f"failed:{c.key}"] = flags.where(ok, pd.NA)
     names = list(samples.columns)
@@ -1136,6 +1138,10 @@ class RiskResult:
             lines.append(f"  {option}:")
             for _, r in self.risk[self.risk["option"] == option].iterrows():
                 err = f", {r['n_errors']} run(s) failed to finish" if r["n_errors"] else ""
+                if not r["n_runs"]:
+                    lines.append(f"    {r['label']}: not estimated, no run finished (see the "
+                                 "'error' column of runs)")
+                    continue
                 lines.append(
                     f"    {r['label']}: {_pct(r['probability'])} ({_pct(r['ci_low'])} – "
                     f"{_pct(r['ci_high'])}), {r['n_failed']} of {r['n_runs']} runs{err}; "
