@@ -1,5 +1,28 @@
-"""Design studies: variants on the engine's variant axis, sensitivity, calibration."""
+"""Design studies: variants on the engine's variant axis, sensitivity, calibration, comfort
+outputs per variant and overheating risk under uncertainty."""
 
+from thermonet.studies.outputs import (  # noqa: F401
+    comfort_outputs,
+    energy_outputs,
+    occupied_rows,
+    outputs_table,
+    variant_outputs,
+)
+from thermonet.studies.risk import (  # noqa: F401
+    WARMING,
+    Criterion,
+    RiskResult,
+    RiskRun,
+    adaptive_criterion,
+    binomial_interval,
+    degree_hours_criterion,
+    failure_drivers,
+    hours_above_criterion,
+    overheating_risk,
+    sample_inputs,
+    tm52_criterion,
+    tm59_criterion,
+)
 from thermonet.studies.variants import (  # noqa: F401
     CalibrationResult,
     SensitivityResult,
@@ -14,14 +37,32 @@ from thermonet.studies.variants import (  # noqa: F401
 )
 
 __all__ = [
+    "WARMING",
     "CalibrationResult",
+    "Criterion",
+    "RiskResult",
+    "RiskRun",
     "SensitivityResult",
+    "adaptive_criterion",
+    "binomial_interval",
     "calibrate",
+    "comfort_outputs",
+    "degree_hours_criterion",
+    "energy_outputs",
+    "failure_drivers",
+    "hours_above_criterion",
     "morris",
+    "occupied_rows",
     "one_at_a_time",
+    "outputs_table",
+    "overheating_risk",
     "read_study",
     "run_variants",
+    "sample_inputs",
     "sobol",
+    "tm52_criterion",
+    "tm59_criterion",
     "tornado_plot",
+    "variant_outputs",
     "variant_traces",
 ]
