@@ -58,7 +58,7 @@ def test_rc_node_periodic_response_amplitude_and_lag():
     t_mid = (np.arange(n) + 0.5) * step
     om = 2 * np.pi / 86400
     w = pd.DataFrame({"temp_air": 10 * np.cos(om * t_mid)}, index=idx)
-    res = tn.simulate(one_node(C=C, H=H), w, warmup_days=3)
+    res = tn.simulate(one_node(C=C, H=H), w, warmup_days=3, interpolate=())
     T = res.mean_temperatures["n"].to_numpy()[-288 * 3:]
     t = t_mid[-288 * 3:]
     # least-squares fit of a cos + b sin over the last 3 days
@@ -136,14 +136,16 @@ def stiff_network():
 
 def test_exact_stepper_matches_fine_reference_integration():
     # Reference: scipy.integrate.solve_ivp (Radau, rtol 1e-11) restarted at every step so the
-    # piecewise-constant inputs are honoured exactly; massless node eliminated by hand.
+    # piecewise-constant inputs are honoured exactly; massless node eliminated by hand. The
+    # inputs are held over each step here (interpolate=(); tests/test_timing.py covers the
+    # interpolated case).
     rng = np.random.default_rng(1)
     n = 36
     w = hourly_weather(n, temp_air=rng.uniform(-5, 15, n))
     net = stiff_network()
     net.add_source("air", power=pd.Series(rng.uniform(0, 800, n), index=w.index),
                    path="internal")
-    res = tn.simulate(net, w, warmup_days=0)
+    res = tn.simulate(net, w, warmup_days=0, interpolate=())
     names = ["air", "wall", "skin", "slab"]
     C = np.array([5e4, 3e6, 2e3, 2e7])
     # Laplacian with surf eliminated: air–surf–wall series = 1/(1/300 + 1/800)
@@ -173,7 +175,7 @@ def test_exact_stepper_matches_van_loan_matrix_exponential():
     # "Computing integrals involving the matrix exponential", IEEE TAC 23(3), via scipy expm.
     net = stiff_network()
     w = hourly_weather(10, temp_air=np.linspace(-5, 5, 10))
-    res = tn.simulate(net, w, warmup_days=0)
+    res = tn.simulate(net, w, warmup_days=0, interpolate=())   # zero-order hold
     from thermonet.engine.compile import compile_network
     from thermonet.engine.discretise import reduce
 
@@ -211,11 +213,11 @@ def test_numba_and_numpy_kernels_agree():
 def test_sub_hourly_step_holds_weather_rows():
     net = stiff_network()
     w = hourly_weather(24 * 4, temp_air=np.tile([0.0, 10.0], 48))
-    res = tn.simulate(net, w, step="15min", warmup_days=1)
+    res = tn.simulate(net, w, step="15min", warmup_days=1, interpolate=())
     assert len(res.index) == 4 * len(w)
     assert res.index[3] == w.index[0]
     assert res.index.tz is not None
-    hourly = tn.simulate(net, w, warmup_days=1)
+    hourly = tn.simulate(net, w, warmup_days=1, interpolate=())
     # every fourth sub-step ends where the hourly step ends: same exact state
     np.testing.assert_allclose(res.temperatures.iloc[3::4].to_numpy(),
                                hourly.temperatures.to_numpy(), atol=1e-9)

@@ -1,5 +1,6 @@
 """Engine: sparse method, random networks (hypothesis), ISO 13786 wall convergence."""
 
+import mpmath
 import numpy as np
 import pandas as pd
 import pytest
@@ -96,10 +97,18 @@ def test_sparse_free_running_march_agrees_with_exact(seed):
     # The compiled free-running march of the sparse method (no thermostat, no switch) against
     # the exact modal step, on random stiff networks with massless nodes; balances close.
     net, w, names = random_network(seed, 14, thermostat=False)
+    a = tn.simulate(net, w, method="exact", warmup_days=1, interpolate=())
+    b = tn.simulate(net, w, method="sparse", sparse_tol=1e-9, warmup_days=1, interpolate=())
+    np.testing.assert_allclose(a.temperatures, b.temperatures, atol=1e-6)
+    np.testing.assert_allclose(a.mean_temperatures, b.mean_temperatures, atol=1e-6)
+    # outdoor air interpolated between labels: the sparse step applies the exponential to the
+    # departure from a ramp's particular solution, whose offset on heavy, weakly linked nodes
+    # (C/G of days) reaches ~1e4 K, so its relative error 1e-11 shows as ~1e-7 K at the end
+    # of a step and, through C·ΔT/h in the step-mean equation, ~1e-3 K in the means
     a = tn.simulate(net, w, method="exact", warmup_days=1)
     b = tn.simulate(net, w, method="sparse", sparse_tol=1e-9, warmup_days=1)
     np.testing.assert_allclose(a.temperatures, b.temperatures, atol=1e-6)
-    np.testing.assert_allclose(a.mean_temperatures, b.mean_temperatures, atol=1e-6)
+    np.testing.assert_allclose(a.mean_temperatures, b.mean_temperatures, atol=2e-3)
     assert b.worst_residual() < 1e-9
     sub = names[: len(names) // 2]
     bal = b.balance(sub, freq="D")
@@ -242,11 +251,22 @@ def test_doubling_matches_van_loan_expm(seed):
     Phi_ref = X[:n, :n]
     J1 = X[:n, n:2 * n]               # ∫₀^h e^{sA} ds
     J2B = X[:n, 2 * n:]               # ∫₀^h ∫₀^s e^{rA} dr ds B
-    Phi, Gam, Phibar, Gambar = zoh_doubling(K, E, C, h, nb=2)
+    # one more integral, J₃B = ∫∫∫ e^{rA} B, from the same construction evaluated with
+    # mpmath at 40 digits (scipy's expm of this larger block matrix is only good to ~1e-9)
+    big3 = np.zeros((3 * n + nu, 3 * n + nu))
+    big3[:n, :n] = A * h
+    big3[:n, n:2 * n] = np.eye(n) * h
+    big3[n:2 * n, 2 * n:3 * n] = np.eye(n) * h
+    big3[2 * n:3 * n, 3 * n:] = B * h
+    with mpmath.workdps(40):
+        X3 = mpmath.expm(mpmath.matrix(big3.tolist()))
+        J3B = np.array([[float(X3[i, 3 * n + j]) for j in range(nu)] for i in range(n)])
+    Phi, Gam, Phibar, Gambar, Gam3 = zoh_doubling(K, E, C, h, nb=2)
     assert np.allclose(Phi, Phi_ref, rtol=1e-11, atol=1e-13)
     assert np.allclose(Gam, J1 @ B, rtol=1e-11, atol=1e-13)
     assert np.allclose(Phibar, J1 / h, rtol=1e-11, atol=1e-13)
     assert np.allclose(Gambar, J2B / h, rtol=1e-11, atol=1e-13)
+    assert np.allclose(Gam3, J3B / h**2, rtol=1e-11, atol=1e-13)
 
 
 @pytest.mark.parametrize("seed", [3, 4])
@@ -263,8 +283,9 @@ def test_doubling_agrees_with_modal_form_and_keeps_uniform_temperature(seed):
     d = Discretised(h=h, nb=2, C=C[None], K=K[None, None], E=E[None, None],
                     Yx=np.zeros((1, 1, 0, n)), Yu=np.zeros((1, 1, 0, 3)), lam=lam[None, None],
                     Q=Q[None, None], W=W[None, None], dense=np.zeros((1, 1), bool))
-    Phi, Gam, Phibar, Gambar = zoh_doubling(K, E, C, h, nb=2)
-    for ref, got in zip(d.matrices(0, 0), (Phi, Gam, Phibar, Gambar), strict=True):
+    mats = zoh_doubling(K, E, C, h, nb=2)
+    Phi, Gam, Phibar, Gambar, _ = mats
+    for ref, got in zip(d.matrices(0, 0), mats, strict=True):
         assert np.allclose(got, ref, rtol=1e-8, atol=1e-10)
     assert np.abs(Phi.sum(axis=1) + Gam[:, :2].sum(axis=1) - 1).max() < 1e-14
     assert np.abs(Phibar.sum(axis=1) + Gambar[:, :2].sum(axis=1) - 1).max() < 1e-12

@@ -105,7 +105,7 @@ def test_airing_rule_switches_the_window(july):
     assert 20 < is_open.sum() < len(is_open) - 20          # both states occur
     # open means the full flow: ρc_p·V̇·(T_out − T_room, step means)
     f = res.flows["window"][is_open]
-    dt = (july["temp_air"] - res.mean_temperatures["room"])[is_open]
+    dt = (res.mean_temperatures["outdoor"] - res.mean_temperatures["room"])[is_open]
     np.testing.assert_allclose(f, G_OPEN * dt, rtol=1e-9, atol=1e-9)
 
 
@@ -138,7 +138,7 @@ def test_closing_overrides_and_partly_open(july):
     assert (airing_only & (weather["wind_speed"] > 4.0) & ~is_open).sum() > 0
     assert (airing_only & (weather["precipitation"] > 0.0) & ~is_open).sum() > 0
     # partly open: 40 % of the full conductance
-    dt = (t_out - res.mean_temperatures["room"])[is_open]
+    dt = (res.mean_temperatures["outdoor"] - res.mean_temperatures["room"])[is_open]
     np.testing.assert_allclose(res.flows["window"][is_open], 0.4 * G_OPEN * dt, rtol=1e-9,
                                atol=1e-9)
 

@@ -34,12 +34,13 @@ class Results:
         self._order = list(net.nodes) + list(net.boundaries)
 
     # ------------------------------------------------------------ raw arrays
-    def _points(self, free: np.ndarray) -> np.ndarray:
-        """Free-node temperatures then the boundaries' (n × (nf + nb)) [°C]."""
+    def _points(self, free: np.ndarray, at_end: bool = False) -> np.ndarray:
+        """Free-node temperatures then the boundaries' (n × (nf + nb)) [°C], step means or
+        (``at_end``) at the end of each step."""
         nf = free.shape[1]
         out = np.empty((free.shape[0], nf + self._c.nb))
         out[:, :nf] = free
-        out[:, nf:] = self._t.U[:, :self._c.nb]
+        out[:, nf:] = (self._t.U_end if at_end else self._t.U)[:, :self._c.nb]
         return out
 
     @cached_property
@@ -85,8 +86,8 @@ class Results:
     def temperatures(self) -> pd.DataFrame:
         """Node and boundary temperatures [°C] at the end of each step."""
         c = self._c
-        return self._frame(self._points(self._t.end(np.arange(c.nf))), c.free + c.boundaries,
-                           self._order)
+        return self._frame(self._points(self._t.end(np.arange(c.nf)), at_end=True),
+                           c.free + c.boundaries, self._order)
 
     @cached_property
     def mean_temperatures(self) -> pd.DataFrame:

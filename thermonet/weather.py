@@ -831,7 +831,8 @@ def from_dataframe(
         name=str(name),
     )
     out.attrs = {**dict(df.attrs), "site": site.to_dict(), "source": str(source)}
-    return validate(out, required, fill, max_gap=max_gap, closure_limits=closure_limits, site=site)
+    return tag_timing(validate(out, required, fill, max_gap=max_gap,
+                               closure_limits=closure_limits, site=site))
 
 
 def read_tmy3(
@@ -1817,3 +1818,66 @@ __all__ += [
     "monthly_temperature_statistics",
     "morph_shift_stretch",
 ]
+
+
+# --------------------------------------------------------------------------------------------
+# timing of the columns within a step
+# --------------------------------------------------------------------------------------------
+#: Columns that are instantaneous values at their time stamp (typical-year temperatures,
+#: humidity, wind, pressure): the engine interpolates them linearly between labels
+#: (first-order hold). Every other column (irradiance, which typical-year files give as the
+#: total over the hour ending at the label) is held over its interval (zero-order hold).
+INSTANTANEOUS_COLUMNS = ("temp_air", "temp_dew", "temp_sky", "relative_humidity",
+                         "wind_speed", "wind_direction", "pressure")
+
+#: Key of ``DataFrame.attrs`` under which readers record each column's timing.
+TIMING_KEY = "timing"
+
+
+def instantaneous_columns(weather: pd.DataFrame) -> frozenset:
+    """Columns of ``weather`` that are instantaneous values (interpolated between labels).
+
+    The frame's own record ``weather.attrs["timing"]`` (``{column: "instantaneous" |
+    "interval"}``, written by thermonet's readers) decides where it names a column; other
+    columns are instantaneous when they are in :data:`INSTANTANEOUS_COLUMNS` or start with
+    ``temp_`` (e.g. ``temp_ground_1m``), and interval values otherwise.
+
+    Parameters
+    ----------
+    weather : pandas.DataFrame
+        Weather frame; each row's label ends its interval.
+
+    Returns
+    -------
+    frozenset of str
+    """
+    record = weather.attrs.get(TIMING_KEY, {}) or {}
+    out = set()
+    for col in weather.columns:
+        kind = record.get(col)
+        if kind is None:
+            inst = col in INSTANTANEOUS_COLUMNS or str(col).startswith("temp_")
+            kind = "instantaneous" if inst else "interval"
+        if kind not in ("instantaneous", "interval"):
+            raise WeatherError(f"weather.attrs['timing'][{col!r}] is {kind!r}; use "
+                               "'instantaneous' or 'interval'")
+        if kind == "instantaneous":
+            out.add(col)
+    return frozenset(out)
+
+
+def tag_timing(weather: pd.DataFrame) -> pd.DataFrame:
+    """Record every column's timing in ``weather.attrs["timing"]`` (in place; returned).
+
+    Parameters
+    ----------
+    weather : pandas.DataFrame
+        Weather frame; see :func:`instantaneous_columns` for the defaults.
+    """
+    inst = instantaneous_columns(weather)
+    weather.attrs[TIMING_KEY] = {c: ("instantaneous" if c in inst else "interval")
+                                 for c in weather.columns}
+    return weather
+
+
+__all__ += ["INSTANTANEOUS_COLUMNS", "TIMING_KEY", "instantaneous_columns", "tag_timing"]

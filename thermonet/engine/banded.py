@@ -97,16 +97,20 @@ def solve_band_many(Lb, d, R):
 
 
 @numba.njit(cache=True, parallel=True)
-def march_free_band(Lbs, ds, weights, r_inf, c, Lb_real, d_real, E_ptr, E_idx, E_val, U,
-                    T0, perm, h):
-    """March ``T⁺ = x_e + r(−hC⁻¹L)(T − x_e)`` over all rows of the inputs ``U``.
+def march_free_band(Lbs, ds, weights, r_inf, c, Lb_real, d_real, E_ptr, E_idx, E_val, U, D,
+                    ramp, T0, perm, h):
+    """March the free-running sparse step over all rows of the inputs ``U``.
 
-    The free-running loop of the sparse method in one compiled call. Per step: the
-    equilibrium ``L x_e = E u`` (a real banded solve), the ``n/2`` complex pole solves in
-    parallel, and the step mean from the integrated equation
-    ``L T̄ = E u − C (T⁺ − T)/h = L x_e − C (T⁺ − T)/h``. ``L``, ``C`` (``c``), ``E`` (CSR
-    rows ``E_ptr, E_idx, E_val``) and ``T0`` are in the banded (permuted) order; the outputs
-    are written in the network's order (``perm[i]`` is node i of the banded order).
+    The free-running loop of the sparse method in one compiled call. Inputs are ``U`` at the
+    end of each step and, where ``ramp``, rise linearly over it at the rates ``D`` [unit/s]
+    (first-order hold). The particular solution of ``C dT/dt = −L T + E u(t)`` for a linear
+    input is ``T_p(t) = α + βt`` with ``Lβ = E d`` and ``L α_end = E u − Cβ`` at the end of
+    the step, so ``T⁺ = α_end + r(−hC⁻¹L)(T − α_end + hβ)`` (held inputs: β = 0 and α is the
+    equilibrium). Per step: one or two real banded solves, the ``n/2`` complex pole solves in
+    parallel, and the step mean from the integrated equation ``L T̄ = E ū − C (T⁺ − T)/h``
+    with ``ū = u − hd/2``. ``L``, ``C`` (``c``), ``E`` (CSR rows ``E_ptr, E_idx, E_val``)
+    and ``T0`` are in the banded (permuted) order; the outputs are written in the network's
+    order (``perm[i]`` is node i of the banded order).
 
     Returns
     -------
@@ -126,30 +130,42 @@ def march_free_band(Lbs, ds, weights, r_inf, c, Lb_real, d_real, E_ptr, E_idx, E
     parts = np.zeros((P, n))
     rc = np.empty(n, dtype=np.complex128)
     b = np.empty(n)
+    bd = np.empty(n)
     dT = np.empty(n)
+    beta = np.zeros(n)
     for k in range(nsteps):
         for i in range(n):
             acc = 0.0
+            accd = 0.0
             for q in range(E_ptr[i], E_ptr[i + 1]):
                 acc += E_val[q] * U[k, E_idx[q]]
+                if ramp[E_idx[q]]:
+                    accd += E_val[q] * D[k, E_idx[q]]
             b[i] = acc
-        xe = solve_band(Lb_real, d_real, b)
+            bd[i] = accd
+        if ramp.any():
+            beta = solve_band(Lb_real, d_real, bd)
+            for i in range(n):
+                dT[i] = b[i] - c[i] * beta[i]
+            xe = solve_band(Lb_real, d_real, dT)
+        else:
+            xe = solve_band(Lb_real, d_real, b)
         for i in range(n):
-            rc[i] = c[i] * (T[i] - xe[i])
+            rc[i] = c[i] * (T[i] - xe[i] + h * beta[i])
         for p in numba.prange(P):
             y = solve_band(Lbs[p], ds[p], rc)
             for i in range(n):
                 parts[p, i] = 2.0 * (weights[p] * y[i]).real
         for i in range(n):
-            acc = xe[i] + r_inf * (T[i] - xe[i])
+            acc = xe[i] + r_inf * (T[i] - xe[i] + h * beta[i])
             for p in range(P):
                 acc += parts[p, i]
-            dT[i] = c[i] * (acc - T[i]) / h
+            dT[i] = b[i] - 0.5 * h * bd[i] - c[i] * (acc - T[i]) / h
             T[i] = acc
             Tall[k + 1, perm[i]] = acc
-        corr = solve_band(Lb_real, d_real, dT)
+        tm = solve_band(Lb_real, d_real, dT)
         for i in range(n):
-            Tmean[k, perm[i]] = xe[i] - corr[i]
+            Tmean[k, perm[i]] = tm[i]
     return Tall, Tmean
 
 

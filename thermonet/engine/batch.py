@@ -52,7 +52,7 @@ from thermonet.engine.compile import (
     compile_structure,
     compile_values,
 )
-from thermonet.engine.discretise import phi1, phi2
+from thermonet.engine.discretise import phi1, phi2, phi3
 from thermonet.engine.run import GroupRun, resolve_kernel, step_group
 from thermonet.engine.simulate import effective_inputs, trajectory_of
 from thermonet.errors import NetworkError
@@ -192,17 +192,30 @@ def _annual_sums(st, vals, run: GroupRun) -> tuple:
     V, ns = run.F.shape[:2]
     nb, nin = st.nb, st.nb + st.nsrc
     us = sums["us_sum"].copy()                              # raw; constants added here
+    up = sums["up_sum"].copy()                              # previous values (ramps)
     cnt = sums["cnt"]
     ucol = np.array([[isinstance(c, float) for c in p.ucols] for p in vals]).reshape(V, nin)
     const = np.array([[c if isinstance(c, float) else 0.0 for c in p.ucols]
                       for p in vals]).reshape(V, nin)
     us[:, :, :nin] += np.where(ucol, const, 0.0)[:, None, :] * cnt[:, :, None]
-    Ueff = us * run.F                                       # applied inputs
+    up[:, :, :nin] += np.where(ucol, const, 0.0)[:, None, :] * cnt[:, :, None]
+    r = np.zeros((V, 1, us.shape[-1]), dtype=bool)
+    r[:, 0, :nin] = np.array([p.ramp for p in vals]).reshape(V, nin)
+    hold = np.where(r, 0.0, us) * run.F                      # applied inputs, held
+    rend = np.where(r, us, 0.0)                               # ramps (boundaries: F = 1)
+    rprev = np.where(r, up, 0.0)
+    Ueff = hold + 0.5 * (rend + rprev)                        # Σ step means
     x = d.lam * d.h
-    zbar = phi1(x) * sums["zs_sum"] + np.einsum("vsij,vsj->vsi", d.W, Ueff) * (d.h * phi2(x))
+    e2, e3 = d.h * phi2(x), d.h * phi3(x)
+
+    def w(arr):
+        return np.einsum("vsij,vsj->vsi", d.W, arr)
+
+    zbar = phi1(x) * sums["zs_sum"] + w(hold) * e2 + w(rend) * e3 + w(rprev) * (e2 - e3)
     xbar = np.einsum("vsij,vsj->vsi", d.Q, zbar)
-    for (v, s), (_, _, Phibar, Gambar) in d.dense_mats.items():
-        xbar[v, s] = Phibar @ sums["zs_sum"][v, s] + Gambar @ Ueff[v, s]
+    for (v, s), (_, _, Phibar, Gambar, Gam3) in d.dense_mats.items():
+        xbar[v, s] = (Phibar @ sums["zs_sum"][v, s] + Gambar @ hold[v, s] + Gam3 @ rend[v, s]
+                      + (Gambar - Gam3) @ rprev[v, s])
     ybar = np.einsum("vsij,vsj->vsi", d.Yx, xbar) + np.einsum("vsij,vsj->vsi", d.Yu, Ueff)
     return np.concatenate([xbar, ybar, Ueff[..., :nb]], axis=-1), Ueff
 
@@ -336,11 +349,11 @@ def _run_chunk(st, vals: list, nets: list, store: ColumnStore, warm: int, opts: 
 def _results_for(st, val, net, store, run: GroupRun, v: int, warm: int) -> Results:
     comp = Compiled(st, val, store, initial={k: x.initial for k, x in net.nodes.items()
                                              if x.initial is not None})
-    U = effective_inputs(comp, run.F[v], run.S[v], run.P[v], slice(None))
+    U_end, U_prev = effective_inputs(comp, run.F[v], run.S[v], run.P[v], warm)
     one = GroupRun(run.X[v:v + 1], run.S[v:v + 1], run.P[v:v + 1], run.x_first[v:v + 1],
                    run.x_last[v:v + 1], {}, _variant(run.disc, v), None, run.F[v:v + 1],
                    [None])
-    traj = trajectory_of(comp, one, U, {"kernel": "batch"})
+    traj = trajectory_of(comp, one, U_end, U_prev, {"kernel": "batch"})
     info = {"method": "exact", "steps": len(st.index), "warmup_steps": warm,
             "step_s": st.step_s, "states": val.n_states, "kernel": "batch"}
     return Results(net, comp, traj, info)
@@ -388,7 +401,7 @@ def _group_variants(nets, store, opts, fail):
                     _check_nodes(st, nodes, "balance_nodes")
                 structures[key] = st
             val = compile_values(net, st, store)
-            grp = groups.setdefault((key, val.n_states), (st, [], [], []))
+            grp = groups.setdefault((key, val.n_states, val.ramp.tobytes()), (st, [], [], []))
             grp[1].append(pos)
             grp[2].append(val)
             grp[3].append(net)
@@ -401,7 +414,7 @@ def run_batch(nets, weather: pd.DataFrame, *, step=None, warmup_days: float = 14
               comfort_node: str | None = None, hours_above=(25.0, 26.0),
               degree_hours_above=(), balance_nodes=None, link_energy: bool = False,
               keep_traces: bool = False, max_bytes: float = DEFAULT_MAX_BYTES,
-              on_error=None, kernel: str = "auto") -> BatchOutput:
+              on_error=None, kernel: str = "auto", interpolate=None) -> BatchOutput:
     """Simulate many networks over one weather, structure groups stepped together.
 
     Parameters
@@ -439,6 +452,8 @@ def run_batch(nets, weather: pd.DataFrame, *, step=None, warmup_days: float = 14
     kernel : {"auto", "numba", "numpy"}, default "auto"
         The compiled kernel (annual sums inside the loop) or the numpy reference (traces,
         then the same columns from them; slow, for checks).
+    interpolate : collection of str, optional
+        Instantaneous weather columns (as :func:`thermonet.simulate`).
 
     Returns
     -------
@@ -447,7 +462,7 @@ def run_batch(nets, weather: pd.DataFrame, *, step=None, warmup_days: float = 14
     if not (isinstance(warmup_days, (int, float)) and math.isfinite(warmup_days)
             and warmup_days >= 0):
         raise ValueError(f"warmup_days must be a finite number ≥ 0 [days], got {warmup_days!r}")
-    store = ColumnStore.for_weather(weather, step)
+    store = ColumnStore.for_weather(weather, step, interpolate)
     n = len(store.index)
     warm = min(int(round(warmup_days * 86400.0 / store.step_s)), n)
     opts = dict(comfort_node=comfort_node, hours_above=tuple(hours_above),

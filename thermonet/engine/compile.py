@@ -127,36 +127,76 @@ class ColumnStore:
     """
 
     def __init__(self, weather: pd.DataFrame, factor: int, index: pd.DatetimeIndex,
-                 step_s: float):
+                 step_s: float, instantaneous=frozenset()):
         self.weather, self.factor, self.index, self.step_s = weather, factor, index, step_s
+        self.instantaneous = frozenset(instantaneous)
         self.cols: dict = {}
         self._refs: dict = {}  # keeps Series alive so that id() keys stay unique
 
     @classmethod
-    def for_weather(cls, weather: pd.DataFrame, step=None) -> ColumnStore:
-        """A store on the simulation index of ``weather`` at ``step`` (None: the weather's)."""
+    def for_weather(cls, weather: pd.DataFrame, step=None, interpolate=None) -> ColumnStore:
+        """A store on the simulation index of ``weather`` at ``step`` (None: the weather's).
+
+        Parameters
+        ----------
+        weather : pandas.DataFrame
+        step : str or Timedelta, optional
+        interpolate : collection of str, optional
+            Weather columns that are instantaneous values, interpolated linearly between
+            labels (first-order hold); None: :func:`thermonet.weather.instantaneous_columns`.
+        """
+        from thermonet.weather import instantaneous_columns
+
         if not isinstance(weather, pd.DataFrame):
             raise TypeError(f"weather must be a pandas DataFrame, got {type(weather).__name__}")
         index, factor, step_s = sim_index(weather.index, step)
-        return cls(weather, factor, index, step_s)
+        if interpolate is None:
+            inst = instantaneous_columns(weather)
+        else:
+            if isinstance(interpolate, str):
+                raise TypeError("interpolate= takes a collection of column names, e.g. "
+                                "['temp_air'], or () to hold every input over its step")
+            inst = frozenset(interpolate)
+            missing = sorted(map(str, inst - set(weather.columns)))
+            if missing:
+                raise WeatherError(f"interpolate= names column(s) {missing} that the weather "
+                                   f"does not have; columns: "
+                                   f"{', '.join(map(str, weather.columns))}")
+        return cls(weather, factor, index, step_s, inst)
 
     def __len__(self):
         return len(self.index)
 
     def slice(self, rows) -> ColumnStore:
         """A store of the rows ``rows`` of this one (same keys)."""
-        out = ColumnStore(self.weather, self.factor, self.index[rows], self.step_s)
+        out = ColumnStore(self.weather, self.factor, self.index[rows], self.step_s,
+                          self.instantaneous)
         out.cols = {k: v[rows] for k, v in self.cols.items()}
         out._refs = self._refs
         return out
 
     def weather_col(self, name: str, what: str):
-        """Key of weather column ``name`` (checked: present, finite)."""
+        """Key of weather column ``name`` (checked: present, finite).
+
+        An instantaneous column on sub-steps is interpolated linearly between the labels
+        (the first label's value before it); others are held over their interval.
+        """
         key = ("weather", name)
         if key not in self.cols:
-            self.cols[key] = series_or_constant(name, self.weather, self.factor, what,
-                                                column_ok=True)
+            col = series_or_constant(name, self.weather, 1, what, column_ok=True)
+            if self.factor > 1 and name in self.instantaneous:
+                t = np.asarray(self.index.asi8, dtype=float)
+                tw = np.asarray(self.weather.index.as_unit("ns").asi8, dtype=float)
+                col = np.interp(np.asarray(self.index.as_unit("ns").asi8, dtype=float), tw,
+                                col) if len(t) else col
+            else:
+                col = upsample(col, self.factor)
+            self.cols[key] = col
         return key
+
+    def is_ramp(self, spec) -> bool:
+        """Whether a spec is an instantaneous weather column (first-order hold)."""
+        return isinstance(spec, tuple) and spec[0] == "weather" and spec[1] in self.instantaneous
 
     def series_col(self, series: pd.Series, what: str):
         """Key of a Series aligned to the weather (checked: same index, finite)."""
@@ -443,6 +483,9 @@ class Values:
     ucols, hcols, ccols, scols : list
         Specs of the boundary temperatures and source powers, heating and cooling setpoints
         (NaN = none), and condition signals.
+    ramp : ndarray (nb + nsrc,) of bool
+        Inputs that are instantaneous values, interpolated linearly over each step
+        (first-order hold); the others are held (zero-order hold).
     """
 
     C: np.ndarray
@@ -459,6 +502,7 @@ class Values:
     hcols: list
     ccols: list
     scols: list
+    ramp: np.ndarray
     own_columns: int = 0
 
     @property
@@ -605,6 +649,7 @@ def compile_values(net, st: Structure, store: ColumnStore) -> Values:
         initial=[(i, float(nodes[n].initial)) for i, n in enumerate(st.free[:st.nc])
                  if nodes[n].initial is not None],
         ucols=ucols, hcols=hcols, ccols=ccols, scols=scols,
+        ramp=np.array([store.is_ramp(c) for c in ucols], dtype=bool),
         own_columns=len(store.cols) - before)
 
 
@@ -686,7 +731,7 @@ def _stack(store, specs, n):
     return out
 
 
-def compile_network(net, weather: pd.DataFrame, *, step=None) -> Compiled:
+def compile_network(net, weather: pd.DataFrame, *, step=None, interpolate=None) -> Compiled:
     """Compile ``net`` against the weather (or any frame with a tz-aware regular index).
 
     Parameters
@@ -696,12 +741,14 @@ def compile_network(net, weather: pd.DataFrame, *, step=None) -> Compiled:
         Tz-aware regular index; the columns the boundaries name.
     step : str or Timedelta, optional
         Simulation step (default: the weather's).
+    interpolate : collection of str, optional
+        Instantaneous weather columns (see :meth:`ColumnStore.for_weather`).
 
     Returns
     -------
     Compiled
     """
-    store = ColumnStore.for_weather(weather, step)
+    store = ColumnStore.for_weather(weather, step, interpolate)
     st = compile_structure(net, store)
     val = compile_values(net, st, store)
     return Compiled(st, val, store,

@@ -90,6 +90,27 @@ def phi2(x):
     return out
 
 
+def phi3(x):
+    """``(x²/2 − x + 1 − e^{−x})/x³`` with its limit 1/6 at x = 0 (series for small x).
+
+    The step mean of the response to an input rising linearly over the step (first-order
+    hold); for x > 1 it is evaluated as ``(1/2 − φ₂(x))/x`` (no overflow, no cancellation).
+
+    Parameters
+    ----------
+    x : array_like
+        Dimensionless rate × step, ≥ 0.
+    """
+    x = np.asarray(x, dtype=float)
+    out = np.empty_like(x)
+    big = x > 0.5
+    out[big] = (0.5 - phi2(x[big])) / x[big]
+    xs = x[~big]
+    out[~big] = (1 / 6 - xs / 24 + xs**2 / 120 - xs**3 / 720 + xs**4 / 5040 - xs**5 / 40320
+                 + xs**6 / 362880)
+    return out
+
+
 # ================================================================================ Laplacian
 def laplacian_coo(st, g: np.ndarray):
     """Rows, columns and values of the Laplacian of conductances ``g`` [W/K] (duplicates summed
@@ -227,7 +248,7 @@ def isothermal_defect(lam, Q, W, C, h, nb):
 
 
 def zoh_doubling(K, E, C, h, nb):
-    r"""ZOH matrices (Φ, Γ, Φ̄, Γ̄) by conservative scaling and doubling, for stiff networks.
+    r"""ZOH matrices (Φ, Γ, Φ̄, Γ̄, Γ₃) by conservative scaling and doubling, for stiff networks.
 
     Parameters
     ----------
@@ -244,7 +265,9 @@ def zoh_doubling(K, E, C, h, nb):
 
     Returns
     -------
-    Phi, Gam, Phibar, Gambar : ndarray
+    Phi, Gam, Phibar, Gambar, Gam3 : ndarray
+        ``Γ₃ = J₃B/h²`` is the step mean of the response to an input rising linearly from
+        0 to 1 over the step (first-order hold).
 
     Notes
     -----
@@ -263,7 +286,9 @@ def zoh_doubling(K, E, C, h, nb):
     doubling as ``1 − Σ_{j≠i} Φ_ij − Σ_b Γ_b,ib``. Every entry thus keeps a small *relative*
     error, including the slow rates that the symmetric eigensolver loses when a node of tiny
     capacitance is tightly coupled to heavy ones (stiffness ratios ≳ 1e10). Then
-    ``Γ = J₁B`` (boundary columns: the doubled ``Γ_b``), ``Φ̄ = J₁/h``, ``Γ̄ = J₂B/h``.
+    ``Γ = J₁B`` (boundary columns: the doubled ``Γ_b``), ``Φ̄ = J₁/h``, ``Γ̄ = J₂B/h``; the
+    third integral ``J₃ = ∫₀^h e^{sA}(h − s)²/2 ds`` doubles as
+    ``J₃(2τ) = J₃ + τJ₂ + τ²J₁/2 + ΦJ₃`` and gives ``Γ₃ = J₃B/h²``.
     The cost is about ``3(s + 5)`` dense products of n × n matrices, so it is used only when
     the modal form fails its check.
 
@@ -294,17 +319,21 @@ def zoh_doubling(K, E, C, h, nb):
     P = np.eye(n)
     J1 = np.eye(n)
     J2 = 0.5 * np.eye(n)
+    J3 = np.eye(n) / 6.0
     for k in range(1, 40):
         term = term @ M / k
         P += term
         J1 += term / (k + 1)
         J2 += term / ((k + 1) * (k + 2))
+        J3 += term / ((k + 1) * (k + 2) * (k + 3))
         if np.abs(term).max() <= 1e-18:
             break
     J1 *= tau
     J2 *= tau * tau
+    J3 *= tau**3
     np.maximum(J1, 0.0, out=J1)
     np.maximum(J2, 0.0, out=J2)
+    np.maximum(J3, 0.0, out=J3)
     Gb = J1 @ Bb
 
     def conserve(P, Gb):
@@ -315,6 +344,7 @@ def zoh_doubling(K, E, C, h, nb):
 
     P = conserve(P, Gb)
     for _ in range(s):
+        J3 = J3 + tau * J2 + 0.5 * tau * tau * J1 + P @ J3
         J2 = J2 + tau * J1 + P @ J2
         J1 = J1 + P @ J1
         Gb = Gb + P @ Gb
@@ -322,7 +352,7 @@ def zoh_doubling(K, E, C, h, nb):
         tau *= 2.0
     Gam = J1 @ B
     Gam[:, :nb] = Gb
-    return P, Gam, J1 / h, (J2 @ B) / h
+    return P, Gam, J1 / h, (J2 @ B) / h, (J3 @ B) / (h * h)
 
 
 # ================================================================================ discretise
@@ -343,7 +373,7 @@ class Discretised:
     dense : ndarray (V, ns) of bool
         States whose modal form failed its check; their matrices are in ``dense_mats``.
     dense_mats : dict
-        ``(v, s) → (Φ, Γ, Φ̄, Γ̄)`` from :func:`zoh_doubling`.
+        ``(v, s) → (Φ, Γ, Φ̄, Γ̄, Γ₃)`` from :func:`zoh_doubling`.
     errors : list
         Per variant: None, or the NetworkError that makes it unusable.
     """
@@ -363,7 +393,7 @@ class Discretised:
     errors: list = field(default_factory=list)
 
     def matrices(self, v: int, s: int):
-        """Dense (Φ, Γ, Φ̄, Γ̄) of variant v, state s (formed from the modal form if needed)."""
+        """Dense (Φ, Γ, Φ̄, Γ̄, Γ₃) of variant v, state s (from the modal form if needed)."""
         if self.dense[v, s]:
             return self.dense_mats[(v, s)]
         x = self.lam[v, s] * self.h
@@ -371,7 +401,7 @@ class Discretised:
         QC = Q.T * self.C[v][None, :]
         e1 = phi1(x)
         return ((Q * np.exp(-x)) @ QC, (Q * (self.h * e1)) @ W, (Q * e1) @ QC,
-                (Q * (self.h * phi2(x))) @ W)
+                (Q * (self.h * phi2(x))) @ W, (Q * (self.h * phi3(x))) @ W)
 
 
 def discretise(st, C: np.ndarray, G: np.ndarray, h: float) -> Discretised:

@@ -142,18 +142,21 @@ def _column(bank, k, col, const):
     return bank[k, col] if col >= 0 else const
 
 
-def step_modal(a, Ad, dense, BT, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, vj, vcol, bank,
-               z0, x0, s0, obs0, schcol, schconst, hcol, hconst, ccol, cconst, scol, sconst,
+def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, vj, vcol,
+               rampv, uprev0, bank, z0, x0, s0, obs0, schcol, schconst, hcol, hconst, ccol,
+               cconst, scol, sconst,
                qh, qc, sw_init, has_off, terms, term_clause, clause_cond, nin, nsw, warm,
                th_obs, c_obs, thr_h, thr_d, keep, to_nodes, Ztr, Str, Ptr,
-               heat, cool, peak_h, peak_c, hrs, dgh, tstat, zs_sum, us_sum, cnt,
+               heat, cool, peak_h, peak_c, hrs, dgh, tstat, zs_sum, us_sum, up_sum, cnt,
                x_first, x_last):  # pragma: no cover - compiled
     """Step every variant over every row of ``bank`` in modal coordinates (see module doc).
 
     Shapes (V variants, ns states, nc capacitive nodes, nu inputs, m thermostats, nobs
     observed points, n steps):
     a (V, ns, nc) e^{−λh}; Ad (V, ns, nc, nc) Φ of dense states; dense (V, ns);
-    BT (V, ns, nu, nc) input operator rows (source factors folded); Qx, Pz (V, ns, nc, nc)
+    BT (V, ns, nu, nc) input operator rows (source factors folded) on this step's input and
+    BTp on the previous step's (first-order hold: ``rampv`` marks those varying inputs;
+    ``uprev0`` (V, nu) the inputs before the first row); Qx, Pz (V, ns, nc, nc)
     with x = Qx z, z = Pz x; Ox (V, ns, nobs, nc), Ou (V, ns, nobs, nu); M (V, ns, m, m);
     bconst (V, ns, nc), oconst (V, ns, nobs) the constant inputs' part; nvar (V,), vj, vcol
     (V, k) the varying inputs and their bank columns; z0, x0 (V, nc), s0 (V,), obs0
@@ -176,6 +179,7 @@ def step_modal(a, Ad, dense, BT, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, vj, vc
         z1 = np.zeros(nc)
         xt = np.zeros(nc)
         u = np.zeros(nu)
+        up = uprev0[v].copy()
         on = sw_init[v].copy()
         obs = obs0[v].copy()
         sig = np.zeros(nsig)
@@ -190,6 +194,7 @@ def step_modal(a, Ad, dense, BT, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, vj, vc
         Ous = Ou[v, 0]
         ocs = oconst[v, 0]
         Ads = Ad[v, 0]
+        BTps = BTp[v, 0]
         a_s = a[v, 0]
         bc = bconst[v, 0]
         Ms = M[v, 0]
@@ -229,6 +234,7 @@ def step_modal(a, Ad, dense, BT, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, vj, vc
             # free response
             if s != sv:
                 BTs = BT[v, s]
+                BTps = BTp[v, s]
                 Oxs = Ox[v, s]
                 Ous = Ou[v, s]
                 ocs = oconst[v, s]
@@ -256,6 +262,11 @@ def step_modal(a, Ad, dense, BT, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, vj, vc
                 row = BTs[j]
                 for i in range(nc):
                     z1[i] += row[i] * uj
+                if rampv[v, q]:
+                    uj = up[j]
+                    row = BTps[j]
+                    for i in range(nc):
+                        z1[i] += row[i] * uj
             # thermostats
             if m > 0:
                 for r in range(m):
@@ -317,6 +328,7 @@ def step_modal(a, Ad, dense, BT, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, vj, vc
                         zs_sum[v, s, i] += z[i]
                     for q in range(nvar[v]):
                         us_sum[v, s, vj[v, q]] += u[vj[v, q]]
+                        up_sum[v, s, vj[v, q]] += up[vj[v, q]]
                     for r in range(m):
                         us_sum[v, s, nin + r] += u[nin + r]
                     cnt[v, s] += 1.0
@@ -346,6 +358,8 @@ def step_modal(a, Ad, dense, BT, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, vj, vc
                         tsum += t
             for i in range(nc):
                 z[i] = z1[i]
+            for q in range(nvar[v]):
+                up[vj[v, q]] = u[vj[v, q]]
             sp = s
         for i in range(nc):
             acc = 0.0
@@ -358,13 +372,16 @@ def step_modal(a, Ad, dense, BT, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, vj, vc
 
 
 def step_reference(mats, Rx, Ru, Yx, Yu, factor, x0, s0, U, sched, hsp, csp, signals, qh, qc,
-                   sw_init, has_off, terms, term_clause, clause_cond, nb, nsrc, warm):
+                   sw_init, has_off, terms, term_clause, clause_cond, nb, nsrc, warm, ramp,
+                   u_before):
     """Plain-numpy reference of the stepping loop, in node coordinates, one variant.
 
     Parameters
     ----------
     mats : dict
-        State id → (Φ, Γ) dense step matrices.
+        State id → (Φ, Γ, Γ̄) dense step matrices; an input marked in ``ramp`` varies
+        linearly from its previous value (``u_before`` before the first row) to this step's,
+        weighted ``Γ − Γ̄`` and ``Γ̄`` (first-order hold).
     Rx, Ru, Yx, Yu : dict
         State id → thermostat rows (m × nc, m × nu) and massless-node maps.
     factor : ndarray (ns, nsrc)
@@ -413,6 +430,8 @@ def step_reference(mats, Rx, Ru, Yx, Yu, factor, x0, s0, U, sched, hsp, csp, sig
     Pout = np.zeros((n, m))
     P = np.zeros(m)
     x_first = x0.copy()
+    rcols = np.flatnonzero(ramp)
+    uprev = np.asarray(u_before, dtype=float)
     for k in range(n):
         if k == warm:
             x_first = x.copy()
@@ -421,8 +440,12 @@ def step_reference(mats, Rx, Ru, Yx, Yu, factor, x0, s0, U, sched, hsp, csp, sig
         u = U[k].copy()
         u[pcols] = 0.0
         u[nb:nb + nsrc] *= factor[s]
-        Phi, Gam = mats[s]
-        x1 = Phi @ x + Gam @ u
+        Phi, Gam, Gambar = mats[s]
+        hold = u.copy()
+        hold[rcols] = 0.0
+        x1 = (Phi @ x + Gam @ hold + Gambar[:, rcols] @ u[rcols]
+              + (Gam - Gambar)[:, rcols] @ uprev[rcols])
+        uprev = U[k].copy()
         if m:
             control_powers(Rx[s] @ x1 + Ru[s] @ u, Rx[s] @ Gam[:, pcols] + Ru[s][:, pcols],
                            hsp[k], csp[k], qh, qc, P)

@@ -21,11 +21,15 @@ import numba
 import numpy as np
 
 from thermonet.engine import kernels
-from thermonet.engine.discretise import Discretised, discretise, phi1
+from thermonet.engine.discretise import Discretised, discretise, phi1, phi2
 from thermonet.engine.start import apply_initial, steady_start, thermostat_rows
 from thermonet.errors import NetworkError
 
 KERNELS = ("auto", "numba", "numpy")
+
+#: Sums the kernel accumulates over the reported steps (see :class:`GroupRun`).
+SUMS = ("heat", "cool", "peak_h", "peak_c", "hrs", "dgh", "tstat", "zs_sum", "us_sum",
+        "up_sum", "cnt")
 
 #: Capacitive nodes up to which a run that keeps hourly traces is stepped in node
 #: coordinates (dense exact steps, nc² operations a step, no mapping back); larger networks and
@@ -145,6 +149,7 @@ class Operators:
     Ad: np.ndarray
     dense: np.ndarray
     BT: np.ndarray
+    BTp: np.ndarray
     Qx: np.ndarray
     Pz: np.ndarray
     Ox: np.ndarray
@@ -155,6 +160,7 @@ class Operators:
     nvar: np.ndarray
     vj: np.ndarray
     vcol: np.ndarray
+    rampv: np.ndarray
     obs_nodes: list
 
 
@@ -196,18 +202,29 @@ def _node_rows(st, disc: Discretised, F: np.ndarray, Qx: np.ndarray, nodes: list
 
 
 def operators(st, disc: Discretised, F: np.ndarray, bank: Bank, nodes: list,
-              node_coords: bool = False) -> Operators:
+              ramp: np.ndarray, node_coords: bool = False) -> Operators:
     """The kernel's arrays for every variant and state (see the module docstring).
 
     With ``node_coords`` every state is stepped densely in node coordinates (``x⁺ = Φx +
     Γu``); otherwise in modal coordinates, except the states that failed the modal check.
+    Inputs marked in ``ramp`` (V, nin) vary linearly over the step from the previous value:
+    their weights are ``hφ₂(λh)W`` on this step's value and ``h(φ₁ − φ₂)W`` on the previous
+    (``Γ̄`` and ``Γ − Γ̄`` in node coordinates).
     """
     V, ns = disc.K.shape[:2]
     nc, m, h = st.nc, st.m, disc.h
     nin = st.nb + st.nsrc
     x = disc.lam * h
     a = np.exp(-x)
-    BT = np.swapaxes(disc.W, -1, -2) * (h * phi1(x))[:, :, None, :] * F[..., None]
+    WT = np.swapaxes(disc.W, -1, -2) * F[..., None]
+    e1, e2 = h * phi1(x), h * phi2(x)
+    BT = WT * e1[:, :, None, :]
+    BTp = np.zeros_like(BT)
+    r = np.zeros((V, st.nu), dtype=bool)
+    r[:, :nin] = ramp
+    rr = r[:, None, :, None]
+    BT = np.where(rr, WT * e2[:, :, None, :], BT)
+    BTp = np.where(rr, WT * (e1 - e2)[:, :, None, :], BTp)
     Qx = disc.Q.copy()
     Pz = np.swapaxes(disc.Q, -1, -2) * disc.C[:, None, None, :]
     dense = disc.dense.copy()
@@ -215,27 +232,31 @@ def operators(st, disc: Discretised, F: np.ndarray, bank: Bank, nodes: list,
         dense[:] = True
     Ad = np.zeros((V, ns, nc, nc) if dense.any() else (V, ns, 0, 0))
     for v, s in zip(*np.nonzero(dense), strict=True):
-        Phi, Gam, _, _ = disc.matrices(v, s)
+        Phi, Gam, _, Gambar, _ = disc.matrices(v, s)
         Ad[v, s] = Phi
-        BT[v, s] = (Gam * F[v, s][None, :]).T
+        cur = np.where(r[v][None, :], Gambar, Gam)
+        BT[v, s] = (cur * F[v, s][None, :]).T
+        BTp[v, s] = (np.where(r[v][None, :], Gam - Gambar, 0.0) * F[v, s][None, :]).T
         Qx[v, s] = np.eye(nc)
         Pz[v, s] = np.eye(nc)
     Ox, Ou = _node_rows(st, disc, F, Qx, nodes)
     pcols = nin + np.arange(m)
     M = (Ox[:, :, :m, :] @ np.swapaxes(BT[:, :, pcols, :], -1, -2) + Ou[:, :, :m][..., pcols])
     const = np.where(bank.ucol >= 0, 0.0, bank.uconst)                       # (V, nin)
-    bconst = np.einsum("vsji,vj->vsi", BT[:, :, :nin, :], const)
+    bconst = np.einsum("vsji,vj->vsi", BT[:, :, :nin, :] + BTp[:, :, :nin, :], const)
     oconst = np.einsum("vsoj,vj->vso", Ou[..., :nin], const)
     nvar = (bank.ucol >= 0).sum(axis=1).astype(np.int64)
     k = max(int(nvar.max()) if V else 0, 1)
     vj = np.zeros((V, k), dtype=np.int64)
     vcol = np.zeros((V, k), dtype=np.int64)
+    rampv = np.zeros((V, k), dtype=np.bool_)
     for v in range(V):
         js = np.flatnonzero(bank.ucol[v] >= 0)
         vj[v, :len(js)] = js
         vcol[v, :len(js)] = bank.ucol[v, js]
-    return Operators(a, Ad, dense, np.ascontiguousarray(BT), Qx, Pz, Ox, Ou, M, bconst,
-                     oconst, nvar, vj, vcol, nodes)
+        rampv[v, :len(js)] = ramp[v, js]
+    return Operators(a, Ad, dense, np.ascontiguousarray(BT), np.ascontiguousarray(BTp), Qx,
+                     Pz, Ox, Ou, M, bconst, oconst, nvar, vj, vcol, rampv, nodes)
 
 
 def thermostat_errors(st, ops: Operators, errors: list) -> None:
@@ -312,11 +333,11 @@ def _modal_to_nodes(Z, S, Qx):
 
 
 def _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep, comfort, thr_h, thr_d,
-                errors):
+                errors, ramp, u_before):
     V, nc, m, ns = len(vals), st.nc, st.m, vals[0].n_states
     nodes, terms, c_obs = observed_nodes(st, comfort)
     in_nodes = bool(keep) and nc <= NODES_IN_KERNEL
-    ops = operators(st, disc, F, bank, nodes, node_coords=in_nodes)
+    ops = operators(st, disc, F, bank, nodes, ramp, node_coords=in_nodes)
     thermostat_errors(st, ops, errors)
     ok = np.array([e is None for e in errors], dtype=bool)
     obs0 = observed_start(st, disc, x0, u0, nodes)
@@ -330,7 +351,7 @@ def _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep, comfort, thr_h,
             "peak_c": np.zeros(V), "hrs": np.zeros((V, len(thr_h))),
             "dgh": np.zeros((V, len(thr_d))), "tstat": np.zeros((V, 3)),
             "zs_sum": np.zeros((V, ns, nc)), "us_sum": np.zeros((V, ns, st.nu)),
-            "cnt": np.zeros((V, ns))}
+            "up_sum": np.zeros((V, ns, st.nu)), "cnt": np.zeros((V, ns))}
     x_first = np.zeros((V, nc))
     x_last = np.zeros((V, nc))
     to_nodes = False   # node coordinates (in_nodes) or a product after the loop
@@ -342,16 +363,16 @@ def _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep, comfort, thr_h,
         def pick(arr):
             return np.ascontiguousarray(arr[sel]) if sel.size < V else arr
 
-        outs = [pick(a) for a in (Ztr, Str, Ptr)] + [pick(sums[k]) for k in (
-            "heat", "cool", "peak_h", "peak_c", "hrs", "dgh", "tstat", "zs_sum", "us_sum",
-            "cnt")] + [pick(x_first), pick(x_last)]
+        outs = [pick(a) for a in (Ztr, Str, Ptr)] + [pick(sums[k]) for k in SUMS] + [
+            pick(x_first), pick(x_last)]
         threads = numba.get_num_threads()
         numba.set_num_threads(max(1, min(threads, sel.size)))   # one variant: no thread pool
         try:
             kernels.step_modal_nb(
-                pick(ops.a), pick(ops.Ad), pick(ops.dense), pick(ops.BT), pick(ops.Qx),
-                pick(ops.Pz), pick(ops.Ox), pick(ops.Ou), pick(ops.M), pick(ops.bconst),
-                pick(ops.oconst), pick(ops.nvar), pick(ops.vj), pick(ops.vcol), bank.data,
+                pick(ops.a), pick(ops.Ad), pick(ops.dense), pick(ops.BT), pick(ops.BTp),
+                pick(ops.Qx), pick(ops.Pz), pick(ops.Ox), pick(ops.Ou), pick(ops.M),
+                pick(ops.bconst), pick(ops.oconst), pick(ops.nvar), pick(ops.vj),
+                pick(ops.vcol), pick(ops.rampv), pick(u_before), bank.data,
                 pick(z0), pick(x0), pick(s0), pick(obs0), pick(bank.schcol), pick(bank.schconst),
                 pick(bank.hcol), pick(bank.hconst), pick(bank.ccol), pick(bank.cconst),
                 pick(bank.scol), pick(bank.sconst),
@@ -365,9 +386,7 @@ def _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep, comfort, thr_h,
         finally:
             numba.set_num_threads(threads)
         if sel.size < V:
-            full = [Ztr, Str, Ptr] + [sums[k] for k in (
-                "heat", "cool", "peak_h", "peak_c", "hrs", "dgh", "tstat", "zs_sum",
-                "us_sum", "cnt")] + [x_first, x_last]
+            full = [Ztr, Str, Ptr] + [sums[k] for k in SUMS] + [x_first, x_last]
             for f, part in zip(full, outs, strict=True):
                 f[sel] = part
     X = None
@@ -378,7 +397,7 @@ def _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep, comfort, thr_h,
     return X, Str, Ptr, x_first, x_last, sums, ops
 
 
-def _step_numpy(st, vals, disc, F, bank, x0, s0, u0, warm, errors):
+def _step_numpy(st, vals, disc, F, bank, x0, s0, u0, warm, errors, ramp, u_before):
     """The reference kernel, variant by variant (traces only)."""
     V, nc, m, ns = len(vals), st.nc, st.m, vals[0].n_states
     n = bank.data.shape[0]
@@ -395,8 +414,8 @@ def _step_numpy(st, vals, disc, F, bank, x0, s0, u0, warm, errors):
             continue
         mats = {}
         for s in range(ns):
-            Phi, Gam, _, _ = disc.matrices(v, s)
-            mats[s] = (Phi, Gam)
+            Phi, Gam, _, Gambar, _ = disc.matrices(v, s)
+            mats[s] = (Phi, Gam, Gambar)
             Mv = Rx[v, s] @ Gam[:, pcols] + Ru[v, s][:, pcols]
             if m and (np.diag(Mv) <= 0).any():
                 bad = st.thermostat_names[int(np.argmin(np.diag(Mv)))]
@@ -423,13 +442,13 @@ def _step_numpy(st, vals, disc, F, bank, x0, s0, u0, warm, errors):
             mats, Rx[v], Ru[v], disc.Yx[v], disc.Yu[v], p.source_factor, x0[v], s0[v], U,
             sched, hsp.reshape(n, m), csp.reshape(n, m), sig.reshape(n, -1), p.qh, p.qc,
             p.sw_init.copy(), st.has_off, terms, st.term_clause, st.clause_cond, st.nb,
-            st.nsrc, warm)
+            st.nsrc, warm, ramp[v], u_before[v])
         x_last[v] = X[v, -1] if n > warm else x_first[v]
     return X, S, P, x_first, x_last
 
 
 def step_group(st, vals: list, store, warm: int, *, keep: bool, kernel: str = "auto",
-               comfort: int | None = None, thr_h=(), thr_d=()) -> GroupRun:
+               comfort: int | None = None, thr_h=(), thr_d=(), u_before=None) -> GroupRun:
     """Discretise, start and step the variants ``vals`` of structure ``st``.
 
     Parameters
@@ -448,6 +467,9 @@ def step_group(st, vals: list, store, warm: int, *, keep: bool, kernel: str = "a
     comfort : int, optional
         Free-node index whose end temperature is summed (hours and degree-hours above
         ``thr_h``/``thr_d`` [°C], max/min/mean) — without ``keep``.
+    u_before : ndarray (V, nu), optional
+        Inputs before the first row (first-order-hold inputs start from them); default the
+        first row's (an input constant before the run).
 
     Returns
     -------
@@ -463,13 +485,18 @@ def step_group(st, vals: list, store, warm: int, *, keep: bool, kernel: str = "a
     bank = make_bank(st, vals, store, warm)
     F = input_factors(st, vals)
     x0, s0, u0 = start_states(st, vals, disc, bank, ok)
+    ramp = np.array([p.ramp for p in vals], dtype=bool).reshape(V, st.nb + st.nsrc)
+    if u_before is None:
+        u_before = u0
+    u_before = np.ascontiguousarray(u_before, dtype=float)
     if kernel == "numpy":
         if not keep:
             raise ValueError("the numpy reference kernel keeps traces only (keep=True)")
-        X, S, P, xf, xl = _step_numpy(st, vals, disc, F, bank, x0, s0, u0, warm, errors)
+        X, S, P, xf, xl = _step_numpy(st, vals, disc, F, bank, x0, s0, u0, warm, errors, ramp,
+                                      u_before)
         return GroupRun(X, S, P, xf, xl, {}, disc, None, F, errors)
     X, S, P, xf, xl, sums, ops = _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep,
-                                             comfort, thr_h, thr_d, errors)
+                                             comfort, thr_h, thr_d, errors, ramp, u_before)
     if keep:
         sums = {}
     return GroupRun(X, S, P, xf, xl, sums, disc, ops, F, errors)

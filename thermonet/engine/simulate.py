@@ -46,24 +46,34 @@ from thermonet.results import Results
 AUTO_DENSE_LIMIT = 3000
 
 
-def effective_inputs(comp: Compiled, F: np.ndarray, S: np.ndarray, P: np.ndarray,
-                     rows: slice | np.ndarray) -> np.ndarray:
-    """Inputs as applied: raw boundary temperatures and source powers × the state's factors,
-    thermostat powers ``P`` [W] (n, nu)."""
-    U = comp.U[rows]
-    U = U * (F[S[0]] if len(S) and (S == S[0]).all() else F[S])
-    U[:, comp.nb + comp.nsrc:] = P
-    return U
+def effective_inputs(comp: Compiled, F: np.ndarray, S: np.ndarray, P: np.ndarray, warm: int,
+                     u_before=None) -> tuple[np.ndarray, np.ndarray]:
+    """Inputs as applied at the end of each step and at its start, (n, nu) each.
+
+    End: raw boundary temperatures and source powers × the state's factors, thermostat
+    powers ``P`` [W]. Start: the previous row's raw values (the last warm-up row, or
+    ``u_before``/the first row, before the first reported step); used for the inputs that
+    vary linearly over a step.
+    """
+    U = comp.U
+    U_end = U * (F[S[0]] if len(S) and (S == S[0]).all() else F[S])
+    U_end[:, comp.nb + comp.nsrc:] = P
+    first = U[warm - 1] if warm else (U[0] if u_before is None else u_before)
+    U_prev = np.vstack([np.asarray(first, dtype=float)[None, :], U[:-1]])
+    return U_end, U_prev
 
 
-def trajectory_of(comp: Compiled, run: GroupRun, U: np.ndarray, info: dict
-                  ) -> ExactTrajectory:
+def trajectory_of(comp: Compiled, run: GroupRun, U_end: np.ndarray, U_prev: np.ndarray,
+                  info: dict) -> ExactTrajectory:
     """The :class:`ExactTrajectory` of variant 0 of a :class:`GroupRun`."""
     d = run.disc
     dense = {s: mats for (v, s), mats in d.dense_mats.items() if v == 0}
     info = dict(info, doubling_states=len(dense))
-    return ExactTrajectory(run.X[0], run.x_first[0], run.S[0], U, comp.G_states, d.Yx[0],
-                           d.Yu[0], d.lam[0], d.Q[0], d.W[0], d.C[0], d.h, dense, info)
+    ramp = np.zeros(comp.nu, dtype=bool)
+    ramp[:comp.nb + comp.nsrc] = comp.val.ramp
+    return ExactTrajectory(run.X[0], run.x_first[0], run.S[0], U_end, U_prev, ramp,
+                           comp.G_states, d.Yx[0], d.Yu[0], d.lam[0], d.Q[0], d.W[0], d.C[0],
+                           d.h, dense, info)
 
 
 def switch_state_after(comp: Compiled, state_id: int) -> np.ndarray:
@@ -78,8 +88,8 @@ class ExactMethod:
 
     name = "exact"
 
-    def run(self, comp: Compiled, warm: int, *, kernel: str = "auto", start=None
-            ) -> Trajectory:
+    def run(self, comp: Compiled, warm: int, *, kernel: str = "auto", start=None,
+            u_before=None) -> Trajectory:
         """Step ``comp`` after ``warm`` warm-up steps.
 
         Parameters
@@ -92,17 +102,21 @@ class ExactMethod:
         start : tuple, optional
             ``(x0, switch positions)`` to continue an earlier run instead of the steady
             start.
+        u_before : ndarray (nu,), optional
+            Raw inputs before the first row (where an earlier run ended).
         """
         val = comp.val
         if start is not None:
             x0, sw = start
             val = dataclasses.replace(val, sw_init=np.asarray(sw, bool),
                                       initial=list(enumerate(np.asarray(x0, float))))
-        run = step_group(comp.st, [val], comp.store, warm, keep=True, kernel=kernel)
+        ub = None if u_before is None else np.asarray(u_before, float)[None, :]
+        run = step_group(comp.st, [val], comp.store, warm, keep=True, kernel=kernel,
+                         u_before=ub)
         if run.errors[0] is not None:
             raise run.errors[0]
-        U = effective_inputs(comp, run.F[0], run.S[0], run.P[0], slice(None))
-        return trajectory_of(comp, run, U, {"kernel": kernel})
+        U_end, U_prev = effective_inputs(comp, run.F[0], run.S[0], run.P[0], warm, u_before)
+        return trajectory_of(comp, run, U_end, U_prev, {"kernel": kernel})
 
 
 class SparseMethod:
@@ -177,25 +191,26 @@ def run_relinearised(net, comp: Compiled, w: int, kernel: str, freq: str) -> Tra
     if w:  # lead-in at the reference linearisation, then carry its end state
         chunks = [np.arange(min(w, n))] + chunks
     names = comp.free + comp.boundaries
-    parts, start, temps, seen = [], None, None, set()
+    parts, start, temps, seen, before = [], None, None, set(), None
     for j, rows in enumerate(chunks):
         G = _radiation_rows(net, comp, temps, links, rad)
         seen.add(G[:, rad].tobytes())
         sub = Compiled(dataclasses.replace(comp.st, index=comp.index[rows]),
                        dataclasses.replace(comp.val, G=G), comp.store.slice(rows),
                        initial=comp.initial)
-        tr = ExactMethod().run(sub, 0, kernel=kernel, start=start)
+        tr = ExactMethod().run(sub, 0, kernel=kernel, start=start, u_before=before)
         if not (w and j == 0):
             parts.append(tr)
-        last = np.concatenate([tr.end(np.arange(comp.nf))[-1], tr.U[-1, :comp.nb]])
+        last = np.concatenate([tr.end(np.arange(comp.nf))[-1], tr.U_end[-1, :comp.nb]])
         temps = dict(zip(names, last, strict=True))
         start = (tr.X[-1], switch_state_after(comp, tr.S[-1]))
+        before = comp.U[rows[-1]]
     return JoinedTrajectory(parts, {"kernel": kernel, "states": len(seen) * comp.n_states})
 
 
 def simulate(net, weather, *, step=None, method: str = "auto", warmup_days: float = 14.0,
              kernel: str = "auto", sparse_tol: float | None = None,
-             relinearise: str | None = None) -> Results:
+             relinearise: str | None = None, interpolate=None) -> Results:
     """Simulate a network over the weather's time axis.
 
     Parameters
@@ -227,6 +242,23 @@ def simulate(net, weather, *, step=None, method: str = "auto", warmup_days: floa
         every radiation link's h_r = 4σT_m³ is recomputed from the mean of its two nodes'
         temperatures (rounded to 0.5 K). None (default): each link keeps its
         ``reference_temperature``. ``method="exact"`` only.
+    interpolate : collection of str, optional
+        Weather columns that are instantaneous values at their labels (air, dew-point, sky
+        and ground temperatures): a boundary reading one follows a straight line between
+        consecutive labels within each step (first-order hold), which the exact method
+        steps exactly. Default (None): the weather's own record
+        (``weather.attrs["timing"]``, written by thermonet's readers), else the names in
+        :data:`thermonet.weather.INSTANTANEOUS_COLUMNS` and ``temp_*``. ``()`` holds every
+        input over its step (zero-order hold). Interval values (irradiance, gains) are always
+        held. ``method="sparse"`` holds each step's mean of such an input.
+
+    Notes
+    -----
+    Thermostats hold their node at the setpoint at the *end* of each step: the power is
+    constant over the step and found by superposition so that the end-of-step temperature
+    meets the setpoint (within the capacity); the node's step mean may differ from the
+    setpoint while it settles. Results report end-of-step temperatures
+    (``temperatures``) and step means (``mean_temperatures``, used by the balance).
 
     Returns
     -------
@@ -234,7 +266,7 @@ def simulate(net, weather, *, step=None, method: str = "auto", warmup_days: floa
     """
     _check_options(method, kernel, sparse_tol, warmup_days)
     t0 = time.perf_counter()
-    comp = compile_network(net, weather, step=step)
+    comp = compile_network(net, weather, step=step, interpolate=interpolate)
     n = len(comp.index)
     w = min(int(round(warmup_days * 86400.0 / comp.step_s)), n)
     if method == "auto":

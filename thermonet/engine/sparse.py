@@ -222,7 +222,8 @@ class SparseState:
         return self.lu_L.solve(Eu)
 
 
-def _free_run_banded(st: SparseState, U: np.ndarray, T0: np.ndarray, h: float):
+def _free_run_banded(st: SparseState, U: np.ndarray, D: np.ndarray, ramp: np.ndarray,
+                     T0: np.ndarray, h: float):
     """Free-running single-state march in one compiled call (banded factors).
 
     Returns ``Tall`` (steps + 1, nf): the start state then the end-of-step temperatures,
@@ -235,6 +236,7 @@ def _free_run_banded(st: SparseState, U: np.ndarray, T0: np.ndarray, h: float):
                            np.ascontiguousarray(st.c_full[perm]), st.Lb_real, st.d_real,
                            Ep.indptr.astype(np.int64), Ep.indices.astype(np.int64),
                            Ep.data.astype(float), np.ascontiguousarray(U, dtype=float),
+                           np.ascontiguousarray(D, dtype=float), ramp.astype(np.bool_),
                            np.ascontiguousarray(T0[perm]), perm.astype(np.int64), h)
 
 
@@ -266,8 +268,10 @@ def _responses(comp: Compiled, states: dict) -> dict:
     return resp
 
 
-def _march(comp, states, resp, T, U, sched, hsp, csp, sig):
-    """The general sparse loop (switches, thermostats): end temperatures, inputs, states."""
+def _march(comp, states, resp, T, U, D, sched, hsp, csp, sig):
+    """The general sparse loop (switches, thermostats): end temperatures, step-mean inputs,
+    states. ``U`` holds the inputs at the end of each step, ``D`` their rates [unit/s] over
+    it (first-order hold; zero for held inputs)."""
     m, nb, nsrc, nf, nsw = comp.m, comp.nb, comp.nsrc, comp.nf, comp.nsw
     pcols = nb + nsrc + np.arange(m)
     n = U.shape[0]
@@ -275,6 +279,7 @@ def _march(comp, states, resp, T, U, sched, hsp, csp, sig):
     terms = comp.terms.copy()
     terms[:, 5] = comp.val.thresholds
     on = comp.val.sw_init.copy()
+    ramp_any = bool(np.any(D))
     Tend = np.zeros((n, nf))
     Ue = np.zeros((n, comp.nu))
     S = np.zeros(n, dtype=np.int64)
@@ -287,8 +292,14 @@ def _march(comp, states, resp, T, U, sched, hsp, csp, sig):
         u = U[k].copy()
         u[nb:nb + nsrc] *= factor[s]
         u[pcols] = 0.0
-        xe = st.equilibrium(st.E @ u)
-        T1 = xe + st.expm_apply(T - xe)
+        hb = 0.0
+        if ramp_any:    # particular solution of a linear input: α + βt (see banded march)
+            hb = comp.step_s * st.equilibrium(st.E @ D[k])
+            xe = st.equilibrium(st.E @ u - st.c_full * hb / comp.step_s)
+        else:
+            xe = st.equilibrium(st.E @ u)
+        T1 = xe + st.expm_apply(T - xe + hb)
+        u = u - 0.5 * comp.step_s * D[k]            # the step mean of the inputs
         if m:
             R = resp[s]
             kernels.control_powers(T1[comp.thermostat_node], R[comp.thermostat_node], hsp[k],
@@ -321,18 +332,31 @@ def run_sparse(comp: Compiled, warmup_steps: int, tol: float = 1e-7) -> NodeTraj
     resp = _responses(comp, states)
     w = warmup_steps
     cat = (lambda a: np.concatenate([a[:w], a], axis=0)) if w else (lambda a: a)
-    U, sched, hsp, csp, sig = (cat(comp.U), cat(comp.sched_of_step), cat(comp.hsp),
-                               cat(comp.csp), cat(comp.signals))
+    U_raw, sched, hsp, csp, sig = (cat(comp.U), cat(comp.sched_of_step), cat(comp.hsp),
+                                   cat(comp.csp), cat(comp.signals))
+    # inputs interpolated over a step (first-order hold): their rate over each step
+    ramp = np.zeros(comp.nu, dtype=bool)
+    ramp[:comp.nb + comp.nsrc] = comp.val.ramp
+    D = np.zeros_like(U_raw)
+    D[:, ramp] = (U_raw[:, ramp] - np.vstack([U_raw[:1, ramp], U_raw[:-1, ramp]])) / comp.step_s
+    U = U_raw
     n = U.shape[0]
     bits = sum(1 << k for k, v in enumerate(comp.val.sw_init) if v)
     st0 = states[comp.state_id(int(sched[0]), bits)]
     T = _start(comp, st0, U[0], hsp[0], csp[0])
+
+    def end_values(Ue):
+        out = Ue.copy()
+        out[:, ramp] = U_raw[w:, ramp]
+        return out
+
     if comp.nsw == 0 and comp.m == 0 and len(states) == 1 and st0.banded:
-        Tall, Tmean = _free_run_banded(st0, U, T, comp.step_s)
+        Tall, Tmean = _free_run_banded(st0, U, D, ramp, T, comp.step_s)
+        Um = U[w:] - 0.5 * comp.step_s * D[w:]
         return NodeTrajectory(Tall[w + 1:], Tmean[w:], Tall[w, :comp.nc],
-                              np.zeros(n - w, dtype=np.int64), U[w:], comp.G_states, comp.nc,
-                              info)
-    Tend, Ue, S = _march(comp, states, resp, T, U, sched, hsp, csp, sig)
+                              np.zeros(n - w, dtype=np.int64), Um, end_values(Um),
+                              comp.G_states, comp.nc, info)
+    Tend, Ue, S = _march(comp, states, resp, T, U, D, sched, hsp, csp, sig)
     t_first = (Tend[w - 1] if w else T).copy()
     Tend, Ue, S = Tend[w:], Ue[w:], S[w:]
     Tstart = np.vstack([t_first[None, :], Tend[:-1]])
@@ -343,4 +367,5 @@ def run_sparse(comp: Compiled, warmup_steps: int, tol: float = 1e-7) -> NodeTraj
         st = states[int(s)]
         rhs = (st.E @ Ue[rows].T).T - (Tend[rows] - Tstart[rows]) * st.c_full / h
         Tmean[rows] = st.solve_many(np.ascontiguousarray(rhs.T)).T
-    return NodeTrajectory(Tend, Tmean, t_first[:comp.nc], S, Ue, comp.G_states, comp.nc, info)
+    return NodeTrajectory(Tend, Tmean, t_first[:comp.nc], S, Ue, end_values(Ue), comp.G_states,
+                          comp.nc, info)

@@ -14,7 +14,7 @@ import abc
 
 import numpy as np
 
-from thermonet.engine.discretise import phi1, phi2
+from thermonet.engine.discretise import phi1, phi2, phi3
 
 
 class Trajectory(abc.ABC):
@@ -25,6 +25,9 @@ class Trajectory(abc.ABC):
     U : ndarray (n, nu)
         Effective inputs per step: boundary temperatures [°C], source powers as applied
         (switch factors included) and thermostat powers [W], step means.
+    U_end : ndarray (n, nu)
+        The same at the end of each step (differs from ``U`` for inputs interpolated over
+        the step: instantaneous boundary temperatures).
     S : ndarray (n,)
         State id per step.
     X : ndarray (n, nc)
@@ -63,13 +66,29 @@ class Trajectory(abc.ABC):
         """Conductances [W/K] (n, k) of links ``cols`` in each step's state."""
 
 
+def step_means(U_end, U_prev, ramp):
+    """Step-mean inputs: ``U_end`` with the first-order-hold columns ``ramp`` averaged with
+    their previous values ``U_prev``."""
+    if not ramp.any():
+        return U_end
+    U = U_end.copy()
+    U[:, ramp] = 0.5 * (U_end[:, ramp] + U_prev[:, ramp])
+    return U
+
+
 class ExactTrajectory(Trajectory):
     """Trajectory of the exact method for one variant.
 
     Parameters
     ----------
-    X, x_first, S, U
+    X, x_first, S
         See :class:`Trajectory`.
+    U_end : ndarray (n, nu)
+        Inputs at the end of each step (sources and thermostats: their step means).
+    U_prev : ndarray (n, nu)
+        Inputs at the start of each step (used for the columns in ``ramp``).
+    ramp : ndarray (nu,) of bool
+        Inputs that vary linearly over each step (first-order hold).
     G : ndarray (ns, nl)
         Conductances of every state [W/K].
     K, E, Yx, Yu, lam, Q, W : ndarray (ns, ...)
@@ -83,8 +102,11 @@ class ExactTrajectory(Trajectory):
     info : dict
     """
 
-    def __init__(self, X, x_first, S, U, G, Yx, Yu, lam, Q, W, C, h, dense, info):
-        self.X, self.x_first, self.S, self.U, self.G = X, x_first, S, U, G
+    def __init__(self, X, x_first, S, U_end, U_prev, ramp, G, Yx, Yu, lam, Q, W, C, h, dense,
+                 info):
+        self.X, self.x_first, self.S, self.G = X, x_first, S, G
+        self.U_end, self.U_prev, self.ramp = U_end, U_prev, np.asarray(ramp, bool)
+        self.U = step_means(U_end, U_prev, self.ramp)
         self.Yx, self.Yu, self.lam, self.Q, self.W, self.C, self.h = Yx, Yu, lam, Q, W, C, h
         self.dense = dense
         self.info = info
@@ -96,11 +118,11 @@ class ExactTrajectory(Trajectory):
         for s in np.unique(self.S):
             yield int(s), self.S == s
 
-    def _massless(self, Xc, rows_state, idx):
+    def _massless(self, Xc, U, rows_state, idx):
         out = np.empty((len(self.S), len(idx)))
         r = np.asarray(idx) - self.nc
         for s, rows in rows_state:
-            out[rows] = Xc[rows] @ self.Yx[s][r].T + self.U[rows] @ self.Yu[s][r].T
+            out[rows] = Xc[rows] @ self.Yx[s][r].T + U[rows] @ self.Yu[s][r].T
         return out
 
     def _split(self, idx):
@@ -114,7 +136,7 @@ class ExactTrajectory(Trajectory):
         out = np.empty((len(self.S), len(idx)))
         out[:, cap] = self.X[:, idx[cap]]
         if (~cap).any():
-            out[:, ~cap] = self._massless(self.X, list(self._groups()), idx[~cap])
+            out[:, ~cap] = self._massless(self.X, self.U_end, list(self._groups()), idx[~cap])
         return out
 
     @property
@@ -123,15 +145,25 @@ class ExactTrajectory(Trajectory):
         if self._xbar is None:
             Xs = self.X_start
             out = np.empty_like(self.X)
+            r = self.ramp
+            hold = np.where(r[None, :], 0.0, self.U_end)
+            if r.any():
+                rend = np.where(r[None, :], self.U_end, 0.0)
+                rprev = np.where(r[None, :], self.U_prev, 0.0)
             for s, rows in self._groups():
                 if s in self.dense:
-                    _, _, Phibar, Gambar = self.dense[s]
-                    out[rows] = Xs[rows] @ Phibar.T + self.U[rows] @ Gambar.T
+                    _, _, Phibar, Gambar, Gam3 = self.dense[s]
+                    out[rows] = Xs[rows] @ Phibar.T + hold[rows] @ Gambar.T
+                    if r.any():
+                        out[rows] += rend[rows] @ Gam3.T + rprev[rows] @ (Gambar - Gam3).T
                     continue
                 x = self.lam[s] * self.h
-                Q = self.Q[s]
+                Q, W = self.Q[s], self.W[s]
                 z = (Xs[rows] * self.C[None, :]) @ Q
-                zbar = z * phi1(x) + (self.U[rows] @ self.W[s].T) * (self.h * phi2(x))
+                zbar = z * phi1(x) + (hold[rows] @ W.T) * (self.h * phi2(x))
+                if r.any():
+                    e2, e3 = self.h * phi2(x), self.h * phi3(x)
+                    zbar += (rend[rows] @ W.T) * e3 + (rprev[rows] @ W.T) * (e2 - e3)
                 out[rows] = zbar @ Q.T
             self._xbar = out
         return self._xbar
@@ -142,7 +174,7 @@ class ExactTrajectory(Trajectory):
         xbar = self.x_mean
         out[:, cap] = xbar[:, idx[cap]]
         if (~cap).any():
-            out[:, ~cap] = self._massless(xbar, list(self._groups()), idx[~cap])
+            out[:, ~cap] = self._massless(xbar, self.U, list(self._groups()), idx[~cap])
         return out
 
     def conductances(self, cols):
@@ -152,9 +184,9 @@ class ExactTrajectory(Trajectory):
 class NodeTrajectory(Trajectory):
     """Trajectory that stores every free node's end and mean temperatures (sparse method)."""
 
-    def __init__(self, T_end, T_mean, x_first, S, U, G, nc, info):
+    def __init__(self, T_end, T_mean, x_first, S, U, U_end, G, nc, info):
         self.T_end, self.T_mean = T_end, T_mean
-        self.x_first, self.S, self.U, self.G = x_first, S, U, G
+        self.x_first, self.S, self.U, self.U_end, self.G = x_first, S, U, U_end, G
         self.nc, self.nf = nc, T_end.shape[1]
         self.X = T_end[:, :nc]
         self.info = info
@@ -178,6 +210,7 @@ class JoinedTrajectory(Trajectory):
         self.x_first = parts[0].x_first
         self.X = np.vstack([p.X for p in parts])
         self.U = np.vstack([p.U for p in parts])
+        self.U_end = np.vstack([p.U_end for p in parts])
         self.S = np.concatenate([p.S for p in parts])
         self.info = info
 
