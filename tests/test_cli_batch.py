@@ -21,9 +21,9 @@ import pandas as pd
 import pytest
 
 import thermonet as tn
-from thermonet.io import models as io
 from thermonet.cli import run as cli_batch
 from thermonet.errors import SolverError
+from thermonet.io import models as io
 
 SAMPLE = Path(__file__).resolve().parents[1] / "weather_samples" / "fernhollow_sample.csv"
 SITE = ["--latitude", "48.3", "--longitude", "11.9", "--tz", "Etc/GMT-1"]

@@ -87,6 +87,7 @@ import numpy as np
 import pandas as pd
 import pvlib
 
+from thermonet.checks import IRRADIANCE_COLUMNS, check_irradiance
 from thermonet.constants import ZERO_CELSIUS
 from thermonet.errors import ThermonetWarning, TimeZoneError, WeatherError
 from thermonet.solar import solar_position as _solar_position
@@ -687,6 +688,8 @@ def validate(
         _check_finite(out, col)
         if col in COLUMN_SPECS:
             _check_range(out, col)
+        if col in IRRADIANCE_COLUMNS:  # in range, but perhaps kW/m²: warns
+            check_irradiance(out[col], f"weather column {col!r}", stacklevel=3)
     _check_dew_point(out)
     if closure_limits is not None:
         _check_closure(out, closure_limits, site if site is not None else site_of(out))
