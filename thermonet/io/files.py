@@ -47,6 +47,7 @@ __all__ = [
     "fsync_folder",
     "is_thermonet_folder",
     "lock_path",
+    "pid_alive",
     "write_file_atomic",
 ]
 
@@ -172,7 +173,8 @@ def lock_path(target) -> Path:
     return target.parent / f".{target.name}.lock"
 
 
-def _pid_alive(pid: int) -> bool:
+def pid_alive(pid: int) -> bool:
+    """Whether a process of this id runs on this machine (zombies count as running)."""
     if pid <= 0:
         return False
     try:
@@ -315,7 +317,7 @@ class OutputFolder:
             return True  # being written right now, or not ours: do not break it
         if other.get("host") not in (None, socket.gethostname()):
             return True  # another machine: cannot tell, assume alive
-        return _pid_alive(pid)
+        return pid_alive(pid)
 
     def recover(self) -> None:
         """Remove staging folders of killed runs; restore a set left aside mid-swap."""

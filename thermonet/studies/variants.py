@@ -118,7 +118,7 @@ import pandas as pd
 
 from thermonet.engine.batch import DEFAULT_MAX_BYTES, run_batch
 from thermonet.errors import StudyError, StudyWarning
-from thermonet.io.files import write_file_atomic
+from thermonet.io.files import pid_alive, write_file_atomic
 
 __all__ = [
     "run_variants",
@@ -446,6 +446,22 @@ class _PartStore:
                 raise StudyError(f"out={str(folder)!r}: cannot write {_STUDY_FILE} "
                                  f"({exc}); give a writable folder with free space") from exc
         self.seq = 0
+        self.remove_dead_temporaries()
+
+    def remove_dead_temporaries(self) -> None:
+        """Delete temporary part files left by writers that were killed (their pid is gone).
+
+        A temporary is named ``.part-<ns>-<pid>-<seq>.parquet.<random>.tmp``; a live
+        process's temporaries (another study writing here) are left alone.
+        """
+        for p in self.dir.glob(".part-*.tmp"):
+            fields = p.name.split("-")
+            try:
+                pid = int(fields[2])
+            except (IndexError, ValueError):
+                continue
+            if not pid_alive(pid):
+                p.unlink(missing_ok=True)
 
     def parts(self) -> list[Path]:
         return sorted(self.dir.glob("part-*.parquet"))
