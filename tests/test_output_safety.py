@@ -127,6 +127,20 @@ def test_scenario1_folder_with_a_users_own_file_is_refused(models, weather_csv, 
     consistent(out)
 
 
+def test_overwrite_never_takes_a_users_other_files_with_it(models, weather_csv, tmp_path,
+                                                           capsys):
+    out = tmp_path / "shared"
+    assert run(argv(models[0], weather_csv, out, "--format", "csv")) == 0
+    (out / "notes.txt").write_text("keep me", encoding="utf-8")
+    (out / "drafts").mkdir()
+    code = run(argv(models[1], weather_csv, out, "--overwrite"))
+    err = capsys.readouterr().err
+    assert code == 2 and "2 entries thermonet never writes there (drafts, notes.txt)" in err
+    assert (out / "notes.txt").read_text(encoding="utf-8") == "keep me"
+    assert (out / "drafts").is_dir() and "a.json" in json.loads(
+        (out / "provenance.json").read_text(encoding="utf-8"))["model"]["path"]
+
+
 def test_scenario2_overwrite_failing_mid_write_keeps_the_old_complete_set(
         models, weather_csv, tmp_path, monkeypatch, capsys):
     out = tmp_path / "res"

@@ -13,16 +13,28 @@
 
 Exit codes
 ----------
-== ===================================================================================
-0  success
-1  unexpected error (a bug, or the outputs could not be written)
-2  bad usage: unknown option, missing file, unusable --step / --warmup-days / site
-3  invalid model file (:class:`~thermonet.errors.ModelFileError`, or a network the compiler
-   refuses, e.g. a node without a path to a boundary)
-4  invalid weather (:class:`~thermonet.errors.WeatherError`, or weather that does not fit the
-   model's schedules, :class:`~thermonet.errors.ScheduleError`)
-5  simulation failed (the solver raised)
-== ===================================================================================
+=== ===================================================================================
+0   success
+1   unexpected error (a bug, or the outputs could not be written)
+2   bad usage: unknown option, missing file, unusable --step / --warmup-days / site /
+    --tz, an --out folder that is not ours, locked by another run, or not a folder
+3   invalid model file (:class:`~thermonet.errors.ModelFileError`, or a network the compiler
+    refuses, e.g. a node without a path to a boundary)
+4   invalid weather (:class:`~thermonet.errors.WeatherError`, or weather that does not fit the
+    model's schedules, :class:`~thermonet.errors.ScheduleError`)
+5   simulation failed (the solver raised)
+130 interrupted (Ctrl-C): ``--out`` is left as it was, temporary files removed
+=== ===================================================================================
+
+Output folder
+-------------
+``run`` writes every table and ``provenance.json`` into a staging folder beside ``--out``
+and swaps it in at the end (:class:`thermonet.io.files.OutputFolder`): after a failure, a
+kill or Ctrl-C, ``--out`` holds the complete old set or the complete new one. A folder
+holding files that no thermonet run wrote (no ``provenance.json`` of ours) is refused unless
+``--overwrite``; with it the folder is replaced as a whole, and refused if it holds anything
+but thermonet's own file names. A lock file ``.<name>.lock`` beside ``--out`` keeps a
+second run out while one is writing (the error names its pid and start time).
 
 Weather files
 -------------
@@ -240,7 +252,9 @@ def add_batch_commands(subparsers) -> None:
                      help="solver (default auto)")
     _site_options(run)
     run.add_argument("--overwrite", action="store_true",
-                     help="write into DIR even if it holds results of an earlier run")
+                     help="replace DIR as a whole when it holds files already (an earlier "
+                          "run's tables in every format, or files named like them); a DIR "
+                          "holding other files is still refused")
     run.add_argument("-q", "--quiet", action="store_true", help="no progress messages")
     run.add_argument("--progress-every", type=float, default=PROGRESS_EVERY, metavar="SECONDS",
                      help="while simulating or writing, print a 'still ...' line every "
@@ -863,7 +877,8 @@ def run_command(args) -> int:
     say = _Progress("run", getattr(args, "quiet", False),
                     getattr(args, "progress_every", PROGRESS_EVERY))
     out = Path(args.out)
-    folder = OutputFolder(out, overwrite=args.overwrite)
+    owned = {f"{t}.{ext}" for t in OUTPUT_TABLES for ext in ("csv", "parquet")}
+    folder = OutputFolder(out, overwrite=args.overwrite, owned=owned | {PROVENANCE_FILE})
     try:
         try:
             folder.check()

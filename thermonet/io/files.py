@@ -220,6 +220,11 @@ class OutputFolder:
         write.
     what : str, default "--out"
         How the folder is named in error messages (the option or argument that gave it).
+    owned : collection of str, optional
+        Names of the files the writer puts in the folder. With ``overwrite``, a folder that
+        holds anything else (another file, a sub-folder) is still refused: an overwrite
+        replaces the folder as a whole, so it must not take a user's other files with it.
+        None: no such check.
 
     Examples
     --------
@@ -228,8 +233,10 @@ class OutputFolder:
     ...     folder.commit()
     """
 
-    def __init__(self, target, *, overwrite: bool = False, what: str = "--out"):
+    def __init__(self, target, *, overwrite: bool = False, what: str = "--out",
+                 owned=None):
         self.target = Path(target)
+        self.owned = None if owned is None else frozenset(owned)
         self.overwrite = bool(overwrite)
         self.what = what
         self.lock = lock_path(self.target)
@@ -249,13 +256,25 @@ class OutputFolder:
         if t.exists() and not t.is_dir():
             raise OutputFolderError(f"{self.what} {t} exists and is not a folder; give a "
                                     "folder path")
-        if not t.is_dir() or self.overwrite:
+        if not t.is_dir():
             return
         try:
             entries = [p.name for p in t.iterdir()]
         except OSError as exc:
             raise OutputFolderError(f"{self.what} {t} cannot be listed ({exc})") from exc
         if not entries:
+            return
+        if self.overwrite:
+            other = sorted(p.name for p in t.iterdir()
+                           if self.owned is not None and (p.name not in self.owned
+                                                          or not p.is_file()))
+            if other:
+                shown = ", ".join(other[:5]) + (" …" if len(other) > 5 else "")
+                raise OutputFolderError(
+                    f"{self.what} {t} holds {len(other)} entr{'y' if len(other) == 1 else 'ies'}"
+                    f" thermonet never writes there ({shown}); --overwrite replaces the folder "
+                    "as a whole and would delete them: move them away or choose a folder of "
+                    "its own for the results")
             return
         if is_thermonet_folder(t):
             raise OutputFolderError(
