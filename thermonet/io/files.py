@@ -284,7 +284,7 @@ class OutputFolder:
         raise OutputFolderError(
             f"{self.what} {t} holds files thermonet did not write ({shown}) and no "
             f"{_PROVENANCE} of a thermonet run; choose an empty or new folder, or pass "
-            "--overwrite to replace the folder and everything in it")
+            "--overwrite to replace them with this run's results")
 
     # ------------------------------------------------------------------ lock
     def acquire(self) -> None:
