@@ -99,13 +99,15 @@ def test_impossible_and_negative_irradiance():
                                 "weather column 'dhi'")
 
 
-@pytest.mark.parametrize("setpoint, outcome", [(1e9, "kelvin"), (65.0, "warn"),
+@pytest.mark.parametrize("setpoint, outcome", [(1e9, "impossible"), (295.0, "kelvin"),
+                                               (65.0, "warn"),
                                                (pd.Series(np.full(72, 20.0), index=IDX), "ok")])
 def test_setpoints(setpoint, outcome):
     net = room(setpoint=setpoint)
-    if outcome == "kelvin":
+    if outcome in ("impossible", "kelvin"):
+        what = "looks like kelvin" if outcome == "kelvin" else "1e\\+09 °C is impossible"
         with pytest.raises(NetworkError, match="thermostat 'thermostat:room' "
-                                               "heating_setpoint: median"):
+                                               f"heating_setpoint: median .*{what}"):
             checks.check_simulation_inputs(net, plain_weather(), 2.0)
     elif outcome == "warn":
         with pytest.warns(PlausibilityWarning, match="thermostat 'thermostat:room' "

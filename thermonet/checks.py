@@ -32,6 +32,7 @@ from thermonet.errors import AccuracyWarning, NetworkError, PlausibilityWarning,
 
 __all__ = [
     "KELVIN_MEDIAN",
+    "KELVIN_LIKELY_MAX",
     "KW_IRRADIANCE_MAX",
     "IRRADIANCE_IMPOSSIBLE",
     "SETPOINT_RANGE",
@@ -56,6 +57,10 @@ __all__ = [
 #: building boundary or setpoint sits above 150 °C most of the time, and 0 °C is 273.15 K
 #: (common practice, no source; the same rule as thermonet.weather's range check).
 KELVIN_MEDIAN = 150.0
+
+#: Medians between :data:`KELVIN_MEDIAN` and this [°C] are reported as kelvin (outdoor and
+#: indoor temperatures in K lie near 220 … 330); higher ones as plainly impossible.
+KELVIN_LIKELY_MAX = 400.0
 
 #: Irradiance columns whose largest value is positive but no more than this [W/m²] over at
 #: least two days look like kW/m²: clear-sky noon irradiance exceeds 100 W/m² on most days
@@ -122,7 +127,8 @@ def check_temperature(x, what: str, *, plausible=BOUNDARY_RANGE, error=NetworkEr
     ------
     NetworkError or ``error``
         A value below absolute zero (−273.15 °C), a non-finite value, or a median above
-        :data:`KELVIN_MEDIAN` (kelvin given for °C).
+        :data:`KELVIN_MEDIAN` (kelvin given for °C below :data:`KELVIN_LIKELY_MAX`,
+        impossible above).
 
     Warns
     -----
@@ -141,9 +147,14 @@ def check_temperature(x, what: str, *, plausible=BOUNDARY_RANGE, error=NetworkEr
         k = int((v < -ZERO_CELSIUS).argmax())
         raise error(f"{what}: {v[k]} °C {_where(x, k)} is below absolute zero "
                            f"(−{ZERO_CELSIUS} °C); temperatures are in °C")
-    if np.median(v) > KELVIN_MEDIAN:
-        raise error(f"{what}: median {np.median(v):.1f} °C looks like kelvin; thermonet "
-                           f"keeps temperatures in °C: subtract {ZERO_CELSIUS}")
+    med = float(np.median(v))
+    if med > KELVIN_MEDIAN:
+        if med < KELVIN_LIKELY_MAX:
+            raise error(f"{what}: median {med:.1f} °C looks like kelvin; thermonet keeps "
+                        f"temperatures in °C: subtract {ZERO_CELSIUS}")
+        raise error(f"{what}: median {med:.4g} °C is impossible around or inside a building "
+                    f"(above {KELVIN_MEDIAN:g} °C most of the time); check the value and its "
+                    "unit (°C)")
     low, high = plausible
     out = (v < low) | (v > high)
     if out.any():

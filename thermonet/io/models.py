@@ -699,9 +699,10 @@ def _parse_float(text: str) -> float:
 def _check_size(nbytes: int, limit: float, source: str) -> None:
     if nbytes > limit:
         raise ModelFileError(
-            f"{source}: file: {nbytes / 2**20:.1f} MiB is above the model-file limit of "
-            f"{limit / 2**20:.1f} MiB; keep long time series out of the model (pass them as "
-            "weather columns), or raise the limit with max_bytes= if the file is genuine")
+            f"{source}: file: {nbytes} bytes ({nbytes / 2**20:.1f} MiB) is above the "
+            f"model-file limit of {limit:.0f} bytes ({limit / 2**20:.1f} MiB); keep long "
+            "time series out of the model (pass them as weather columns), or raise the limit "
+            "with max_bytes= if the file is genuine")
 
 
 def _read_text(text: str, source: str, max_bytes: float = MAX_MODEL_BYTES):
