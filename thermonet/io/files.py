@@ -33,7 +33,6 @@ import json
 import os
 import shutil
 import socket
-import stat
 import sys
 import tempfile
 from pathlib import Path
@@ -48,6 +47,7 @@ __all__ = [
     "is_thermonet_folder",
     "lock_path",
     "pid_alive",
+    "sync_file",
     "write_file_atomic",
 ]
 
@@ -409,8 +409,3 @@ class OutputFolder:
 
     def __exit__(self, kind, exc, tb) -> None:
         self.release()
-
-
-def file_mode(path) -> int:
-    """Permission bits of a file (``stat.S_IMODE``)."""
-    return stat.S_IMODE(os.stat(path).st_mode)
