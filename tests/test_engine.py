@@ -39,10 +39,16 @@ def test_rc_node_step_response_exact():
 
 
 def test_rc_node_with_source_reaches_equilibrium():
-    # θ_eq = θ∞ + Φ/H (REFERENCES.md §2.1): 5 °C + 500 W / 100 W/K = 10 °C
-    net = one_node(C=1e5, source=500.0)
-    res = tn.simulate(net, hourly_weather(24 * 3, temp_air=5.0))
-    np.testing.assert_allclose(res.temperatures["n"], 10.0, atol=1e-9)
+    # θ_eq = θ∞ + Φ/H (REFERENCES.md §2.1): 5 °C + 500 W / 100 W/K = 10 °C, approached from
+    # 30 °C as θ(t) = θ_eq + (30 − θ_eq) e^(−t/τ), τ = C/H = 1e4 s (lumped capacitance,
+    # Incropera §5.1). Started away from equilibrium, without warm-up.
+    net = one_node(C=1e6, source=500.0, initial=30.0)
+    res = tn.simulate(net, hourly_weather(24 * 3, temp_air=5.0), warmup_days=0)
+    T = res.temperatures["n"].to_numpy()
+    t = np.arange(1, 73) * 3600.0
+    np.testing.assert_allclose(T, 10.0 + 20.0 * np.exp(-t / 1e4), rtol=0, atol=1e-10)
+    assert T[0] > 23.0  # far from equilibrium after the first hour ...
+    np.testing.assert_allclose(T[-24:], 10.0, atol=1e-9)  # ... there at the end
 
 
 def test_rc_node_periodic_response_amplitude_and_lag():
@@ -110,7 +116,7 @@ def test_steady_state_wall_loss_equals_u_a_delta_t():
         net.add_node(name, capacitance=cap)
     for (lname, R), a, b in zip(layers, nodes[:-1], nodes[1:], strict=True):
         net.add_link(a, b, conductance=A / R, path=lname)
-    res = tn.simulate(net, hourly_weather(24), warmup_days=30)
+    res = tn.simulate(net, hourly_weather(24), warmup_days=1)  # the whole day
     np.testing.assert_allclose(res.flows["in-s1:si"], U * A * dT, rtol=1e-9)
 
 
@@ -230,14 +236,17 @@ def test_thermostat_power_equals_ua_delta_t():
     net = tn.Network()
     net.add_boundary("out", temperature="temp_air")
     net.add_node("room", kind="air", capacitance=1.2e5)
-    net.add_node("slab", kind="mass", capacitance=8e6)
+    # the slab starts 15 K below its equilibrium (20 °C) and no warm-up is run: the heating
+    # first also warms the slab (τ = C/G = 8e6/150 s ≈ 15 h), then settles at UA·ΔT − gains
+    net.add_node("slab", kind="mass", capacitance=8e6, initial=5.0)
     net.add_link("room", "slab", conductance=150.0, path="internal")
     net.add_link("out", "room", conductance=40.0, path="opaque")
     net.add_airflow("out", "room", flow_m3h=60.0, path="infiltration")
     net.add_source("room", power=150.0, path="internal")
     net.add_thermostat("room", heating_setpoint=20.0)
-    res = tn.simulate(net, hourly_weather(24 * 40, temp_air=-10.0), warmup_days=60)
+    res = tn.simulate(net, hourly_weather(24 * 40, temp_air=-10.0), warmup_days=0)
     ua = 40.0 + 60.0 * 1200.0 / 3600.0
+    assert res.heating.iloc[0] > ua * 30.0 - 150.0 + 1000.0  # far from equilibrium at first
     np.testing.assert_allclose(res.heating.iloc[-24:], ua * 30.0 - 150.0, rtol=1e-9)
     np.testing.assert_allclose(res.temperatures["room"], 20.0, atol=1e-9)
 
@@ -246,10 +255,10 @@ def test_thermostat_capacity_limit_and_cooling():
     net = one_node(C=1e6, H=100.0)
     net.add_thermostat("n", heating_setpoint=20.0, cooling_setpoint=25.0, max_heating_w=1000.0,
                        max_cooling_w=500.0)
-    cold = tn.simulate(net, hourly_weather(48, temp_air=-20.0), warmup_days=10)
+    cold = tn.simulate(net, hourly_weather(48, temp_air=-20.0), warmup_days=2)
     np.testing.assert_allclose(cold.heating, 1000.0)
     assert (cold.temperatures["n"] < 20.0).all()
-    hot = tn.simulate(net, hourly_weather(48, temp_air=28.0), warmup_days=10)
+    hot = tn.simulate(net, hourly_weather(48, temp_air=28.0), warmup_days=2)
     np.testing.assert_allclose(hot.cooling, 300.0, rtol=1e-9)  # 100 W/K × 3 K
     np.testing.assert_allclose(hot.temperatures["n"], 25.0, atol=1e-9)
     b = hot.balance("n")

@@ -55,8 +55,10 @@ def test_random_networks_close_their_balance(seed, n_nodes, data):
         b = res.balance(subset, freq=freq)
         scale = b.drop(columns="residual").abs().to_numpy().max()
         # relative to the largest term, with an absolute floor of 1e-9 kWh for sets whose
-        # terms are themselves rounding noise (e.g. a massless node in a quiet corner)
-        assert np.abs(b["residual"].to_numpy()).max() <= 1e-6 * scale + 1e-9
+        # terms are themselves rounding noise (e.g. a massless node in a quiet corner).
+        # Measured over 960 of these networks (seeds 0 … 10 000): worst 7.2e-9 of the largest
+        # term (seed 55, 12 nodes, daily sums); 1e-7 leaves a margin of ~14
+        assert np.abs(b["residual"].to_numpy()).max() <= 1e-7 * scale + 1e-9
 
 
 @settings(max_examples=15, deadline=None)
@@ -112,7 +114,8 @@ def test_sparse_free_running_march_agrees_with_exact(seed):
     assert b.worst_residual() < 1e-9
     sub = names[: len(names) // 2]
     bal = b.balance(sub, freq="D")
-    assert np.abs(bal["residual"]).max() <= 1e-6 * bal.drop(columns="residual").abs().max().max()
+    # measured ≤ 2.0e-13 of the largest daily term over 30 seeds; 1e-11: a margin of ~50
+    assert np.abs(bal["residual"]).max() <= 1e-11 * bal.drop(columns="residual").abs().max().max()
 
 
 def test_sparse_rational_error_bound():

@@ -21,7 +21,7 @@ import pandas as pd
 import pytest
 
 import thermonet as tn
-from thermonet.errors import ModelFileError, NetworkError
+from thermonet.errors import ModelFileError, NetworkError, ReadOnlyError
 from thermonet.io import models as io
 
 TZ = "Etc/GMT-1"
@@ -474,7 +474,10 @@ def test_save_refuses_edited_airflow_conductance():
     net.add_boundary("out", temperature=0.0)
     net.add_node("n", kind="air", capacitance=1e5)
     name = net.add_airflow("out", "n", flow_m3h=100.0, path="infiltration")
-    net.links[name].conductance = 99.0  # no longer what flow_m3h says
+    with pytest.raises(ReadOnlyError, match="link 'out-n:infiltration' is read-only"):
+        net.links[name].conductance = 99.0
+    # the writer's own defence, should a record be changed by force
+    object.__setattr__(net.links[name], "conductance", 99.0)  # no longer what flow_m3h says
     with pytest.raises(ModelFileError, match="changed after add_airflow"):
         io.to_dict(net)
 
@@ -720,6 +723,9 @@ def test_save_refuses_values_json_cannot_hold(weather):
     net = copy.deepcopy(base)
     net.add_node("s", capacitance=1e4)
     rad = net.add_radiation("n", "s", area=5.0, path="radiation")
-    net.links[rad].conductance = 1.0  # no longer what area and emissivities say
+    with pytest.raises(ReadOnlyError, match="add_radiation"):
+        net.links[rad].conductance = 1.0
+    object.__setattr__(net.links[rad], "conductance", 1.0)  # by force: no longer what area
+    # and emissivities say
     with pytest.raises(ModelFileError, match="changed after add_radiation"):
         io.to_dict(net)

@@ -229,12 +229,13 @@ def _builtin_materials() -> dict[str, Material]:
         ),
         (
             "brick_clay",
-            0.84,
+            0.80,
             1700.0,
             800.0,
-            "CIBSE Guide A, brickwork (outer leaf), from memory; consistent with the range "
-            "1500–1700 kg/m³, 0.6–0.8 W/(mK) of a clay-brick data sheet [C] "
-            "(paperzz.com/doc/8712520)",
+            "λ and ρ: upper end of the ranges 0.6–0.8 W/(mK) and 1500–1700 kg/m³ of a "
+            "clay-brick data sheet [C] (paperzz.com/doc/8712520); c: CIBSE Guide A, brickwork "
+            "(outer leaf), from memory (which gives λ = 0.84 W/(mK), just above the sheet's "
+            "range)",
         ),
         ("air_still", 0.025, 1.23, 1008.0, "ISO 10456:2007 Table 3 (air), from memory"),
         ("water", 0.60, 1000.0, 4190.0, "ISO 10456:2007 Table 3 (water at 10 °C), from memory"),

@@ -19,6 +19,10 @@ class WeatherError(ThermonetError, ValueError):
     """Weather data are missing, irregular or physically impossible."""
 
 
+class TimeZoneError(WeatherError):
+    """A time zone name or object that pandas does not know."""
+
+
 class ScheduleError(ThermonetError, ValueError):
     """A schedule or time series does not align with the simulation index."""
 
@@ -39,6 +43,14 @@ class StudyError(ThermonetError, ValueError):
     """A design study cannot run: bad parameter table, failed variants, wrong output folder."""
 
 
+class OutputFolderError(ThermonetError, ValueError):
+    """A result folder cannot be written: not ours, locked by another run, or not a folder."""
+
+
+class ReadOnlyError(ThermonetError, AttributeError):
+    """An element of a network was changed after it was added (elements are read-only)."""
+
+
 class ThermonetWarning(UserWarning):
     """Base class of warnings issued by thermonet."""
 
@@ -53,3 +65,7 @@ class StudyWarning(ThermonetWarning):
 
 class AirflowError(ThermonetError, ValueError):
     """An opening, flow or driving quantity of an airflow calculation is invalid."""
+
+
+class PlausibilityWarning(ThermonetWarning):
+    """An input or result is possible but implausible for a building (a unit mix-up?)."""

@@ -14,21 +14,94 @@ from __future__ import annotations
 import difflib
 import math
 from dataclasses import dataclass, field
+from typing import ClassVar
 
 import numpy as np
 import pandas as pd
 
 from thermonet.constants import RHO_CP_AIR, STEFAN_BOLTZMANN, ZERO_CELSIUS
 from thermonet.controls import Condition
-from thermonet.errors import NetworkError
+from thermonet.errors import NetworkError, ReadOnlyError
 
 NODE_KINDS = ("air", "surface", "mass", "ground", "buffer")
 BOUNDARY_KINDS = ("air", "sky", "ground", "surface")
 AIR_KINDS = ("air", "buffer")
 
 
+class ReadOnlyDict(dict):
+    """A dict that refuses changes: the element tables of a :class:`Network` and the
+    parameter dicts of its elements.
+
+    Parameters
+    ----------
+    data : mapping or iterable of pairs
+    what : str
+        How the table is named in the error (e.g. ``"net.links"``).
+    fix : str
+        How to make the change instead (e.g. ``"use net.add_link(...)"``).
+    """
+
+    def __init__(self, data=(), what: str = "this table", fix: str = ""):
+        dict.__init__(self, data)
+        self.what, self.fix = what, fix
+
+    def _refuse(self, *args, **kwargs):
+        raise ReadOnlyError(f"{self.what} is read-only once part of a network; "
+                            f"{self.fix or 'build a new network with the new values'}")
+
+    __setitem__ = __delitem__ = _refuse
+    pop = popitem = clear = update = setdefault = __ior__ = _refuse
+
+    def _store(self, key, value):
+        """Add an entry (for the owning :class:`Network` only)."""
+        dict.__setitem__(self, key, value)
+
+    def __reduce__(self):
+        return (type(self), (dict(self), self.what, self.fix))
+
+    def __copy__(self):
+        return type(self)(self, self.what, self.fix)
+
+    def __deepcopy__(self, memo):
+        import copy
+
+        return type(self)({copy.deepcopy(k, memo): copy.deepcopy(v, memo)
+                           for k, v in self.items()}, self.what, self.fix)
+
+
+class Element:
+    """Base of the network's element records: read-only once created.
+
+    A change after ``add_*`` would bypass every check ``add_*`` made (a negative
+    conductance, a NaN, a flow that no longer matches its conductance) and leave the
+    network inconsistent, so setting or deleting an attribute raises
+    :class:`~thermonet.errors.ReadOnlyError` naming the element and the ``add_*`` call that
+    takes the new value.
+    """
+
+    #: The ``Network`` method(s) that create this kind of element (named in errors).
+    adder: ClassVar[str] = "add_*"
+
+    def __post_init__(self):
+        object.__setattr__(self, "_sealed", True)
+
+    def __setattr__(self, attr, value):
+        if self.__dict__.get("_sealed"):
+            raise ReadOnlyError(
+                f"{type(self).__name__.lower()} {self.__dict__.get('name')!r} is read-only once "
+                f"added (tried to set {attr} = {value!r}); build a new Network and call "
+                f"{self.adder}(..., {attr}=...) with the new value, or for a value that "
+                "changes over time pass a Series (a schedule) when adding it")
+        object.__setattr__(self, attr, value)
+
+    def __delattr__(self, attr):
+        raise ReadOnlyError(f"{type(self).__name__.lower()} {self.__dict__.get('name')!r} is "
+                            f"read-only once added (tried to delete {attr}); build a new "
+                            "Network without it")
+
+
 @dataclass
-class Node:
+class Node(Element):
     """A free node: a temperature with a heat capacity.
 
     Attributes
@@ -50,18 +123,22 @@ class Node:
     volume: float | None = None
     initial: float | None = None
 
+    adder: ClassVar[str] = "add_node"
+
 
 @dataclass
-class Boundary:
+class Boundary(Element):
     """A node of given temperature: a weather column name, a constant or a Series [°C]."""
 
     name: str
     temperature: str | float | pd.Series
     kind: str = "air"
 
+    adder: ClassVar[str] = "add_boundary"
+
 
 @dataclass
-class Link:
+class Link(Element):
     """Heat flow ``Q = G (T_a − T_b)`` [W] between two nodes, counted under ``path``.
 
     ``conductance`` [W/K] is a float, or a Series [W/K] aligned to the weather when the link is
@@ -76,9 +153,17 @@ class Link:
     kind: str = "conductance"
     params: dict = field(default_factory=dict)
 
+    adder: ClassVar[str] = "add_link/add_airflow/add_radiation"
+
+    def __post_init__(self):
+        object.__setattr__(self, "params", ReadOnlyDict(
+            self.params, f"link {self.name!r} params",
+            "build a new Network and add the link with the new values"))
+        super().__post_init__()
+
 
 @dataclass
-class Source:
+class Source(Element):
     """Heat into a node [W]: a constant or a Series aligned to the weather."""
 
     name: str
@@ -86,9 +171,11 @@ class Source:
     power: float | pd.Series
     path: str
 
+    adder: ClassVar[str] = "add_source"
+
 
 @dataclass
-class Thermostat:
+class Thermostat(Element):
     """Ideal heating and/or cooling at a node, sized each step to meet the setpoint.
 
     Setpoints [°C] are constants, Series or None (no heating / no cooling). Capacities [W] are
@@ -102,9 +189,11 @@ class Thermostat:
     max_heating_w: float
     max_cooling_w: float
 
+    adder: ClassVar[str] = "add_thermostat"
+
 
 @dataclass
-class Switch:
+class Switch(Element):
     """A two-state control: when on, target links and sources are scaled by their factors.
 
     ``on`` is the condition that turns the switch on; ``off`` the one that turns it off again
@@ -119,6 +208,16 @@ class Switch:
     link_factors: dict[str, tuple[float, float]]   # name -> (factor_off, factor_on)
     source_factors: dict[str, tuple[float, float]]
     initial: bool = False
+
+    adder: ClassVar[str] = "add_switch"
+
+    def __post_init__(self):
+        fix = "build a new Network and call add_switch with the new factors"
+        object.__setattr__(self, "link_factors", ReadOnlyDict(
+            self.link_factors, f"switch {self.name!r} link factors", fix))
+        object.__setattr__(self, "source_factors", ReadOnlyDict(
+            self.source_factors, f"switch {self.name!r} source factors", fix))
+        super().__post_init__()
 
 
 def _suggest(name, known):
@@ -264,12 +363,16 @@ class Network:
 
     def __init__(self, name: str = "network"):
         self.name = name
-        self.nodes: dict[str, Node] = {}
-        self.boundaries: dict[str, Boundary] = {}
-        self.links: dict[str, Link] = {}
-        self.sources: dict[str, Source] = {}
-        self.thermostats: dict[str, Thermostat] = {}
-        self.switches: dict[str, Switch] = {}
+        def table(attr, adder):
+            return ReadOnlyDict((), f"net.{attr}", f"add elements with net.{adder}(...); to "
+                                "change or remove one, build a new network")
+
+        self.nodes: dict[str, Node] = table("nodes", "add_node")
+        self.boundaries: dict[str, Boundary] = table("boundaries", "add_boundary")
+        self.links: dict[str, Link] = table("links", "add_link")
+        self.sources: dict[str, Source] = table("sources", "add_source")
+        self.thermostats: dict[str, Thermostat] = table("thermostats", "add_thermostat")
+        self.switches: dict[str, Switch] = table("switches", "add_switch")
 
     # ------------------------------------------------------------------ names
     def _all_point_names(self):
@@ -328,7 +431,7 @@ class Network:
             volume = _check_number(volume, f"node {name!r} volume [m³]", strict=True)
         if initial is not None:
             initial = _check_number(initial, f"node {name!r} initial [°C]", minimum=-273.15)
-        self.nodes[name] = Node(name, kind, c, volume, initial)
+        self.nodes._store(name, Node(name, kind, c, volume, initial))
         return name
 
     def add_boundary(self, name: str, *, temperature: str | float | pd.Series,
@@ -356,7 +459,7 @@ class Network:
         else:
             temperature = _check_number(temperature, f"boundary {name!r} temperature [°C]",
                                         minimum=-273.15)
-        self.boundaries[name] = Boundary(name, temperature, kind)
+        self.boundaries._store(name, Boundary(name, temperature, kind))
         return name
 
     # ------------------------------------------------------------------ links
@@ -394,7 +497,7 @@ class Network:
         name = self._unique(self.links, name, f"{a}-{b}:{path}", "link")
         g = _check_conductance(_value(conductance, f"link {name!r} conductance [W/K]"),
                                f"link {name!r} conductance")
-        self.links[name] = Link(name, a, b, g, path)
+        self.links._store(name, Link(name, a, b, g, path))
         return name
 
     def add_airflow(self, a: str, b: str, *, path: str, flow_m3h: float | pd.Series | None = None,
@@ -460,7 +563,7 @@ class Network:
         g = flow * (rho_cp / 3600.0) * (1.0 - eta)  # m³/h → m³/s
         _check_conductance(g, f"airflow {name!r} conductance ρc_p·V̇·(1 − η)")
         params = {"flow_m3h": flow, "heat_recovery": eta, "rho_cp": rho_cp}
-        self.links[name] = Link(name, a, b, g, path, kind="airflow", params=params)
+        self.links._store(name, Link(name, a, b, g, path, kind="airflow", params=params))
         return name
 
     def add_radiation(self, a: str, b: str, *, area: float, path: str,
@@ -482,7 +585,7 @@ class Network:
         params = dict(area=area, emissivity_a=emissivity_a, emissivity_b=emissivity_b,
                       view_factor=view_factor, area_b=area_b,
                       reference_temperature=reference_temperature)
-        self.links[name] = Link(name, a, b, g, path, kind="radiation", params=params)
+        self.links._store(name, Link(name, a, b, g, path, kind="radiation", params=params))
         return name
 
     # ---------------------------------------------------------------- sources
@@ -499,7 +602,7 @@ class Network:
             power = _check_series(power, f"source {name!r} power [W]")
         else:
             power = _check_number(power, f"source {name!r} power [W]", minimum=-math.inf)
-        self.sources[name] = Source(name, node, power, path)
+        self.sources._store(name, Source(name, node, power, path))
         return name
 
     # --------------------------------------------------------------- controls
@@ -551,8 +654,8 @@ class Network:
                            allow_inf=True)
         qc = _check_number(max_cooling_w, f"thermostat {name!r} max_cooling_w [W]", strict=True,
                            allow_inf=True)
-        self.thermostats[name] = Thermostat(name, node, sp["heating_setpoint"],
-                                            sp["cooling_setpoint"], qh, qc)
+        self.thermostats._store(name, Thermostat(name, node, sp["heating_setpoint"],
+                                                 sp["cooling_setpoint"], qh, qc))
         return name
 
     def add_switch(self, *, on: Condition, off: Condition | None = None,
@@ -607,7 +710,7 @@ class Network:
                 for ref in cond.node_refs():
                     self._known(ref, "switch condition node")
         name = self._unique(self.switches, name, "switch", "switch")
-        self.switches[name] = Switch(name, on, off, links, sources, bool(initial))
+        self.switches._store(name, Switch(name, on, off, links, sources, bool(initial)))
         return name
 
     # ---------------------------------------------------------------- summary

@@ -87,8 +87,9 @@ import numpy as np
 import pandas as pd
 import pvlib
 
+from thermonet.checks import IRRADIANCE_COLUMNS, check_irradiance
 from thermonet.constants import ZERO_CELSIUS
-from thermonet.errors import ThermonetWarning, WeatherError
+from thermonet.errors import ThermonetWarning, TimeZoneError, WeatherError
 from thermonet.solar import solar_position as _solar_position
 
 __all__ = [
@@ -115,6 +116,8 @@ __all__ = [
     "ground_temperature_kusuda",
     "fit_annual_cycle",
     "add_sky_temperature",
+    "check_zone",
+    "localize_index",
     "add_ground_temperature",
 ]
 
@@ -261,6 +264,72 @@ def site_of(df: pd.DataFrame) -> Site:
         tz=str(meta.get("tz", "UTC")),
         name=str(meta.get("name", "")),
     )
+
+
+def check_zone(tz: Any, what: str = "tz") -> Any:
+    """Check that ``tz`` is a time zone pandas knows; return it.
+
+    Parameters
+    ----------
+    tz : str or tzinfo
+        An IANA name (``"Europe/Berlin"``), a fixed-offset zone (``"Etc/GMT-1"``) or a tzinfo.
+    what : str, default "tz"
+        How the value is named in the error (an argument or a command-line option).
+
+    Raises
+    ------
+    TimeZoneError
+        If pandas cannot use it as a zone.
+    """
+    try:
+        pd.Timestamp("2025-01-01").tz_localize(tz)
+    except Exception as exc:  # noqa: BLE001 - pandas/zoneinfo/pytz raise unrelated types
+        raise TimeZoneError(
+            f"{what} {str(tz)!r} is not a known time zone ({type(exc).__name__}); use an "
+            "IANA name such as 'Europe/Berlin' or a fixed offset such as 'Etc/GMT-1' "
+            "(UTC+1: the sign of the Etc zones is inverted)") from None
+    return tz
+
+
+def localize_index(index: pd.DatetimeIndex, tz: Any, what: str = "weather"
+                   ) -> pd.DatetimeIndex:
+    """Localize naive time stamps to ``tz``; refuse stamps the zone skips or repeats.
+
+    Parameters
+    ----------
+    index : pandas.DatetimeIndex
+        Naive stamps (local wall-clock time).
+    tz : str or tzinfo
+        Zone to read them in.
+    what : str
+        Names the data in the error (e.g. the file).
+
+    Returns
+    -------
+    pandas.DatetimeIndex
+
+    Raises
+    ------
+    WeatherError
+        If some stamps do not exist in ``tz`` (clocks put forward) or exist twice (clocks
+        put back), naming the first ones and the fix.
+    """
+    try:
+        return index.tz_localize(tz)
+    except Exception:  # noqa: BLE001 - pytz.NonExistentTimeError/AmbiguousTimeError, ValueError
+        pass
+    gone = index.tz_localize(tz, nonexistent="NaT", ambiguous="NaT")
+    bad = index[gone.isna()]
+    skipped = index.tz_localize(tz, nonexistent="NaT", ambiguous=np.ones(len(index), bool))
+    kind = ("do not exist (the clocks are put forward there)" if skipped.isna().any() else
+            "occur twice (the clocks are put back there)")
+    shown = ", ".join(str(t) for t in bad[:3]) + (f" and {len(bad) - 3} more" if len(bad) > 3
+                                                   else "")
+    raise WeatherError(
+        f"{what}: {len(bad)} naive time stamp(s) {kind} in zone {_tz_name(tz)}: {shown}. "
+        "Weather files keep local standard time all year: read them with a fixed-offset "
+        "zone (e.g. tz='Etc/GMT-1' for UTC+1, the sign is inverted), or write each stamp "
+        "with its UTC offset (2025-03-30T03:00+02:00)")
 
 
 def _tz_name(tz: Any) -> str:
@@ -619,6 +688,8 @@ def validate(
         _check_finite(out, col)
         if col in COLUMN_SPECS:
             _check_range(out, col)
+        if col in IRRADIANCE_COLUMNS:  # in range, but perhaps kW/m²: warns
+            check_irradiance(out[col], f"weather column {col!r}", stacklevel=3)
     _check_dew_point(out)
     if closure_limits is not None:
         _check_closure(out, closure_limits, site if site is not None else site_of(out))
@@ -818,7 +889,11 @@ def from_dataframe(
         raise WeatherError(f"label must be 'end' (hour ending) or 'start', got {label!r}")
     out = df.copy()
     if isinstance(out.index, pd.DatetimeIndex) and tz is not None:
-        out = out.tz_localize(tz) if out.index.tz is None else out.tz_convert(tz)
+        zone = check_zone(tz)
+        if out.index.tz is None:
+            out.index = localize_index(out.index, zone, source)
+        else:
+            out = out.tz_convert(zone)
     index = _require_datetime_index(out)
     if label == "start":
         out.index = index + _check_index(index)
@@ -892,10 +967,22 @@ def read_tmy3(
     ----------
     Wilcox, S., Marion, W. (2008). Users Manual for TMY3 Data Sets. NREL/TP-581-43156.
     """
-    data, meta = pvlib.iotools.read_tmy3(
-        str(path), coerce_year=None, map_variables=True, encoding=encoding
-    )
-    labels = _tmy3_labels(data, meta)
+    try:
+        data, meta = pvlib.iotools.read_tmy3(
+            str(path), coerce_year=None, map_variables=True, encoding=encoding
+        )
+        labels = _tmy3_labels(data, meta)
+        site = (float(meta["latitude"]), float(meta["longitude"]), float(meta["altitude"]))
+    except FileNotFoundError:
+        raise
+    except Exception as exc:  # noqa: BLE001 - pvlib/pandas raise KeyError, ValueError, ...
+        raise WeatherError(
+            f"file {Path(path).name} is not an NREL TMY3 CSV ({type(exc).__name__}: {exc}): "
+            "read_tmy3 expects a first line with the station header (USAF, Name, State, TZ, "
+            "latitude, longitude, altitude) and a second line with the column names "
+            "('Date (MM/DD/YYYY)', 'Time (HH:MM)', 'GHI (W/m^2)', ...); for other CSV files "
+            "read them with pandas and pass the frame to from_dataframe"
+        ) from exc
     data = data.rename(columns={"TotCld (tenths)": "cloud_cover"})
     unknown = [c for c in columns if c not in data.columns]
     if unknown:
@@ -918,9 +1005,9 @@ def read_tmy3(
         data = restamp(data, year, leap_day=leap_day)
     return from_dataframe(
         data,
-        latitude=meta["latitude"],
-        longitude=meta["longitude"],
-        elevation=meta["altitude"],
+        latitude=site[0],
+        longitude=site[1],
+        elevation=site[2],
         name=name,
         source=data.attrs["source"],
         fill=fill,
@@ -1021,7 +1108,21 @@ def read_pvgis_tmy(
         )
     if label not in ("end", "start"):
         raise WeatherError(f"label must be 'start' or 'end', got {label!r}")
-    data, meta = pvlib.iotools.read_pvgis_tmy(path_or_buffer, pvgis_format=fmt, map_variables=True)
+    try:
+        data, meta = pvlib.iotools.read_pvgis_tmy(path_or_buffer, pvgis_format=fmt,
+                                                  map_variables=True)
+    except FileNotFoundError:
+        raise
+    except Exception as exc:  # noqa: BLE001 - pvlib/json/pandas raise many types
+        what = (f"file {Path(path_or_buffer).name}" if isinstance(path_or_buffer, str | Path)
+                else "the buffer")
+        raise WeatherError(
+            f"{what} is not a PVGIS typical-year {fmt} output ({type(exc).__name__}: {exc}): "
+            "read_pvgis_tmy expects the file PVGIS writes for a 'tmy' request (inputs with "
+            "the location, months_selected, and the hourly columns T2m, G(h), Gb(n), Gd(h), "
+            "...); for other files read them with pandas and pass the frame to "
+            "from_dataframe"
+        ) from exc
     lat, lon, elev = _pvgis_location(meta)
     data = data.rename(columns={"IR(h)": "ghi_infrared"}).astype(float)
     data.index.name = "time"

@@ -1,7 +1,7 @@
 """Command line: ``thermonet demo | run | check`` (also ``python -m thermonet``).
 
 Exit codes: 0 success, 1 unexpected failure, 2 bad usage, 3 invalid model file,
-4 invalid weather, 5 simulation failed.
+4 invalid weather, 5 simulation failed, 130 interrupted (Ctrl-C).
 """
 
 from __future__ import annotations
@@ -45,7 +45,7 @@ def build_parser() -> argparse.ArgumentParser:
         epilog="Start with `thermonet demo --out thermonet-report` (the invented sunny-room "
                "study); `thermonet COMMAND --help` lists the options of each command. "
                "Exit codes: 0 ok, 1 unexpected failure, 2 bad usage, 3 invalid model file, "
-               "4 invalid weather, 5 simulation failed.")
+               "4 invalid weather, 5 simulation failed, 130 interrupted (Ctrl-C).")
     p.add_argument("--version", action="version", version=f"thermonet {__version__}")
     sub = p.add_subparsers(dest="command", metavar="COMMAND")
     d = sub.add_parser(

@@ -13,16 +13,28 @@
 
 Exit codes
 ----------
-== ===================================================================================
-0  success
-1  unexpected error (a bug, or the outputs could not be written)
-2  bad usage: unknown option, missing file, unusable --step / --warmup-days / site
-3  invalid model file (:class:`~thermonet.errors.ModelFileError`, or a network the compiler
-   refuses, e.g. a node without a path to a boundary)
-4  invalid weather (:class:`~thermonet.errors.WeatherError`, or weather that does not fit the
-   model's schedules, :class:`~thermonet.errors.ScheduleError`)
-5  simulation failed (the solver raised)
-== ===================================================================================
+=== ===================================================================================
+0   success
+1   unexpected error (a bug, or the outputs could not be written)
+2   bad usage: unknown option, missing file, unusable --step / --warmup-days / site /
+    --tz, an --out folder that is not ours, locked by another run, or not a folder
+3   invalid model file (:class:`~thermonet.errors.ModelFileError`, or a network the compiler
+    refuses, e.g. a node without a path to a boundary)
+4   invalid weather (:class:`~thermonet.errors.WeatherError`, or weather that does not fit the
+    model's schedules, :class:`~thermonet.errors.ScheduleError`)
+5   simulation failed (the solver raised)
+130 interrupted (Ctrl-C): ``--out`` is left as it was, temporary files removed
+=== ===================================================================================
+
+Output folder
+-------------
+``run`` writes every table and ``provenance.json`` into a staging folder beside ``--out``
+and swaps it in at the end (:class:`thermonet.io.files.OutputFolder`): after a failure, a
+kill or Ctrl-C, ``--out`` holds the complete old set or the complete new one. A folder
+holding files that no thermonet run wrote (no ``provenance.json`` of ours) is refused unless
+``--overwrite``; with it the folder is replaced as a whole, and refused if it holds anything
+but thermonet's own file names. A lock file ``.<name>.lock`` beside ``--out`` keeps a
+second run out while one is writing (the error names its pid and start time).
 
 Weather files
 -------------
@@ -56,7 +68,6 @@ import contextlib
 import importlib.util
 import json
 import math
-import os
 import re
 import shlex
 import sys
@@ -71,10 +82,13 @@ from thermonet import comfort
 from thermonet.errors import (
     ModelFileError,
     NetworkError,
+    OutputFolderError,
     ScheduleError,
     ThermonetError,
+    TimeZoneError,
     WeatherError,
 )
+from thermonet.io.files import OutputFolder
 from thermonet.io.models import read_model
 from thermonet.io.provenance import PROVENANCE_FILE, provenance_record, write_provenance
 
@@ -85,6 +99,7 @@ __all__ = [
     "EXIT_MODEL",
     "EXIT_WEATHER",
     "EXIT_SIMULATION",
+    "EXIT_INTERRUPTED",
     "add_batch_commands",
     "run_command",
     "check_command",
@@ -104,6 +119,8 @@ EXIT_USAGE = 2
 EXIT_MODEL = 3
 EXIT_WEATHER = 4
 EXIT_SIMULATION = 5
+#: Exit code after Ctrl-C (128 + SIGINT, the shell's convention).
+EXIT_INTERRUPTED = 130
 
 EXIT_HELP = """exit codes:
   0  success
@@ -112,6 +129,7 @@ EXIT_HELP = """exit codes:
   3  invalid model file (or a network the compiler refuses)
   4  invalid weather (or weather that does not fit the model's schedules)
   5  simulation failed
+  130 interrupted (Ctrl-C); the --out folder is left as it was
 """
 
 #: Comfort thresholds [°C]: hours above 25/26/28 °C (25 °C: very-low-energy overheating
@@ -234,7 +252,9 @@ def add_batch_commands(subparsers) -> None:
                      help="solver (default auto)")
     _site_options(run)
     run.add_argument("--overwrite", action="store_true",
-                     help="write into DIR even if it holds results of an earlier run")
+                     help="replace DIR as a whole when it holds files already (an earlier "
+                          "run's tables in every format, or files named like them); a DIR "
+                          "holding other files is still refused")
     run.add_argument("-q", "--quiet", action="store_true", help="no progress messages")
     run.add_argument("--progress-every", type=float, default=PROGRESS_EVERY, metavar="SECONDS",
                      help="while simulating or writing, print a 'still ...' line every "
@@ -452,7 +472,7 @@ def _weather_from_args(args, required, say=None) -> pd.DataFrame:
         return weather
     except OSError as exc:
         raise _Fail(EXIT_USAGE, f"cannot read weather file: {exc}") from exc
-    except SiteMissingError as exc:
+    except (SiteMissingError, TimeZoneError) as exc:
         raise _Fail(EXIT_USAGE, str(exc)) from exc
     except (WeatherError, ScheduleError) as exc:
         raise _Fail(EXIT_WEATHER, str(exc)) from exc
@@ -716,26 +736,17 @@ def _tables(res, net) -> dict[str, pd.DataFrame]:
     return tables
 
 
-def _write_atomic(path: Path, writer) -> None:
-    tmp = path.with_name(f".{path.name}.tmp")
-    try:
-        writer(tmp)
-        os.replace(tmp, path)
-    finally:
-        if tmp.exists():
-            tmp.unlink()
-
-
-def _write_tables(tables: dict, out: Path, fmt: str) -> list[Path]:
+def _write_tables(tables: dict, folder: Path, fmt: str) -> list[Path]:
+    """Write every table into ``folder`` (the private staging folder of the run)."""
     written = []
     for name, df in tables.items():
         if fmt in ("csv", "both"):
-            p = out / f"{name}.csv"
-            _write_atomic(p, lambda t, df=df: df.to_csv(t))
+            p = folder / f"{name}.csv"
+            df.to_csv(p)
             written.append(p)
         if fmt in ("parquet", "both"):
-            p = out / f"{name}.parquet"
-            _write_atomic(p, lambda t, df=df: df.to_parquet(t))
+            p = folder / f"{name}.parquet"
+            df.to_parquet(p)
             written.append(p)
     return written
 
@@ -758,89 +769,139 @@ def _command_line(args) -> list[str]:
     return cmd
 
 
-def run_command(args) -> int:
-    """Handler of ``thermonet run``: simulate a model file, write the results folder."""
+def _check_options(args, say) -> pd.Timedelta | None:
+    """Options of ``run`` that need no file: format, progress, warm-up, step."""
+    if args.format in ("parquet", "both") and not _have_pyarrow():
+        raise _Fail(EXIT_USAGE, f"--format {args.format} needs pyarrow, which is not "
+                    "installed; use --format csv or install pyarrow")
+    if not (math.isfinite(say.every) and say.every >= 0):
+        raise _Fail(EXIT_USAGE, f"--progress-every must be a finite number ≥ 0 [s], got "
+                    f"{say.every}")
+    if not (math.isfinite(args.warmup_days) and args.warmup_days >= 0):
+        raise _Fail(EXIT_USAGE, f"--warmup-days must be a finite number ≥ 0 [days], got "
+                    f"{args.warmup_days}")
+    _check_tz_option(args.tz)
+    if args.step is None:
+        return None
+    try:
+        step = pd.Timedelta(args.step)
+    except (ValueError, TypeError) as exc:
+        raise _Fail(EXIT_USAGE, f"--step {args.step!r} is not a duration (e.g. 15min, "
+                    "1h)") from exc
+    if step <= pd.Timedelta(0):
+        raise _Fail(EXIT_USAGE, f"--step must be positive, got {args.step!r}")
+    return step
+
+
+def _check_tz_option(tz) -> None:
+    from thermonet.weather import check_zone
+
+    if tz is None:
+        return
+    try:
+        check_zone(tz, "--tz")
+    except TimeZoneError as exc:
+        raise _Fail(EXIT_USAGE, str(exc)) from exc
+
+
+def _prepare(args, say, step):
+    """Read the model and the weather and compile once: (ModelFile, weather frame)."""
+    say(f"reading model {args.model}")
+    mf = _model_from_args(args)
+    net = mf.network
+    say(f"model: {net!r}")
+    say(f"reading weather {args.weather}")
+    weather = _weather_from_args(args, mf.weather_columns, say)
+    wstep = weather.index[1] - weather.index[0]
+    if step is not None:
+        ratio = wstep / step
+        if step > wstep or abs(ratio - round(ratio)) > 1e-9:
+            raise _Fail(EXIT_USAGE, f"--step {args.step} must divide the weather's step "
+                        f"{wstep} evenly and not exceed it")
+    try:
+        _compile(net, weather, step)
+    except NetworkError as exc:
+        raise _Fail(EXIT_MODEL, str(exc)) from exc
+    except (WeatherError, ScheduleError) as exc:
+        raise _Fail(EXIT_WEATHER, str(exc)) from exc
+    return mf, weather
+
+
+def _simulate(args, say, net, weather, step):
     from thermonet.engine.simulate import simulate
 
+    say(f"simulating {len(weather)} weather rows "
+        f"({weather.index[0]} … {weather.index[-1]}) for {len(net.nodes)} nodes, "
+        f"warm-up {args.warmup_days:g} days, method {args.method}")
+    try:
+        with say.busy("simulating"):
+            res = simulate(net, weather, step=step, method=args.method,
+                           warmup_days=args.warmup_days)
+            tables = _tables(res, net)
+    except Exception as exc:  # any solver failure is reported with its type
+        raise _Fail(EXIT_SIMULATION, f"{type(exc).__name__}: {exc}") from exc
+    return res, tables
+
+
+def _write_outputs(args, folder: OutputFolder, mf, weather, res, tables, step) -> list[Path]:
+    """Tables and provenance into the staging folder, then swap it in for ``--out``."""
+    written = _write_tables(tables, folder.staging, args.format)
+    settings = {"step": None if step is None else step.isoformat(),
+                "warmup_days": args.warmup_days, "method": args.method,
+                "label": args.label, "format": args.format,
+                "closure_check": not args.no_closure_check}
+    rec = provenance_record(
+        model=mf.path, weather=args.weather, weather_frame=weather, info=res.info,
+        settings=settings, command=_command_line(args), outputs=written,
+        extra={"argv": " ".join(shlex.quote(a) for a in sys.argv),
+               "model_schema_version": mf.schema_version,
+               "tables": {k: {"description": d, "unit": u}
+                          for k, (d, u) in OUTPUT_TABLES.items()}})
+    for entry in rec["outputs"]:  # name the files where they will be, not the staging copy
+        entry["path"] = str(folder.target / Path(entry["path"]).name)
+    write_provenance(folder.staging, rec)
+    folder.commit()
+    return [folder.target / p.name for p in written]
+
+
+def run_command(args) -> int:
+    """Handler of ``thermonet run``: simulate a model file, write the results folder.
+
+    The results are written into a staging folder beside ``--out`` and swapped in as one
+    unit at the end (:class:`thermonet.io.files.OutputFolder`): an interrupted or failed
+    run leaves ``--out`` as it was. Ctrl-C exits with 130 and removes the staging folder.
+    """
     say = _Progress("run", getattr(args, "quiet", False),
                     getattr(args, "progress_every", PROGRESS_EVERY))
+    out = Path(args.out)
+    owned = {f"{t}.{ext}" for t in OUTPUT_TABLES for ext in ("csv", "parquet")}
+    folder = OutputFolder(out, overwrite=args.overwrite, owned=owned | {PROVENANCE_FILE})
     try:
-        out = Path(args.out)
-        if out.exists() and not out.is_dir():
-            raise _Fail(EXIT_USAGE, f"--out {out} exists and is not a folder")
-        if (out / PROVENANCE_FILE).exists() and not args.overwrite:
-            raise _Fail(EXIT_USAGE, f"--out {out} holds the results of an earlier run "
-                        f"({PROVENANCE_FILE}); choose another folder or pass --overwrite")
-        if args.format in ("parquet", "both") and not _have_pyarrow():
-            raise _Fail(EXIT_USAGE, f"--format {args.format} needs pyarrow, which is not "
-                        "installed; use --format csv or install pyarrow")
-        if not (math.isfinite(say.every) and say.every >= 0):
-            raise _Fail(EXIT_USAGE, f"--progress-every must be a finite number ≥ 0 [s], got "
-                        f"{say.every}")
-        if not (math.isfinite(args.warmup_days) and args.warmup_days >= 0):
-            raise _Fail(EXIT_USAGE, f"--warmup-days must be a finite number ≥ 0 [days], got "
-                        f"{args.warmup_days}")
-        step = None
-        if args.step is not None:
-            try:
-                step = pd.Timedelta(args.step)
-            except (ValueError, TypeError) as exc:
-                raise _Fail(EXIT_USAGE, f"--step {args.step!r} is not a duration (e.g. 15min, "
-                            "1h)") from exc
-            if step <= pd.Timedelta(0):
-                raise _Fail(EXIT_USAGE, f"--step must be positive, got {args.step!r}")
-        say(f"reading model {args.model}")
-        mf = _model_from_args(args)
-        net = mf.network
-        say(f"model: {net!r}")
-        say(f"reading weather {args.weather}")
-        weather = _weather_from_args(args, mf.weather_columns, say)
-        wstep = weather.index[1] - weather.index[0]
-        if step is not None:
-            ratio = wstep / step
-            if step > wstep or abs(ratio - round(ratio)) > 1e-9:
-                raise _Fail(EXIT_USAGE, f"--step {args.step} must divide the weather's step "
-                            f"{wstep} evenly and not exceed it")
         try:
-            _compile(net, weather, step)
-        except NetworkError as exc:
-            raise _Fail(EXIT_MODEL, str(exc)) from exc
-        except (WeatherError, ScheduleError) as exc:
-            raise _Fail(EXIT_WEATHER, str(exc)) from exc
-        try:
-            out.mkdir(parents=True, exist_ok=True)
+            folder.check()
+            step = _check_options(args, say)
+            mf, weather = _prepare(args, say, step)
+            with folder:
+                res, tables = _simulate(args, say, mf.network, weather, step)
+                say(f"solved: {res!r}; writing {args.format} to {out}")
+                try:
+                    with say.busy("writing"):
+                        written = _write_outputs(args, folder, mf, weather, res, tables, step)
+                except (OSError, ThermonetError, ValueError) as exc:
+                    print(f"thermonet run: error: could not write the outputs to {out} "
+                          f"({type(exc).__name__}: {exc}); {out} is left as it was and the "
+                          "partial files were removed", file=sys.stderr)
+                    return EXIT_ERROR
+        except OutputFolderError as exc:
+            raise _Fail(EXIT_USAGE, str(exc)) from exc
         except OSError as exc:
-            raise _Fail(EXIT_USAGE, f"cannot create --out {out}: {exc}") from exc
-        say(f"simulating {len(weather)} weather rows "
-            f"({weather.index[0]} … {weather.index[-1]}) for {len(net.nodes)} nodes, "
-            f"warm-up {args.warmup_days:g} days, method {args.method}")
-        try:
-            with say.busy("simulating"):
-                res = simulate(net, weather, step=step, method=args.method,
-                               warmup_days=args.warmup_days)
-                tables = _tables(res, net)
-        except Exception as exc:  # any solver failure is reported with its type
-            raise _Fail(EXIT_SIMULATION, f"{type(exc).__name__}: {exc}") from exc
-        say(f"solved: {res!r}; writing {args.format} to {out}")
+            raise _Fail(EXIT_USAGE, f"cannot use --out {out}: {exc}") from exc
     except _Fail as fail:
         return _error("run", fail)
-    try:
-        with say.busy("writing"):
-            written = _write_tables(tables, out, args.format)
-        settings = {"step": None if step is None else step.isoformat(),
-                    "warmup_days": args.warmup_days, "method": args.method,
-                    "label": args.label, "format": args.format,
-                    "closure_check": not args.no_closure_check}
-        rec = provenance_record(
-            model=mf.path, weather=args.weather, weather_frame=weather, info=res.info,
-            settings=settings, command=_command_line(args), outputs=written,
-            extra={"argv": " ".join(shlex.quote(a) for a in sys.argv),
-                   "model_schema_version": mf.schema_version,
-                   "tables": {k: {"description": d, "unit": u}
-                              for k, (d, u) in OUTPUT_TABLES.items()}})
-        write_provenance(out, rec)
-    except (OSError, ThermonetError, ValueError) as exc:
-        print(f"thermonet run: error: could not write the outputs: {exc}", file=sys.stderr)
-        return EXIT_ERROR
+    except KeyboardInterrupt:
+        folder.release()
+        print(f"thermonet run: interrupted; {out} is left as it was and the temporary files "
+              "were removed", file=sys.stderr, flush=True)
+        return EXIT_INTERRUPTED
     say(f"done: {len(written)} tables and {PROVENANCE_FILE} in {out}")
     return EXIT_OK

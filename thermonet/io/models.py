@@ -55,7 +55,9 @@ series once).
 ``{"signal": schedule key, "name": str?}`` (a :class:`thermonet.Signal`).
 
 Numbers are JSON numbers; ``NaN``/``Infinity`` are not JSON and are refused; unlimited
-thermostat capacity is written ``"inf"``.
+thermostat capacity is written ``"inf"``. A number too small for a double (``1e-400``, which
+would read as 0) or a denormal one (below 2.2e-308) is refused with its key named, and files
+above :data:`MAX_MODEL_BYTES` are refused before they are read.
 
 Errors
 ------
@@ -73,8 +75,7 @@ from __future__ import annotations
 import hashlib
 import json
 import math
-import os
-import tempfile
+import sys
 from dataclasses import dataclass, field
 from functools import reduce
 from pathlib import Path
@@ -84,10 +85,12 @@ import pandas as pd
 
 from thermonet.controls import Condition, HourWindow, Signal, above, below, colder, hours, warmer
 from thermonet.errors import ModelFileError
+from thermonet.io.files import write_file_atomic
 from thermonet.network import Network, radiation_conductance
 
 __all__ = [
     "FORMAT",
+    "MAX_MODEL_BYTES",
     "SCHEMA_VERSION",
     "ModelFile",
     "to_dict",
@@ -99,6 +102,12 @@ __all__ = [
     "read_model",
     "required_weather_columns",
 ]
+
+#: Largest model file read [bytes] (64 MiB). A file of a year-long hourly schedule per
+#: element for thousands of elements stays well below; beyond it, parsing takes minutes
+#: and gigabytes of memory (a 100 MB file: ~74 s and +1.2 GB, measured).
+MAX_MODEL_BYTES = 64 * 1024 * 1024
+
 
 #: Value of the top-level ``"format"`` key.
 FORMAT = "thermonet-model"
@@ -199,6 +208,14 @@ class _Reader:
             v = math.inf
         if not math.isfinite(v):  # 1e999 in JSON, or inf/NaN through from_dict
             raise self.err(where, f"must be finite, got {v}")
+        if isinstance(x, Underflow):
+            raise self.err(where, f"{x.text} is too small for a double-precision number "
+                           f"(it would be read as 0); write 0 if that is meant, otherwise a "
+                           f"value of magnitude ≥ {sys.float_info.min:.3g}")
+        if v != 0.0 and abs(v) < sys.float_info.min:
+            raise self.err(where, f"{v!r} is a denormal number (below "
+                           f"{sys.float_info.min:.3g}, stored with reduced precision); write "
+                           "0 if that is meant, otherwise a value of sensible magnitude")
         return v
 
     def opt_number(self, d: dict, key: str, where: str, default=None, **kw):
@@ -608,6 +625,10 @@ def dumps(net: Network, *, weather_columns=None) -> str:
 def save_model(net: Network, path, *, weather_columns=None) -> Path:
     """Write a network to a model file (JSON, UTF-8), atomically.
 
+    The text goes to a uniquely named temporary file that is flushed to disk and renamed
+    over ``path`` (:func:`thermonet.io.files.write_file_atomic`); the file gets the
+    permissions the umask gives a new file.
+
     Parameters
     ----------
     net : Network
@@ -628,16 +649,7 @@ def save_model(net: Network, path, *, weather_columns=None) -> Path:
     """
     path = Path(path)
     text = dumps(net, weather_columns=weather_columns)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent or ".")
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as fh:
-            fh.write(text)
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
-    return path
+    return write_file_atomic(path, text)
 
 
 # ============================================================================= decoding
@@ -660,16 +672,45 @@ def _no_constants(r: _Reader):
     return hook
 
 
-def loads(text: str, *, source: str = "model text") -> Network:
-    """Read a network from model-file JSON text (see :func:`from_dict`)."""
-    return _read_text(text, source)[0]
+def loads(text: str, *, source: str = "model text",
+          max_bytes: float = MAX_MODEL_BYTES) -> Network:
+    """Read a network from model-file JSON text (see :func:`from_dict`).
+
+    ``max_bytes`` [characters] refuses longer texts (:data:`MAX_MODEL_BYTES`).
+    """
+    return _read_text(text, source, max_bytes)[0]
 
 
-def _read_text(text: str, source: str):
+class Underflow(float):
+    """A JSON number whose text is not zero but that reads as 0.0 (e.g. ``1e-400``)."""
+
+    text: str = ""
+
+
+def _parse_float(text: str) -> float:
+    v = float(text)
+    if v == 0.0 and any(c in "123456789" for c in text.lower().split("e")[0]):
+        out = Underflow(0.0)
+        out.text = text
+        return out
+    return v
+
+
+def _check_size(nbytes: int, limit: float, source: str) -> None:
+    if nbytes > limit:
+        raise ModelFileError(
+            f"{source}: file: {nbytes} bytes ({nbytes / 2**20:.1f} MiB) is above the "
+            f"model-file limit of {limit:.0f} bytes ({limit / 2**20:.1f} MiB); keep long "
+            "time series out of the model (pass them as weather columns), or raise the limit "
+            "with max_bytes= if the file is genuine")
+
+
+def _read_text(text: str, source: str, max_bytes: float = MAX_MODEL_BYTES):
     r = _Reader(source)
+    _check_size(len(text), max_bytes, source)
     try:
         data = json.loads(text, object_pairs_hook=_no_duplicates(r),
-                          parse_constant=_no_constants(r))
+                          parse_constant=_no_constants(r), parse_float=_parse_float)
     except json.JSONDecodeError as exc:
         raise r.err("JSON", f"not valid JSON: {exc.msg} at line {exc.lineno} column "
                     f"{exc.colno}") from exc
@@ -1010,12 +1051,14 @@ class ModelFile:
     path: Path | None = None
 
 
-def read_model(path) -> ModelFile:
+def read_model(path, *, max_bytes: float = MAX_MODEL_BYTES) -> ModelFile:
     """Read a model file with its weather columns and checksum.
 
     Parameters
     ----------
     path : str or os.PathLike
+    max_bytes : float, default :data:`MAX_MODEL_BYTES` (64 MiB)
+        Larger files are refused before they are read [bytes].
 
     Returns
     -------
@@ -1029,17 +1072,18 @@ def read_model(path) -> ModelFile:
         If its content is invalid (see the module docstring).
     """
     path = Path(path)
-    raw = path.read_bytes()
     r = _Reader(f"model file {str(path)!r}")
+    _check_size(path.stat().st_size, max_bytes, r.source)
+    raw = path.read_bytes()
     try:
         text = raw.decode("utf-8-sig")
     except UnicodeDecodeError as exc:
         raise r.err("file", f"is not UTF-8 text ({exc})") from exc
-    net, cols, version = _read_text(text, r.source)
+    net, cols, version = _read_text(text, r.source, max_bytes)
     return ModelFile(net, cols, version, hashlib.sha256(raw).hexdigest(), path)
 
 
-def load_model(path) -> Network:
+def load_model(path, *, max_bytes: float = MAX_MODEL_BYTES) -> Network:
     """Read a network from a model file written by :func:`save_model` (or by hand).
 
     Parameters
@@ -1057,4 +1101,4 @@ def load_model(path) -> Network:
     ModelFileError
         If its content is invalid (see the module docstring).
     """
-    return read_model(path).network
+    return read_model(path, max_bytes=max_bytes).network

@@ -23,13 +23,14 @@ import math
 import os
 import platform
 import sys
-import tempfile
 from collections.abc import Mapping, Sequence
 from importlib import metadata
 from pathlib import Path
 
 import numpy as np
 import pandas as pd
+
+from thermonet.io.files import PROVENANCE_RECORD, write_file_atomic
 
 __all__ = [
     "PROVENANCE_FILE",
@@ -156,7 +157,7 @@ def provenance_record(*, model=None, weather=None, weather_frame: pd.DataFrame |
         Plain JSON data.
     """
     rec: dict = {
-        "record": "thermonet-provenance",
+        "record": PROVENANCE_RECORD,
         "created_utc": _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"),
         "command": list(command) if command is not None else list(sys.argv),
         "cwd": os.getcwd(),
@@ -192,7 +193,8 @@ def provenance_record(*, model=None, weather=None, weather_frame: pd.DataFrame |
 
 
 def write_provenance(folder, record: Mapping, *, name: str = PROVENANCE_FILE) -> Path:
-    """Write a record as ``folder/provenance.json`` (atomically: temp file, then rename).
+    """Write a record as ``folder/provenance.json`` atomically (:func:`write_file_atomic`:
+    unique temporary file, fsync, rename; permissions from the umask).
 
     Returns
     -------
@@ -202,16 +204,7 @@ def write_provenance(folder, record: Mapping, *, name: str = PROVENANCE_FILE) ->
     folder = Path(folder)
     target = folder / name
     text = json.dumps(jsonable(record), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
-    fd, tmp = tempfile.mkstemp(prefix=f".{name}.", suffix=".tmp", dir=folder)
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as fh:
-            fh.write(text)
-        os.replace(tmp, target)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
-    return target
+    return write_file_atomic(target, text)
 
 
 def read_provenance(folder) -> dict:

@@ -118,6 +118,7 @@ import pandas as pd
 
 from thermonet.engine.batch import DEFAULT_MAX_BYTES, run_batch
 from thermonet.errors import StudyError, StudyWarning
+from thermonet.io.files import pid_alive, write_file_atomic
 
 __all__ = [
     "run_variants",
@@ -428,7 +429,7 @@ class _PartStore:
         self.dir.mkdir(parents=True, exist_ok=True)
         meta = self.dir / _STUDY_FILE
         if meta.exists():
-            old = json.loads(meta.read_text())
+            old = read_study_file(meta)
             if old.get("format") != _FORMAT:
                 raise StudyError(f"out={str(folder)!r} was written by another format "
                                  f"({old.get('format')!r}); use a new folder")
@@ -438,35 +439,99 @@ class _PartStore:
                     f"out={str(folder)!r} holds results of a different study (it differs in: "
                     f"{', '.join(diff)}); pass a new out= folder or delete this one")
         else:
-            tmp = meta.with_suffix(".tmp")
-            tmp.write_text(json.dumps({"format": _FORMAT, "study": fingerprint}, indent=1))
-            os.replace(tmp, meta)
+            try:
+                write_file_atomic(meta, json.dumps({"format": _FORMAT, "study": fingerprint},
+                                                   indent=1))
+            except OSError as exc:
+                raise StudyError(f"out={str(folder)!r}: cannot write {_STUDY_FILE} "
+                                 f"({exc}); give a writable folder with free space") from exc
         self.seq = 0
+        self.remove_dead_temporaries()
+
+    def remove_dead_temporaries(self) -> None:
+        """Delete temporary part files left by writers that were killed (their pid is gone).
+
+        A temporary is named ``.part-<ns>-<pid>-<seq>.parquet.<random>.tmp``; a live
+        process's temporaries (another study writing here) are left alone.
+        """
+        for p in self.dir.glob(".part-*.tmp"):
+            fields = p.name.split("-")
+            try:
+                pid = int(fields[2])
+            except (IndexError, ValueError):
+                continue
+            if not pid_alive(pid):
+                p.unlink(missing_ok=True)
 
     def parts(self) -> list[Path]:
         return sorted(self.dir.glob("part-*.parquet"))
 
     def load(self) -> pd.DataFrame | None:
         """Every stored row, the last record of each key winning."""
-        frames = [pd.read_parquet(p) for p in self.parts()]
+        frames = [read_part(p) for p in self.parts()]
         if not frames:
             return None
         df = pd.concat(frames, axis=0, sort=False)
         return df.drop_duplicates(subset=_KEY, keep="last")
 
     def write(self, table: pd.DataFrame):
+        """Store one finished chunk as a part file (atomic: unique temporary, fsync, rename).
+
+        Raises
+        ------
+        StudyError
+            The table cannot be stored as Parquet (mixed column types), or the disk is
+            full / the folder not writable (OSError): the temporary file is removed and the
+            parts written before stay.
+        """
         self.seq += 1
         name = f"part-{time.time_ns():020d}-{os.getpid()}-{self.seq:05d}.parquet"
-        tmp = self.dir / (name + ".tmp")
         try:
-            table.to_parquet(tmp, index=True)
+            write_file_atomic(self.dir / name, lambda tmp: table.to_parquet(tmp, index=True))
+        except OSError as exc:
+            raise StudyError(
+                f"out={str(self.dir)!r}: part {name} could not be written ({exc}); the parts "
+                "written before are kept: free space (or fix the folder) and call the study "
+                "again with the same out= to run only the missing variants") from exc
         except (TypeError, ValueError, ImportError) as exc:   # pyarrow's errors derive from them
-            tmp.unlink(missing_ok=True)
             raise StudyError(
                 f"out={str(self.dir)!r}: the results could not be written as Parquet ({exc}); "
                 "give each parameter column one type (all numbers, or all strings) and "
                 "string or integer row labels") from exc
-        os.replace(tmp, self.dir / name)
+
+
+def read_study_file(path) -> dict:
+    """The ``study.json`` of a study folder, or a :class:`StudyError` naming what is wrong."""
+    path = Path(path)
+    try:
+        data = json.loads(path.read_text(encoding="utf-8"))
+    except (OSError, UnicodeDecodeError, ValueError) as exc:
+        raise StudyError(
+            f"{path} cannot be read ({type(exc).__name__}: {exc}); the study folder "
+            f"{str(path.parent)!r} is damaged (e.g. a run killed while creating it): move it "
+            "away or delete it and run the study again with out= pointing to a new "
+            "folder") from exc
+    if not isinstance(data, dict):
+        raise StudyError(f"{path} is not a study file (a JSON object with 'format' and "
+                         "'study'); move the folder away and run the study again")
+    return data
+
+
+def read_part(path) -> pd.DataFrame:
+    """One part file of a study folder, or a :class:`StudyError` naming the part.
+
+    A part that cannot be read (empty, truncated, not Parquet) is named with the fix:
+    delete it and run the study again with the same ``out=``, which reruns only the
+    variants of that part.
+    """
+    path = Path(path)
+    try:
+        return pd.read_parquet(path)
+    except (OSError, ValueError, TypeError, ImportError) as exc:  # pyarrow errors derive
+        raise StudyError(
+            f"study part {path.name} in {str(path.parent)!r} is unreadable "
+            f"({type(exc).__name__}: {exc}); delete that file and call the study again "
+            "with the same out= to rerun its variants (the other parts are kept)") from exc
 
 
 def read_study(out) -> pd.DataFrame:
@@ -487,7 +552,8 @@ def read_study(out) -> pd.DataFrame:
     if not (folder / _STUDY_FILE).exists():
         raise StudyError(f"{str(out)!r} is not a study folder (no {_STUDY_FILE}); give the "
                          "folder passed as out=")
-    frames = [pd.read_parquet(p) for p in sorted(folder.glob("part-*.parquet"))]
+    read_study_file(folder / _STUDY_FILE)
+    frames = [read_part(p) for p in sorted(folder.glob("part-*.parquet"))]
     if not frames:
         return pd.DataFrame(columns=[ERROR])
     df = pd.concat(frames, axis=0, sort=False).drop_duplicates(subset=_KEY, keep="last")
@@ -599,8 +665,11 @@ def run_variants(build, params: pd.DataFrame, weather: pd.DataFrame | None = Non
     Raises
     ------
     StudyError
-        Bad parameter table, unknown output names, a different study in ``out``, or (with
-        ``errors="raise"``) the first failed variant.
+        Bad parameter table, unknown output names, a different study in ``out``, an
+        unreadable part or ``study.json`` in ``out`` (named, with the fix), or (with
+        ``errors="raise"``) the first failed variant. When a part cannot be written (disk
+        full), the parts written before stay in ``out`` and the rows finished in this call
+        are attached to the error as ``exc.finished`` (a DataFrame).
     """
     _check_build(build)
     params = _check_params(params)
@@ -657,7 +726,12 @@ def run_variants(build, params: pd.DataFrame, weather: pd.DataFrame | None = Non
             if store is not None and persist:
                 part = params.iloc[pos].join(res)
                 part[_KEY] = keys[pos]
-                store.write(part)
+                try:
+                    store.write(part)
+                except StudyError as exc:  # disk full: keep what finished in memory too
+                    got = pd.concat([*results, res], axis=0, sort=False)
+                    exc.finished = params.loc[got.index].join(got)
+                    raise
             results.append(res)
             bar.update(len(pos))
     finally:
