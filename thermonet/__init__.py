@@ -4,7 +4,8 @@
 :class:`Results`, the switch conditions) and every public submodule: the physics modules
 (``tn.weather``, ``tn.solar``, ``tn.constructions``, ``tn.gains``, ``tn.comfort``), the model
 (``tn.network``, ``tn.schedules``, ``tn.controls``), the engine (``tn.engine``), and what is
-composed on top (``tn.results``, ``tn.builders``, ``tn.studies``, ``tn.plots``, ``tn.io``).
+composed on top (``tn.results``, ``tn.periods``, ``tn.builders``, ``tn.studies``, ``tn.plots``,
+``tn.display``, ``tn.io``).
 """
 
 __version__ = "0.1.0"
@@ -25,9 +26,9 @@ from thermonet.results import Results  # noqa: E402
 
 #: Public submodules, imported on first attribute access (``tn.builders``) so that
 #: ``import thermonet`` stays quick; ``import thermonet.builders`` works as usual.
-SUBMODULES = ("builders", "comfort", "constants", "constructions", "controls", "engine",
-              "errors", "gains", "io", "network", "plots", "results", "schedules", "solar",
-              "studies", "weather")
+SUBMODULES = ("builders", "comfort", "constants", "constructions", "controls", "display",
+              "engine", "errors", "gains", "io", "network", "periods", "plots", "results",
+              "schedules", "solar", "studies", "weather")
 
 
 def __getattr__(name):
@@ -55,12 +56,14 @@ __all__ = [
     "constants",
     "constructions",
     "controls",
+    "display",
     "engine",
     "errors",
     "gains",
     "hours",
     "io",
     "network",
+    "periods",
     "plots",
     "radiation_conductance",
     "results",

@@ -37,6 +37,8 @@ Functions
 ---------
 :func:`operative_temperature`, :func:`mean_radiant_temperature`
     the temperatures comfort is judged on (ISO 7726, ISO 52016-1, EN 16798-1).
+:func:`room_operative_temperature`, :func:`room_mean_radiant_temperature`
+    the same for a room built by :func:`thermonet.builders.add_room`, from a simulation.
 :func:`hours_above`, :func:`degree_hours_above`, :func:`overheating_frequency`,
 :func:`very_low_energy_overheating`
     fixed-threshold counts; the 25 °C / 10 % overheating frequency of very-low-energy houses.
@@ -94,6 +96,8 @@ __all__ = [
     "mean_radiant_temperature",
     "operative_temperature",
     "overheating_frequency",
+    "room_mean_radiant_temperature",
+    "room_operative_temperature",
     "running_mean_outdoor",
     "tm52",
     "tm59",
@@ -675,6 +679,136 @@ def mean_radiant_temperature(surface_temps: pd.DataFrame, areas: Mapping[str, fl
     return pd.Series(t @ a / a.sum(), index=surface_temps.index, name="mean_radiant")
 
 
+def _room_fields(room: object) -> tuple[str, dict, dict]:
+    """Air node, surface nodes and areas of a room record (a builders ``Room``)."""
+    try:
+        air, surfaces, areas = room.air, dict(room.surfaces), dict(room.areas)
+    except AttributeError:
+        raise TypeError(
+            f"room must be a room record of thermonet.builders (what add_room returns, or "
+            f"thermonet.builders.rooms(net)[name]), got {type(room).__name__}"
+        ) from None
+    if not surfaces:
+        raise ValueError(
+            f"room {getattr(room, 'name', air)!r} has no inside surfaces in its record; the mean "
+            "radiant temperature needs the elements built by add_room"
+        )
+    return air, surfaces, areas
+
+
+def _room_table(results: object, mean: bool) -> pd.DataFrame:
+    attr = "mean_temperatures" if mean else "temperatures"
+    try:
+        return getattr(results, attr)
+    except AttributeError:
+        raise TypeError(
+            f"results must be what thermonet.simulate returned (with .{attr}), got "
+            f"{type(results).__name__}"
+        ) from None
+
+
+def room_mean_radiant_temperature(results: object, room: object, *, mean: bool = True
+                                  ) -> pd.Series:
+    """Mean radiant temperature of a room built by :func:`thermonet.builders.add_room`.
+
+    The area-weighted mean of the inside surface temperatures of the room's elements, windows
+    and doors (:func:`mean_radiant_temperature` on the nodes of ``room.surfaces`` with the
+    areas of ``room.areas``).
+
+    Parameters
+    ----------
+    results : thermonet.Results
+        What :func:`thermonet.simulate` returned for the network holding the room.
+    room : thermonet.builders.Room
+        The room record (returned by ``add_room`` or found again with
+        :func:`thermonet.builders.rooms`, also after loading a model file).
+    mean : bool, default True
+        True: step means [°C] (:attr:`~thermonet.Results.mean_temperatures`, the
+        temperatures the energy balance uses); False: values at the end of each step [°C].
+
+    Returns
+    -------
+    pandas.Series
+        θ_mr [°C] on the result index, named ``"mean_radiant"``; ``attrs["unit"]`` is "°C".
+
+    Raises
+    ------
+    TypeError
+        ``results`` is not a simulation result or ``room`` not a room record.
+    ValueError
+        The record has no surfaces, or a surface node is not in the results (a stale record).
+
+    Notes
+    -----
+    See :func:`mean_radiant_temperature` for the area-weighting simplification and its limits.
+
+    References
+    ----------
+    ISO 52016-1:2017, mean radiant temperature of a zone from its internal surface
+    temperatures (from memory); ISO 7726:1998 for the exact definition (see
+    ``docs/references.md``).
+    """
+    air, surfaces, areas = _room_fields(room)
+    table = _room_table(results, mean)
+    missing = [n for n in surfaces.values() if n not in table.columns]
+    if missing:
+        raise ValueError(
+            f"the results have no temperature for surface node(s) {missing[:4]} of room "
+            f"{getattr(room, 'name', air)!r}; simulate the network the room was built in"
+        )
+    surf = table[list(surfaces.values())].set_axis(list(surfaces), axis=1)
+    out = mean_radiant_temperature(surf, {k: areas[k] for k in surfaces})
+    out.attrs["unit"] = "°C"
+    return out
+
+
+def room_operative_temperature(results: object, room: object, *, weight_air: float = 0.5,
+                               mean: bool = True) -> pd.Series:
+    """Operative temperature of a room built by :func:`thermonet.builders.add_room`.
+
+    θ_op = A·θ_air + (1 − A)·θ_mr with θ_air the room's air node and θ_mr from
+    :func:`room_mean_radiant_temperature`.
+
+    Parameters
+    ----------
+    results : thermonet.Results
+        What :func:`thermonet.simulate` returned for the network holding the room.
+    room : thermonet.builders.Room
+        The room record (from ``add_room`` or :func:`thermonet.builders.rooms`).
+    weight_air : float, default 0.5
+        Weight A of the air temperature [–], 0 … 1 (0.5 for air speeds below 0.2 m/s, see
+        :func:`operative_temperature`).
+    mean : bool, default True
+        True: step means [°C]; False: values at the end of each step [°C].
+
+    Returns
+    -------
+    pandas.Series
+        θ_op [°C] on the result index, named ``"operative"``; ``attrs["unit"]`` is "°C".
+
+    Raises
+    ------
+    TypeError, ValueError
+        As :func:`room_mean_radiant_temperature`; ``weight_air`` outside 0 … 1.
+
+    References
+    ----------
+    ISO 7726:1998; EN 16798-1:2019 and ISO 52016-1:2017 for A = 0.5 (from memory; see
+    ``docs/references.md``).
+
+    Examples
+    --------
+    >>> top = room_operative_temperature(res, room)                       # doctest: +SKIP
+    >>> hours_above(top, 26.0)                                            # doctest: +SKIP
+    """
+    air, _, _ = _room_fields(room)
+    mrt = room_mean_radiant_temperature(results, room, mean=mean)
+    out = operative_temperature(_room_table(results, mean)[air], mrt, weight_air=weight_air)
+    out = out.rename("operative")
+    out.attrs["unit"] = "°C"
+    return out
+
+
 # --------------------------------------------------------------------------------------------
 # fixed thresholds
 # --------------------------------------------------------------------------------------------
@@ -704,6 +838,11 @@ class CriterionResult:
     unit: str
     passed: bool
     source: str = ""
+
+    def _repr_html_(self):
+        from thermonet.display import criteria_html  # display reads attributes only
+
+        return criteria_html(self.name, [self], passed=self.passed)
 
 
 def _criterion(name: str, value: float, limit: float, unit: str, source: str) -> CriterionResult:
@@ -1153,6 +1292,14 @@ class AdaptiveAssessment:
         """Share of the assessed occupied hours within the chosen category's limits [–]."""
         return float(self.table.loc[self.category, "share_in_category"])
 
+    def _repr_html_(self):
+        from thermonet.display import table_html
+
+        return (f"<div class='tn-view'><p><strong>EN 16798-1 adaptive assessment</strong>, "
+                f"category {self.category}: {100.0 * self.share_in_category:.1f} % of the "
+                f"assessed occupied hours within the limits. Hours [h], degree-hours [K·h], "
+                f"shares [–] per category:</p>{table_html(self.table)}</div>")
+
 
 def adaptive_assessment(
     t_op: pd.Series,
@@ -1345,6 +1492,14 @@ class TM52Result:
     def table(self) -> pd.DataFrame:
         """The three criteria as a DataFrame (value, limit, unit, passed, source)."""
         return _criteria_table(self.criteria)
+
+    def _repr_html_(self):
+        from thermonet.display import criteria_html
+
+        return criteria_html(f"CIBSE TM52, category {self.category}", self.criteria,
+                             passed=self.passed,
+                             note=f"{self.assessed_hours:g} occupied hours assessed in "
+                                  f"May–September; fails when two or more criteria fail.")
 
 
 _TM52_SOURCE = "CIBSE TM52 (2013), REFERENCES §5.3"
@@ -1545,6 +1700,13 @@ class TM59Result:
     def table(self) -> pd.DataFrame:
         """The criteria as a DataFrame (value, limit, unit, passed, source)."""
         return _criteria_table(self.criteria)
+
+    def _repr_html_(self):
+        from thermonet.display import criteria_html
+
+        return criteria_html(f"CIBSE TM59, {self.room_type}, {self.ventilation} ventilation",
+                             self.criteria, passed=self.passed,
+                             note=f"{self.occupied_hours:g} occupied hours assessed.")
 
 
 _TM59_SOURCE = "CIBSE TM59 (2017), REFERENCES §5.4"
@@ -1761,6 +1923,22 @@ class DemandSummary:
     cooling_peak_date: _dt.date | None = None
     very_low_energy: tuple[CriterionResult, CriterionResult] | None = None
     very_low_energy_passed: bool | None = None
+
+    def _repr_html_(self):
+        from thermonet.display import table_html
+
+        rows = [("heating energy", self.heating_kwh, "kWh"),
+                ("heating per floor area", self.heating_kwh_m2, "kWh/m²"),
+                ("peak heating (step mean)", self.heating_peak_w, "W"),
+                ("peak heating per floor area", self.heating_peak_w_m2, "W/m²")]
+        if self.cooling_kwh is not None:
+            rows += [("cooling energy", self.cooling_kwh, "kWh"),
+                     ("cooling per floor area", self.cooling_kwh_m2, "kWh/m²"),
+                     ("peak cooling (step mean)", self.cooling_peak_w, "W"),
+                     ("peak cooling per floor area", self.cooling_peak_w_m2, "W/m²")]
+        df = pd.DataFrame(rows, columns=["quantity", "value", "unit"]).set_index("quantity")
+        return (f"<div class='tn-view'><p><strong>Demand</strong> over {self.period_hours:g} h, "
+                f"floor area {self.floor_area:g} m²</p>{table_html(df)}</div>")
 
 
 def _energy_and_peak(values: np.ndarray, index: pd.DatetimeIndex, step: pd.Timedelta):

@@ -532,6 +532,12 @@ class Construction:
         """Discretise into an RC chain; see :func:`rc_chain` for the keywords."""
         return rc_chain(self, **kwargs)
 
+    def _repr_html_(self):
+        """Layers with U-value, decrement factor and time shift (a notebook's view)."""
+        from thermonet.display import construction_html  # display reads attributes only
+
+        return construction_html(self)
+
 
 def _as_construction(construction) -> Construction:
     if isinstance(construction, Construction):
@@ -1134,6 +1140,16 @@ class DynamicCharacteristics:
     rsi: float
     rse: float
     matrix: np.ndarray = field(repr=False, compare=False)
+
+    def __str__(self):
+        from thermonet.display import dynamic_characteristics_text
+
+        return dynamic_characteristics_text(self)
+
+    def _repr_html_(self):
+        from thermonet.display import dynamic_characteristics_html
+
+        return dynamic_characteristics_html(self)
 
 
 def dynamic_characteristics(

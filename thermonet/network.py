@@ -618,6 +618,12 @@ class Network:
                 for l in self.links.values()]
         return pd.DataFrame(rows)
 
+    def _repr_html_(self):
+        """Nodes by kind, links by path, totals of C and UA (a notebook's view)."""
+        from thermonet.display import network_html  # display reads attributes only
+
+        return network_html(self)
+
     def __repr__(self):
         return (f"Network({self.name!r}: {len(self.nodes)} nodes, {len(self.boundaries)} "
                 f"boundaries, {len(self.links)} links, {len(self.sources)} sources, "

@@ -9,7 +9,8 @@ a small record (:class:`Room`) naming what it created.
 Heat paths (the ``path`` label of every link and source)
 --------------------------------------------------------
 =================== =====================================================================
-``"opaque"``        walls, roofs, floors and doors to outdoor air and sky
+``"opaque"``        walls, roofs, floors and doors to outdoor air and sky, and the sun
+                    absorbed on their outer faces (sources ``<room>.<element>:solar_absorbed``)
 ``"glazing"``       windows to outdoor air and sky
 ``"ground"``        floors and basement walls into the soil, soil to the deep ground
 ``"buffer"``        heat through elements and airflow between a heated zone and an
@@ -19,7 +20,7 @@ Heat paths (the ``path`` label of every link and source)
 ``"internal"``      links between two nodes of the same zone (convection and radiation
                     between room air, surfaces and the radiant star node, conduction inside
                     elements) and, from :mod:`thermonet.gains`, internal gains
-``"solar"``         transmitted solar gains and solar absorbed on exterior surfaces
+``"solar"``         solar gains transmitted by windows
 ``"infiltration"``, ``"ventilation"``, ``"window_ventilation"``  airflows
 =================== =====================================================================
 
@@ -1326,7 +1327,11 @@ def add_room(net: Network, name: str, *, floor_area: float, height: float,
                     direction).rse)
                 if weather is not None and elem.solar_absorptance > 0:
                     q = irradiance(tilt, az) * (float(elem.solar_absorptance) * a_op)
-                    rec.sources.append(net.add_source(se, power=q.rename(None), path="solar",
+                    # booked under the element's own path ("opaque"): the control volume
+                    # of the room holds the outer face, so the sun absorbed there and the
+                    # heat it returns to outdoor air and sky net out in one path, and
+                    # "solar" stays the gain through the windows
+                    rec.sources.append(net.add_source(se, power=q.rename(None), path=path,
                                                       name=f"{base}:solar_absorbed"))
             elif kind == "zone":
                 _film_to_zone(net, rec, se, other, direction, a_op, path, base)
