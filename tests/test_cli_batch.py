@@ -21,9 +21,9 @@ import pandas as pd
 import pytest
 
 import thermonet as tn
-from thermonet.io import models as io
 from thermonet.cli import run as cli_batch
 from thermonet.errors import SolverError
+from thermonet.io import models as io
 
 SAMPLE = Path(__file__).resolve().parents[1] / "weather_samples" / "fernhollow_sample.csv"
 SITE = ["--latitude", "48.3", "--longitude", "11.9", "--tz", "Etc/GMT-1"]
@@ -137,7 +137,7 @@ def test_run_comfort_table(full_run):
     tm = pd.read_csv(out / "temperatures_mean.csv", index_col=0)
     for node in comfort.index:
         # hours above a threshold: count of hourly values strictly above it × 1 h
-        # (very-low-energy overheating frequency definition, REFERENCES §5.5 [C])
+        # (very-low-energy overheating frequency definition, docs/references.md §5.5 [C])
         for th in (25, 26, 28):
             assert comfort.loc[node, f"hours_above_{th}_h"] == (tm[node] > th).sum()
         assert comfort.loc[node, "overheating_frequency_25"] == pytest.approx(

@@ -29,7 +29,6 @@ from hypothesis import strategies as st
 from scipy.integrate import solve_ivp
 
 import thermonet as tn
-from thermonet.io import models as io
 from thermonet.cli.run import read_weather_csv
 from thermonet.errors import (
     ModelFileError,
@@ -38,6 +37,7 @@ from thermonet.errors import (
     ThermonetError,
     WeatherError,
 )
+from thermonet.io import models as io
 from thermonet.weather import from_dataframe
 
 TZ = "Etc/GMT-1"

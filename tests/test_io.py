@@ -21,8 +21,8 @@ import pandas as pd
 import pytest
 
 import thermonet as tn
-from thermonet.io import models as io
 from thermonet.errors import ModelFileError, NetworkError
+from thermonet.io import models as io
 
 TZ = "Etc/GMT-1"
 

@@ -107,7 +107,7 @@ __all__ = [
 #: EN 16798-1:2019 adaptive method, offsets of the upper and lower limits from the comfort
 #: temperature θc [K] per category: ``{category: (upper, lower)}`` so that
 #: θ_upper = θc + upper and θ_lower = θc − lower. From memory (EN 16798-1:2019, adaptive
-#: method for buildings without mechanical cooling; REFERENCES §5.2 [M]); EN 15251:2007 used
+#: method for buildings without mechanical cooling; docs/references.md §5.2 [M]); EN 15251:2007 used
 #: the symmetric ±2 / ±3 / ±4 K.
 EN16798_ADAPTIVE_CATEGORIES: dict[str, tuple[float, float]] = {
     "I": (2.0, 3.0),
@@ -117,7 +117,7 @@ EN16798_ADAPTIVE_CATEGORIES: dict[str, tuple[float, float]] = {
 
 #: Constant term of the CIBSE TM52 (2013) maximum acceptable temperature
 #: Tmax = 0.33·Trm + constant [°C] per category. Category II, 21.8 °C, is confirmed
-#: (REFERENCES §5.3 [C], CIBSE Journal Aug 2013); I and III are the EN 15251 comfort
+#: (docs/references.md §5.3 [C], CIBSE Journal Aug 2013); I and III are the EN 15251 comfort
 #: temperature 18.8 °C plus 2 and 4 K (from memory).
 TM52_CATEGORIES: dict[str, float] = {"I": 20.8, "II": 21.8, "III": 22.8}
 
@@ -961,12 +961,12 @@ def overheating_frequency(
     -----
     The frequency of overheating of very-low-energy (Passive House) buildings is the share of
     the hours of the year with an indoor temperature above 25 °C; it should stay below 10 %
-    (REFERENCES §5.5 [C], beispielhaus.de "Übertemperaturhäufigkeit … unter 10 Prozent");
+    (docs/references.md §5.5 [C], beispielhaus.de "Übertemperaturhäufigkeit … unter 10 Prozent");
     5 % is the recommended value (from memory).
 
     References
     ----------
-    Passive House criteria, frequency of overheating; see REFERENCES §5.5.
+    Passive House criteria, frequency of overheating; see docs/references.md §5.5.
     """
     _, step = _series_values(temp, "temp")
     mask = _occupied_mask(occupied, temp, "temp")
@@ -1003,7 +1003,7 @@ def very_low_energy_overheating(
 
     References
     ----------
-    Passive House criteria: frequency of overheating (> 25 °C) below 10 % — REFERENCES §5.5
+    Passive House criteria: frequency of overheating (> 25 °C) below 10 % — docs/references.md §5.5
     [C] (https://beispielhaus.de/faq_ab-wann-gilt-passivhaus.html).
     """
     lim = _finite_number(limit, "limit")
@@ -1015,7 +1015,7 @@ def very_low_energy_overheating(
         value,
         lim,
         "–",
-        "Passive House criteria, REFERENCES §5.5",
+        "Passive House criteria, docs/references.md §5.5",
     )
 
 
@@ -1115,7 +1115,8 @@ def running_mean_outdoor(
                  + 0.4θ_{ed−5} + 0.3θ_{ed−6} + 0.2θ_{ed−7}) / 3.8              \\quad (2)
 
     Eq. (1) is the recursive form of θrm = (1 − α)(θed−1 + α θed−2 + α² θed−3 + …)
-    (REFERENCES §5.1 [C]); eq. (2) is the approximation the standards give where daily records
+    (docs/references.md §5.1 [C]); eq. (2) is the approximation the standards give where daily
+    records
     are short (from memory). Daily means are taken over the intervals whose MID-POINT falls
     in the day (see the module notes).
 
@@ -1124,7 +1125,7 @@ def running_mean_outdoor(
     EN 16798-1:2019, Energy performance of buildings — Ventilation for buildings — Part 1,
     running mean outdoor temperature (from memory: Annex B). EN 15251:2007, Annex A.
     CIBSE TM52 (2013), The limits of thermal comfort: avoiding overheating in European
-    buildings, running mean temperature. See REFERENCES §5.1.
+    buildings, running mean temperature. See docs/references.md §5.1.
 
     Examples
     --------
@@ -1171,7 +1172,7 @@ def adaptive_comfort_temperature(trm):
     References
     ----------
     EN 16798-1:2019, adaptive criteria for buildings without mechanical cooling (from memory,
-    REFERENCES §5.2 [M]); same equation in EN 15251:2007 Annex A.
+    docs/references.md §5.2 [M]); same equation in EN 15251:2007 Annex A.
 
     Examples
     --------
@@ -1209,7 +1210,7 @@ def adaptive_limits(trm, category: str = "II") -> pd.DataFrame:
 
     References
     ----------
-    EN 16798-1:2019, adaptive criteria (from memory, REFERENCES §5.2 [M]).
+    EN 16798-1:2019, adaptive criteria (from memory, docs/references.md §5.2 [M]).
     """
     cat = _check_category(category, EN16798_ADAPTIVE_CATEGORIES, "EN 16798-1 adaptive")
     up, low = EN16798_ADAPTIVE_CATEGORIES[cat]
@@ -1354,7 +1355,7 @@ def adaptive_assessment(
     References
     ----------
     EN 16798-1:2019, adaptive criteria for buildings without mechanical cooling (from memory,
-    REFERENCES §5.2 [M]).
+    docs/references.md §5.2 [M]).
     """
     cat = _check_category(category, EN16798_ADAPTIVE_CATEGORIES, "EN 16798-1 adaptive")
     top, step = _series_values(t_op, "t_op")
@@ -1502,7 +1503,7 @@ class TM52Result:
                                   f"May–September; fails when two or more criteria fail.")
 
 
-_TM52_SOURCE = "CIBSE TM52 (2013), REFERENCES §5.3"
+_TM52_SOURCE = "CIBSE TM52 (2013), docs/references.md §5.3"
 
 
 def _tm52_core(
@@ -1649,7 +1650,7 @@ def tm52(
     ----------
     CIBSE TM52 (2013), The limits of thermal comfort: avoiding overheating in European
     buildings, Chartered Institution of Building Services Engineers, London, section 6.
-    Tmax for category II and the criteria: REFERENCES §5.3 [C] (CIBSE Journal Aug 2013;
+    Tmax for category II and the criteria: docs/references.md §5.3 [C] (CIBSE Journal Aug 2013;
     buildingenergyexperts.co.uk; energaia.co.uk); the We formula [M].
     """
     cat = _check_category(category, TM52_CATEGORIES, "CIBSE TM52")
@@ -1709,7 +1710,7 @@ class TM59Result:
                              note=f"{self.occupied_hours:g} occupied hours assessed.")
 
 
-_TM59_SOURCE = "CIBSE TM59 (2017), REFERENCES §5.4"
+_TM59_SOURCE = "CIBSE TM59 (2017), docs/references.md §5.4"
 
 
 def tm59(
@@ -1770,7 +1771,7 @@ def tm59(
     (b) bedrooms only: θop over the 22:00–07:00 window shall exceed 26 °C (θop > 26 °C) for
         no more than 1 % of the annual hours of that window. For a year of 365 nights the
         window holds 3285 h and 1 % is 32.85 h, so 32 h above 26 °C pass and 33 h fail
-        (REFERENCES §5.4). The window is taken by clock time (interval mid-points between
+        (docs/references.md §5.4). The window is taken by clock time (interval mid-points between
         22:00 and 07:00), independent of ``occupied``; the 1 % applies to the window hours
         actually present in the series.
 
@@ -1782,7 +1783,7 @@ def tm59(
     ----------
     CIBSE TM59 (2017), Design methodology for the assessment of overheating risk in homes,
     Chartered Institution of Building Services Engineers, London. Criteria (a) and (b):
-    REFERENCES §5.4 [C] (tek-ltd.com); 32/33 h and the mechanical criterion [M].
+    docs/references.md §5.4 [C] (tek-ltd.com); 32/33 h and the mechanical criterion [M].
     """
     if room_type not in TM59_DEFAULT_OCCUPANCY:
         raise ValueError(
@@ -1987,13 +1988,13 @@ def demand_summary(
     E = Σ P·Δt / 1000 [kWh] with Δt = step [h]; the peak is the largest step-mean power, so it
     depends on the step (a 15-min peak is higher than the hourly one). Very-low-energy
     (Passive House) criteria: annual heating demand ≤ 15 kWh/(m²a) OR heating load ≤ 10 W/m²
-    of treated floor area (REFERENCES §5.5 [C]). The Passive House heating load is a
+    of treated floor area (docs/references.md §5.5 [C]). The Passive House heating load is a
     design-day calculation; the simulated peak used here is a proxy that depends on the
     weather year and the control, so treat a near-limit result with care.
 
     References
     ----------
-    Passive House criteria — REFERENCES §5.5 [C]
+    Passive House criteria — docs/references.md §5.5 [C]
     (https://study.passivehouseacademy.ac.nz/mod/glossary/showentry.php?eid=30).
     """
     area = _finite_number(floor_area, "floor_area")
@@ -2033,7 +2034,7 @@ def demand_summary(
                 f"very_low_energy=True judges ANNUAL heating demand; heating_w covers "
                 f"{period_hours:g} h, not one year (8760 h or 8784 h). Pass one full year"
             )
-        source = "Passive House criteria, REFERENCES §5.5"
+        source = "Passive House criteria, docs/references.md §5.5"
         crit = (
             _criterion("heating demand", h_kwh / area, 15.0, "kWh/(m²a)", source),
             _criterion("heating load (simulated peak)", h_peak / area, 10.0, "W/m²", source),

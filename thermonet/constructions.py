@@ -570,7 +570,7 @@ DIRECTIONS = ("up", "horizontal", "down", "ground", "internal")
 EXTERIORS = ("outdoor", "ground", "internal")
 
 #: Convective coefficient at internal surfaces hci [W/(m²K)] by heat-flow direction,
-#: ISO 6946:2007 Annex A (informative), from memory (REFERENCES.md §2.4).
+#: ISO 6946:2007 Annex A (informative), from memory (docs/references.md §2.4).
 INTERNAL_CONVECTIVE_COEFFICIENTS = {"up": 5.0, "horizontal": 2.5, "down": 0.7}
 
 _ALIASES = {"ground": ("down", "ground"), "internal": ("horizontal", "internal")}
@@ -720,7 +720,7 @@ def external_convective_coefficient(wind_speed):
 
     References
     ----------
-    ISO 6946:2007, Annex A (informative), Formula (A.2), from memory (REFERENCES.md §2.4).
+    ISO 6946:2007, Annex A (informative), Formula (A.2), from memory (docs/references.md §2.4).
     """
     v = np.asarray(wind_speed, dtype=float)
     if np.any(~np.isfinite(v)) or np.any(v < 0.0):
@@ -951,7 +951,7 @@ def layer_transfer_matrix(conductivity, density, specific_heat, thickness, perio
 
     Notes
     -----
-    With δ = sqrt(λT/(πρc)) and ξ = d/δ (ISO 13786, REFERENCES.md §1.1):
+    With δ = sqrt(λT/(πρc)) and ξ = d/δ (ISO 13786, docs/references.md §1.1):
 
     - Z11 = Z22 = cosh ξ cos ξ + i sinh ξ sin ξ
     - Z12 = −(δ/2λ)·{sinh ξ cos ξ + cosh ξ sin ξ + i[cosh ξ sin ξ − sinh ξ cos ξ]}

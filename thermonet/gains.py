@@ -17,7 +17,7 @@ the tables of a standard your project must follow) for any real assessment.
 Convective fraction
 -------------------
 Default 0.4 for every gain: the convective fraction of internal gains in ISO 52016-1:2017
-(from memory, REFERENCES.md §7.2 [M]); the remaining 0.6 is radiative. (ISO 13790's simple
+(from memory, docs/references.md §7.2 [M]); the remaining 0.6 is radiative. (ISO 13790's simple
 hourly method uses 0.5, see :mod:`thermonet.templates`.)
 """
 

@@ -1012,7 +1012,7 @@ def adaptive_scatter(
     References
     ----------
     EN 16798-1:2019, adaptive criteria for buildings without mechanical cooling (from memory,
-    REFERENCES §5.2 [M]).
+    docs/references.md §5.2 [M]).
     """
     a = comfort.adaptive_assessment(t_op, temp_air_outdoor, category, occupied,
                                     alpha=alpha, init=init)

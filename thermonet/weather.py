@@ -1110,7 +1110,7 @@ def sky_emissivity_berdahl_martin(temp_dew, hour=None, pressure=None, cloud_cove
     Notes
     -----
     Clear sky (Berdahl & Martin 1984; the diurnal and pressure terms as quoted in
-    REFERENCES.md §6, from memory), with T_dp in °C, t in hours, P in mbar:
+    docs/references.md §6, from memory), with T_dp in °C, t in hours, P in mbar:
 
     .. math::
         \\varepsilon_0 = 0.711 + 0.56\\,\\frac{T_{dp}}{100} + 0.73\\left(\\frac{T_{dp}}{100}

@@ -1470,7 +1470,7 @@ def add_buffer(net: Network, name: str, **kwargs) -> Room:
 
 # ------------------------------------------------------------------------------ airflow
 #: Shielding coefficients e [-] of the ISO 13789 / EN 832 infiltration estimate, by number
-#: of exposed façades and shielding class (from memory, REFERENCES.md §4 [M]).
+#: of exposed façades and shielding class (from memory, docs/references.md §4 [M]).
 _SHIELDING_E = {
     ("several", "none"): 0.10, ("several", "moderate"): 0.07, ("several", "heavy"): 0.04,
     ("one", "none"): 0.03, ("one", "moderate"): 0.02, ("one", "heavy"): 0.01,

@@ -1,6 +1,6 @@
 """Templates: the ISO 13790:2008 simple hourly 5R1C zone built from ordinary nodes and links.
 
-The 5R1C zone (ISO 13790:2008 Annex C, REFERENCES.md §7.1, from memory, high confidence) has
+The 5R1C zone (ISO 13790:2008 Annex C, docs/references.md §7.1, from memory, high confidence) has
 three free nodes and the outdoor air:
 
 ======== ================= ============================================================

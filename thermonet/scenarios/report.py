@@ -210,7 +210,7 @@ def _figures(study) -> dict:
     fig, axes = plt.subplots(len(pair), 1, figsize=(10, 3.6 * len(pair)), layout="constrained",
                              squeeze=False)
     for ax, key in zip(axes[:, 0], pair, strict=True):
-        plots.heatmap(study.operative[key].rename("Operative temperature [°C]"), ax=ax,
+        plots.heatmap(study.operative[key].rename("Operative temperature"), ax=ax,
                       vmin=lo, vmax=hi, title=study.options[key].label)
         ax.title.set_color(colors[key])
     figs["heatmap_operative.png"] = fig

@@ -74,7 +74,8 @@ see :func:`thermonet.comfort.operative_temperature`):
 References
 ----------
 EN 16798-1:2019 (adaptive comfort, running mean outdoor temperature); CIBSE TM52 (2013);
-CIBSE TM59 (2017); Passive House overheating frequency (REFERENCES §5.5) — see the docstrings
+CIBSE TM59 (2017); Passive House overheating frequency (docs/references.md §5.5) — see the
+docstrings
 of :mod:`thermonet.comfort` for clauses and the confidence of each value.
 """
 
