@@ -232,12 +232,6 @@ def test_exit_code_missing_files_are_usage_errors(model, tmp_path, capsys):
     assert code == 2 and "cannot read weather file" in err
 
 
-def test_exit_code_missing_site_is_usage_error(model, tmp_path, capsys):
-    code, err = _code(["run", str(model), "--weather", str(SAMPLE), "--out",
-                       str(tmp_path / "o"), "-q"], capsys)
-    assert code == 2 and "--latitude" in err
-
-
 @pytest.mark.parametrize("step", ["7min", "2h", "abc", "-15min"])
 def test_exit_code_bad_step(model, short_weather, tmp_path, capsys, step):
     code, err = _code(["run", str(model), "--weather", str(short_weather), "--out",

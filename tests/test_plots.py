@@ -482,7 +482,8 @@ def test_compare_options_bars_sorted_labelled_highlighted():
     assert widths == [42.1, 30.5, 25.0, 18.2]
     assert [t.get_text() for t in ax.get_yticklabels()][::-1] == [
         "base", "more glass", "shaded", "insulated"]
-    assert ax.get_xlabel() == "heating_kwh_m2 [kWh/m²]"
+    # words and unit from the one label table (thermonet.labels)
+    assert ax.get_xlabel() == "Heating demand per floor area [kWh/m²]"
     assert ax.patches[0].get_facecolor() != ax.patches[1].get_facecolor()
     assert any(t.get_text() == "18.2 kWh/m²" for t in ax.texts)
     _, ax = plots.compare_options(table, "share", unit="–", sort=False)

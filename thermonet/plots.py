@@ -482,13 +482,12 @@ def balance_bars(
 
 
 def _period_word(index: pd.Index) -> str:
-    """x label of balance periods: Month, Day or Year from a regular DatetimeIndex."""
+    """x label of balance periods: Month, Day or Year from the spacing of a DatetimeIndex."""
     if isinstance(index, pd.DatetimeIndex) and len(index) > 1:
-        freq = pd.infer_freq(index) if len(index) > 2 else None
         days = (index[1] - index[0]) / pd.Timedelta(days=1)
-        if (freq or "").startswith("MS") or 28 <= days <= 31:
+        if 28 <= days <= 31:
             return "Month"
-        if (freq or "").startswith(("YS", "AS")) or 365 <= days <= 366:
+        if 365 <= days <= 366:
             return "Year"
         if days == 1:
             return "Day"

@@ -566,7 +566,7 @@ in every figure):</p><ul>{opts}</ul>
 CIBSE TM52 category II (fails when two or more of its three criteria fail); CIBSE TM59 living
 room, natural ventilation, criterion (a). "not assessed": the simulated period does not allow
 the criterion (e.g. a short winter run). Each criterion set and its scope is listed under
-<a href="#criteria">Criteria</a>.</p>
+"Criteria" below.</p>
 {_conclusion(study)}
 
 <h2>Which heat path moved</h2>
