@@ -103,7 +103,7 @@ PATH_COLORS: dict[str, str] = {
     "ground": "#999933",  # olive (Tol muted)
     "buffer": "#44AA99",  # teal (Tol muted)
     "adjacent": "#DDCC77",  # sand (Tol muted)
-    "window_ventilation": "#AA4499",  # purple (Tol muted)
+    "window_ventilation": "#BBCC33",  # pear (Tol light)
     "night_ventilation": "#661100",  # brown
     "storage": "#AAAAAA",  # neutral grey: heat released by / stored in the fabric
     "residual": "#000000",
@@ -116,7 +116,7 @@ FALLBACK_COLORS: tuple[str, ...] = (
     "#88CCEE",  # cyan (Tol muted)
     "#6699CC",  # steel blue
     "#F0E442",  # yellow (Okabe–Ito)
-    "#7F3C8D",  # plum
+    "#AA4499",  # purple (Tol muted)
     "#3969AC",  # denim
     "#E68310",  # amber
 )

@@ -373,6 +373,8 @@ td.pass{background:#e6f4ea}td.fail{background:#fde8e8}
 figure{margin:1.2em 0}figure img{max-width:100%;border:1px solid #eee}
 figcaption{font-size:.9em;color:#444}
 .sw{display:inline-block;width:.8em;height:.8em;margin-right:.4em;vertical-align:baseline}
+.tw{overflow-x:auto}table.small{font-size:.8em}td.txt,th.txt{text-align:left}
+td:first-child{white-space:nowrap}
 .scope{border-left:4px solid #0072B2;background:#f2f7fb;padding:.4em .8em;font-size:.92em}
 code{background:#f2f2f2;padding:0 .25em}
 """
@@ -425,57 +427,90 @@ def _results_table(study) -> str:
             + f"{_verdict_cell(r['adaptive_ii_ok'])}{_verdict_cell(r['tm52_ok'])}"
             f"{_verdict_cell(r['tm59_ok'])}"
             f"<td>{'–' if key == 'baseline' else _fmt(int(r['cost_rank']))}</td></tr>")
-    return f"<table>{head}{''.join(rows)}</table>"
+    return f"<div class='tw'><table>{head}{''.join(rows)}</table></div>"
 
 
 def _balance_table(tab: pd.DataFrame, study) -> str:
-    cols = [c for c in tab.columns if c != "residual" and (tab[c] != 0).any()]
-    head = "<tr><th>option</th>" + "".join(
-        f"<th>{_esc(label(c, unit=False))}</th>" for c in cols) + \
-        "<th>residual (rounding)</th></tr>"
+    """Heat paths as rows (in words), options as columns; residual last."""
+    colors = option_colors(study)
+    paths = [c for c in tab.columns if c != "residual" and (tab[c] != 0).any()]
+    head = "<tr><th>heat path [kWh]</th>" + "".join(
+        f"<th><span class='sw' style='background:{colors[k]}'></span>"
+        f"{_esc(study.options[k].label)}</th>" for k in tab.index) + "</tr>"
     body = "".join(
-        f"<tr><td>{_esc(study.options[k].label)}</td>"
-        + "".join(f"<td>{_fmt(tab.loc[k, c])}</td>" for c in cols)
-        + f"<td>{tab.loc[k, 'residual']:.1e}</td></tr>" for k in tab.index)
-    return f"<table>{head}{body}</table>"
+        f"<tr><td class='txt'>{_esc(label(p, unit=False))}</td>"
+        + "".join(f"<td>{_fmt(tab.loc[k, p])}</td>" for k in tab.index) + "</tr>"
+        for p in paths)
+    body += ("<tr><td class='txt'>Residual (rounding)</td>"
+             + "".join(f"<td>{tab.loc[k, 'residual']:.1e}</td>" for k in tab.index) + "</tr>")
+    return f"<div class='tw'><table>{head}{body}</table></div>"
 
 
 def _inputs_table(study) -> str:
     t = study.inputs
     if t is None or t.empty:
         return "<p>(no inputs recorded)</p>"
-    head = "<tr><th>group</th><th>item</th><th>value</th><th>unit</th><th>note</th></tr>"
+    head = ("<tr><th>group</th><th class='txt'>item</th><th>value</th><th class='txt'>unit</th>"
+            "<th class='txt'>note</th></tr>")
     rows = []
     for r in t.itertuples():
         digits = 3 if r.unit in ("W/(m²K)", "1/h") else 1
-        rows.append(f"<tr><td>{_esc(r.group)}</td><td>{_esc(r.item)}</td>"
-                    f"<td>{_fmt(r.value, digits)}</td><td>{_esc(r.unit)}</td>"
-                    f"<td>{_esc(r.note)}</td></tr>")
+        rows.append(f"<tr><td>{_esc(r.group)}</td><td class='txt'>{_esc(r.item)}</td>"
+                    f"<td>{_fmt(r.value, digits)}</td><td class='txt'>{_esc(r.unit)}</td>"
+                    f"<td class='txt'>{_esc(r.note)}</td></tr>")
     return f"<table>{head}{''.join(rows)}</table>"
 
 
+def _shown(value, limit, unit):
+    """Value, limit and unit as shown: shares [–] as percent."""
+    if unit == "–":
+        return (None if value is None else 100.0 * value), 100.0 * limit, "%"
+    return value, limit, unit
+
+
+def _verdict_cell_value(value, unit, passed) -> str:
+    digits = 0 if unit == "criteria failed" else 1
+    text = "–" if value is None or not np.isfinite(value) else \
+        f"{_fmt(value, digits)}{' ' + _esc(unit) if unit else ''}"
+    if passed is None or passed is pd.NA or (isinstance(passed, float) and np.isnan(passed)):
+        return f"<td>{text}<br><span class='note'>not assessed</span></td>"
+    ok = bool(passed)
+    return f"<td class='{'pass' if ok else 'fail'}'>{text}<br>{'pass' if ok else 'fail'}</td>"
+
+
 def _verdict_sets(study) -> str:
-    """One table per criterion set, each with its scope note above it."""
+    """One table per criterion set (options × criteria), its scope note and its sources."""
     v = study.verdicts
     out = []
     for cset, (title, scope) in CRITERION_SETS.items():
         part = v[v["criterion_set"] == cset]
+        head = f"<h3>{_esc(title)}</h3><p class='scope'><strong>Scope.</strong> {_esc(scope)}</p>"
         if part.empty:
-            out.append(f"<h3>{_esc(title)}</h3><p class='scope'>{_esc(scope)}</p>"
-                       "<p>Not assessed for this period: the criteria need a whole year "
-                       "(run without <code>--hours</code>).</p>")
+            out.append(head + "<p>Not assessed for this period: the criteria need a whole "
+                       "year (run without <code>--hours</code>).</p>")
             continue
-        head = ("<tr><th>option</th><th>criterion</th><th>value</th><th>limit</th>"
-                "<th>unit</th><th>verdict</th><th>source</th></tr>")
+        names = list(dict.fromkeys(part["criterion"]))
+        cols = []
+        for name in names:
+            r = part[part["criterion"] == name].iloc[0]
+            _, lim, unit = _shown(r.value, r.limit, r.unit)
+            limit = "" if not np.isfinite(lim) else f" (pass: ≤ {_fmt(lim, 1)} {_esc(unit)})"
+            cols.append(f"<th>{_esc(name)}{limit}</th>")
         rows = []
-        for r in part.itertuples():
-            digits = 3 if r.unit == "–" else 1
-            rows.append(f"<tr><td>{_esc(study.options[r.option].label)}</td>"
-                        f"<td>{_esc(r.criterion)}</td><td>{_fmt(r.value, digits)}</td>"
-                        f"<td>{_fmt(r.limit, digits)}</td><td>{_esc(r.unit)}</td>"
-                        f"{_verdict_cell(r.passed)}<td>{_esc(r.source)}</td></tr>")
-        out.append(f"<h3>{_esc(title)}</h3><p class='scope'><strong>Scope.</strong> "
-                   f"{_esc(scope)}</p><table>{head}{''.join(rows)}</table>")
+        for key in study.options:
+            cells = []
+            for name in names:
+                hit = part[(part["option"] == key) & (part["criterion"] == name)]
+                if hit.empty:
+                    cells.append("<td>–</td>")
+                    continue
+                r = hit.iloc[0]
+                val, _, unit = _shown(r.value, r.limit, r.unit)
+                cells.append(_verdict_cell_value(float(val), unit, r.passed))
+            rows.append(f"<tr><td>{_esc(study.options[key].label)}</td>{''.join(cells)}</tr>")
+        sources = "; ".join(_esc(x) for x in dict.fromkeys(part["source"]))
+        out.append(f"{head}<div class='tw'><table><tr><th>option</th>{''.join(cols)}</tr>"
+                   f"{''.join(rows)}</table></div><p class='note'>Sources: {sources}.</p>")
     return "".join(out)
 
 
@@ -497,11 +532,14 @@ def _conclusion(study) -> str:
     if len(ok):
         cheapest = ok.sort_values(["cost_rank", "hours_above_26_h"]).index[0]
         r = s.loc[cheapest]
+        which = (f"Of the options that pass both CIBSE TM52 and the EN 16798-1 indication "
+                 f"({', '.join(_esc(x) for x in ok['label'])}), "
+                 f"<strong>{_esc(r['label'])}</strong> has the lowest (invented) cost and hassle "
+                 "rank" if len(ok) > 1 else
+                 f"Only <strong>{_esc(r['label'])}</strong> passes both CIBSE TM52 and the "
+                 "EN 16798-1 indication")
         lines.append(
-            f"<p>Options that pass both CIBSE TM52 and the EN 16798-1 indication: "
-            f"{', '.join(_esc(x) for x in ok['label'])}. Of these, "
-            f"<strong>{_esc(r['label'])}</strong> has the lowest (invented) cost and hassle "
-            f"rank: {_fmt(r['hours_above_26_h'])} h above 26 °C; heating "
+            f"<p>{which}: {_fmt(r['hours_above_26_h'])} h above 26 °C; heating "
             f"{_fmt(r['heating_kwh_m2'], 1)} kWh/m² against "
             f"{_fmt(base['heating_kwh_m2'], 1)} kWh/m² for the baseline.</p>")
     else:
@@ -571,8 +609,8 @@ the criterion (e.g. a short winter run). Each criterion set and its scope is lis
 
 <h2>Which heat path moved</h2>
 <p>Energy balance of the room (air, surfaces and its own walls, roof and floor) by heat path,
-baseline → option, + into the room, − out of it. The balance closes: the residual column
-below is rounding noise.</p>
+baseline → option, + into the room, − out of it. The balance closes: the residual row of
+the tables is rounding noise.</p>
 <ul>{moved}</ul>
 <h3>June–August [kWh]</h3>
 {_balance_table(study.balance_summer, study)}

@@ -110,6 +110,7 @@ from thermonet.builders import (
 )
 from thermonet.constructions import Construction
 from thermonet.errors import NetworkError, WeatherError
+from thermonet.labels import label
 from thermonet.network import Network
 from thermonet.scenarios.fernhollow import BUILDING
 from thermonet.scenarios.sample_weather import load_sample_weather
@@ -599,9 +600,10 @@ def inputs_table(net: Network, handles: SunnyRoom) -> pd.DataFrame:
         else:
             switched = any(sw.startswith(f"{name}:") for sw in room.switches)
             note = "when open (switched by a condition)" if switched else "always"
-        rows.append(dict(group="airflow", item=f"{link.path} ({name})", value=float(flow),
+        words = label(link.path, unit=False)
+        rows.append(dict(group="airflow", item=f"{words} ({name})", value=float(flow),
                          unit="m³/h", note=note))
-        rows.append(dict(group="airflow", item=f"{link.path}: air changes",
+        rows.append(dict(group="airflow", item=f"{words}: air changes",
                          value=float(flow) / room.volume, unit="1/h", note=note))
     gains: dict[str, float] = {}
     for n in room.sources:
@@ -749,7 +751,8 @@ CRITERION_SETS: dict[str, tuple[str, str]] = {
                         "These criteria are defined for a WHOLE building over a year with its "
                         "own design-load method; here they are applied to one room's simulated "
                         "operative temperature and simulated hourly peak. Read them as an "
-                        "indication, not as a certification result."),
+                        "indication, not as a certification result. For heating, the scheme "
+                        "accepts either the demand or the load criterion."),
 }
 
 #: Indicative pass mark of the EN 16798-1 adaptive assessment: share of the occupied hours
@@ -827,7 +830,7 @@ def _assess(key: str, res: tn.Results, h: SunnyRoom, weather: pd.DataFrame,
         verdicts.append(dict(option=key, criterion_set="tm52", criterion="TM52 overall "
                              "(fails when 2 or more criteria fail)", value=float(r52.n_failed),
                              limit=1.0, unit="criteria failed", passed=r52.passed,
-                             source="CIBSE TM52 (2013), docs/references.md"))
+                             source="CIBSE TM52 (2013), docs/references.md §5.3"))
         r59 = comfort.tm59(top, outdoor, "living", occupied, "natural", init=init)
         row["tm59_a_pct"] = r59.criteria[0].value
         row["tm59_ok"] = r59.passed
