@@ -509,7 +509,13 @@ class Construction:
         return areal_heat_capacity(self)
 
     def reversed(self, name: str | None = None) -> Construction:
-        """The same element seen from the other side (layers in reverse order)."""
+        """The same element seen from the other side (layers in reverse order).
+
+        Parameters
+        ----------
+        name : str, optional
+            Name of the reversed construction; default ``"<name> (reversed)"``.
+        """
         return Construction(
             name if name is not None else f"{self.name} (reversed)",
             tuple(reversed(self.layers)),
@@ -517,13 +523,35 @@ class Construction:
         )
 
     def u_value(self, direction="horizontal", rsi=None, rse=None, exterior=None) -> float:
-        """Thermal transmittance [W/(m²K)]; see :func:`u_value`."""
+        """Thermal transmittance [W/(m²K)]; see :func:`u_value`.
+
+        Parameters
+        ----------
+        direction : str, default "horizontal"
+            Direction of heat flow (``"up"``, ``"horizontal"``, ``"down"``).
+        rsi, rse : float, optional
+            Surface resistances [m²K/W]; default ISO 6946 values for ``direction``.
+        exterior : {"outdoor", "ground", "internal"}, optional
+            What the outside face meets (sets Rse).
+        """
         return u_value(self, direction=direction, rsi=rsi, rse=rse, exterior=exterior)
 
     def dynamic_characteristics(
         self, period=PERIOD_DAY, direction="horizontal", rsi=None, rse=None, exterior=None
     ) -> DynamicCharacteristics:
-        """ISO 13786 periodic characteristics; see :func:`dynamic_characteristics`."""
+        """ISO 13786 periodic characteristics; see :func:`dynamic_characteristics`.
+
+        Parameters
+        ----------
+        period : float, default 86400
+            Period T [s].
+        direction : str, default "horizontal"
+            Direction of heat flow for the surface resistances.
+        rsi, rse : float, optional
+            Surface resistances [m²K/W].
+        exterior : {"outdoor", "ground", "internal"}, optional
+            What the outside face meets (sets Rse).
+        """
         return dynamic_characteristics(
             self, period=period, direction=direction, rsi=rsi, rse=rse, exterior=exterior
         )
@@ -1289,7 +1317,13 @@ class RCChain:
         return float(sum(1.0 / g for g in self.conductances))
 
     def for_area(self, area: float) -> tuple[np.ndarray, np.ndarray]:
-        """Node capacities [J/K] and link conductances [W/K] of an element of ``area`` [m²]."""
+        """Node capacities [J/K] and link conductances [W/K] of an element of ``area`` [m²].
+
+        Parameters
+        ----------
+        area : float
+            Element area [m²], > 0.
+        """
         a = _check_finite(area, "area [m²]", f"RC chain of {self.construction!r}")
         if a <= 0.0:
             raise ConstructionError(f"area must be > 0 m², got {area!r}.")
@@ -1357,7 +1391,7 @@ def rc_chain(
         layer name to the count, other layers stay automatic.
     period : float, default 86400
         Period T [s] for the penetration depth of the automatic criterion.
-    direction, exterior, rsi, rse :
+    direction, exterior, rsi, rse : optional
         Surface resistances as in :func:`u_value`; only with
         ``include_surface_resistances=True``.
     include_surface_resistances : bool, default False

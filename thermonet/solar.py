@@ -1710,7 +1710,13 @@ class MovableShading:
 
     def admitted_fraction(self, deployed):
         """Share of the transmitted gain admitted per step [-]: ``factor`` where deployed, 1
-        elsewhere — for ``window_transmitted(..., shading=...)``."""
+        elsewhere — for ``window_transmitted(..., shading=...)``.
+
+        Parameters
+        ----------
+        deployed : bool array or pandas.Series
+            Whether the device is deployed in each step.
+        """
         d = np.asarray(deployed, dtype=bool)
         return _like(np.where(d, self.factor, 1.0), deployed, name="admitted_fraction")
 

@@ -242,6 +242,11 @@ def _check_coordinate(name: str, value: float, low: float, high: float) -> None:
 def site_of(df: pd.DataFrame) -> Site:
     """Return the :class:`Site` stored in ``df.attrs["site"]``.
 
+    Parameters
+    ----------
+    df : pandas.DataFrame
+        A weather frame (from :func:`from_dataframe` or a reader).
+
     Raises
     ------
     WeatherError

@@ -684,7 +684,15 @@ def model_summary(net, weather: pd.DataFrame | None = None, *, max_eigen_nodes: 
 
 
 def format_model_summary(s: dict, *, max_nodes: int = 30) -> str:
-    """The text ``thermonet check`` prints for a :func:`model_summary`."""
+    """The text ``thermonet check`` prints for a :func:`model_summary`.
+
+    Parameters
+    ----------
+    s : dict
+        What :func:`model_summary` returned.
+    max_nodes : int, default 30
+        Largest number of nodes listed by name.
+    """
     lines = [f"network {s['name']!r}: {s['nodes']} nodes, {s['boundaries']} boundaries, "
              f"{s['links']} links, {s['sources']} sources, {s['thermostats']} thermostats, "
              f"{s['switches']} switches",
@@ -720,7 +728,13 @@ def format_model_summary(s: dict, *, max_nodes: int = 30) -> str:
 
 
 def check_command(args) -> int:
-    """Handler of ``thermonet check``: validate a model file, print its summary."""
+    """Handler of ``thermonet check``: validate a model file, print its summary.
+
+    Parameters
+    ----------
+    args : argparse.Namespace
+        Parsed options of ``thermonet check`` (model, optional weather and site).
+    """
     try:
         mf = _model_from_args(args)
         weather = None
@@ -754,6 +768,13 @@ def comfort_table(res, net) -> pd.DataFrame:
     ``degree_hours_above_26_kh`` [K·h], ``overheating_frequency_25`` [-] (share of all hours
     above 25 °C, the very-low-energy criterion of :func:`thermonet.comfort.overheating_frequency`),
     ``max_c`` and ``mean_c`` [°C]. One row per node of kind ``air``.
+
+    Parameters
+    ----------
+    res : thermonet.Results
+        The simulation.
+    net : Network
+        Its network (the air nodes are read from it).
     """
     rows = {}
     tm = res.mean_temperatures
@@ -848,7 +869,13 @@ def _command_line(args) -> list[str]:
 
 
 def run_command(args) -> int:
-    """Handler of ``thermonet run``: simulate a model file, write the results folder."""
+    """Handler of ``thermonet run``: simulate a model file, write the results folder.
+
+    Parameters
+    ----------
+    args : argparse.Namespace
+        Parsed options of ``thermonet run`` (model, weather, out, site, step, warm-up ...).
+    """
     from thermonet.engine.simulate import simulate
 
     say = _Progress("run", getattr(args, "quiet", False),

@@ -601,6 +601,13 @@ def dumps(net: Network, *, weather_columns=None) -> str:
     """The model file of a network as JSON text (short elements on one line each).
 
     See :func:`to_dict` for the parameters and errors.
+
+    Parameters
+    ----------
+    net : Network
+        The network to write.
+    weather_columns : sequence of str, optional
+        Weather columns the model needs (see :func:`to_dict`).
     """
     return _pretty(to_dict(net, weather_columns=weather_columns)) + "\n"
 
@@ -661,7 +668,15 @@ def _no_constants(r: _Reader):
 
 
 def loads(text: str, *, source: str = "model text") -> Network:
-    """Read a network from model-file JSON text (see :func:`from_dict`)."""
+    """Read a network from model-file JSON text (see :func:`from_dict`).
+
+    Parameters
+    ----------
+    text : str
+        Model-file JSON text.
+    source : str, default "model text"
+        How the text is named in error messages.
+    """
     return _read_text(text, source)[0]
 
 

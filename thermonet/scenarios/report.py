@@ -653,7 +653,13 @@ def _building() -> str:
 
 # --------------------------------------------------------------------------------- write
 def check_folder(out) -> Path:
-    """The report folder as a Path; raises NotADirectoryError if it exists as a file."""
+    """The report folder as a Path; raises NotADirectoryError if it exists as a file.
+
+    Parameters
+    ----------
+    out : str or os.PathLike
+        The report folder.
+    """
     folder = Path(out)
     if folder.exists() and not folder.is_dir():
         raise NotADirectoryError(f"report folder {str(folder)!r} exists and is a file; pass "
