@@ -39,9 +39,10 @@ Functions
     the temperatures comfort is judged on (ISO 7726, ISO 52016-1, EN 16798-1).
 :func:`room_operative_temperature`, :func:`room_mean_radiant_temperature`
     the same for a room built by :func:`thermonet.builders.add_room`, from a simulation.
-:func:`hours_above`, :func:`degree_hours_above`, :func:`overheating_frequency`,
-:func:`very_low_energy_overheating`
-    fixed-threshold counts; the 25 °C / 10 % overheating frequency of very-low-energy houses.
+:func:`hours_above`, :func:`degree_hours_above`
+    fixed-threshold counts.
+:func:`overheating_frequency`, :func:`very_low_energy_overheating`
+    the 25 °C / 10 % overheating frequency of very-low-energy houses.
 :func:`daily_mean`, :func:`running_mean_outdoor`, :func:`daily_to_index`
     daily means and the exponentially weighted running mean of the outdoor temperature.
 :func:`adaptive_comfort_temperature`, :func:`adaptive_limits`, :func:`adaptive_assessment`

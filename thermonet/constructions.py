@@ -26,14 +26,16 @@ Functions
 ---------
 :func:`register_material`, :func:`get_material`
     the material registry :data:`MATERIALS`.
-:func:`surface_resistances`, :func:`surface_resistance`, :func:`radiative_coefficient`,
-:func:`external_convective_coefficient`
-    ISO 6946 surface resistances, tabulated and from coefficients.
+:func:`surface_resistances`, :func:`surface_resistance`
+    ISO 6946 surface resistances, tabulated.
+:func:`radiative_coefficient`, :func:`external_convective_coefficient`
+    ISO 6946 surface coefficients, from which the resistances follow.
 :func:`thermal_resistance`, :func:`u_value`, :func:`areal_heat_capacity`
     steady-state quantities (ISO 6946).
-:func:`penetration_depth`, :func:`layer_transfer_matrix`, :func:`resistance_transfer_matrix`,
+:func:`penetration_depth`, :func:`layer_transfer_matrix`, :func:`resistance_transfer_matrix`
+    ISO 13786 layer matrices.
 :func:`transfer_matrix`, :func:`dynamic_characteristics`
-    ISO 13786 periodic quantities.
+    ISO 13786 periodic quantities of a whole element.
 :func:`rc_chain`
     discretisation into a chain of nodes (capacities) and conductances.
 """
@@ -1131,18 +1133,18 @@ class DynamicCharacteristics:
     y12 : complex
         Periodic thermal transmittance Y12 = −1/Z12 [W/(m²K)].
     y11_magnitude, y22_magnitude, y12_magnitude : float
-        |Y| [W/(m²K)].
+        ``|Y|`` [W/(m²K)].
     y11_time_shift, y22_time_shift : float
         Time shift of the admittances, (T/2π)·arg(Y) [h]; positive: the heat flow into the
         surface leads the temperature.
     decrement_factor : float
-        f = |Y12|/U [–].
+        f = ``|Y12|``/U [–].
     time_shift : float
         Lag of the heat flow through the element behind the outside temperature,
         (−arg(Y12)·T/2π) mod T [h], in [0, T).
     kappa1, kappa2 : float
-        Internal and external areal heat capacities κ1 = (T/2π)|(Z11 − 1)/Z12|,
-        κ2 = (T/2π)|(Z22 − 1)/Z12| [J/(m²K)], from the same matrix Z as the admittances,
+        Internal and external areal heat capacities κ1 = (T/2π)·abs((Z11 − 1)/Z12),
+        κ2 = (T/2π)·abs((Z22 − 1)/Z12) [J/(m²K)], from the same matrix Z as the admittances,
         i.e. including ``rsi`` and ``rse``; pass ``rsi=0, rse=0`` to
         :func:`dynamic_characteristics` for the surface-to-surface values.
     rsi, rse : float
@@ -1213,8 +1215,8 @@ def dynamic_characteristics(
     With Z = Z_s2·Z_N⋯Z_1·Z_s1 (:func:`transfer_matrix`), ω = 2π/T (ISO 13786):
 
     - Y11 = −Z11/Z12, Y22 = −Z22/Z12, Y12 = −1/Z12 [W/(m²K)]
-    - f = |Y12|/U, Δt = (T/2π)·arg(Y); for Y12 the lag −arg(Y12)·T/2π is reported mod T
-    - κ1 = (T/2π)·|(Z11 − 1)/Z12|, κ2 = (T/2π)·|(Z22 − 1)/Z12| [J/(m²K)]
+    - f = ``|Y12|``/U, Δt = (T/2π)·arg(Y); for Y12 the lag −arg(Y12)·T/2π is reported mod T
+    - κ1 = (T/2π)·abs((Z11 − 1)/Z12), κ2 = (T/2π)·abs((Z22 − 1)/Z12) [J/(m²K)]
 
     For a layer much thicker than δ without surface resistance, Y11 → λ(1 + i)/δ: the
     admittance leads the temperature by exactly T/8 (3 h at 24 h).

@@ -1522,7 +1522,7 @@ def infiltration_rate(n50=None, *, q50=None, envelope_area=None, volume=None,
         moderate / heavy shielding), 0.03 / 0.02 / 0.01 (one façade); f = 15 (several),
         20 (one) — from memory.
     unbalanced_flow_m3h : float, default 0
-        |supply − exhaust| of mechanical ventilation [m³/h] (needs ``volume``).
+        abs(supply − exhaust) of mechanical ventilation [m³/h] (needs ``volume``).
 
     Returns
     -------
