@@ -339,16 +339,22 @@ def path_change_sentences(study, period: str = "summer", n: int = 2) -> dict:
     base = tab.loc["baseline"].drop(["storage", "residual"], errors="ignore")
     gains = float(base[base > 0].sum())
     out = {}
+    empty = not (tab.drop(columns=["residual"], errors="ignore") != 0).any().any()
     for key in study.options:
         if key == "baseline":
+            continue
+        if empty:
+            out[key] = ("no step of the simulated period falls in June–August" if
+                        period == "summer" else "nothing was simulated")
             continue
         rows = main[main["option"] == key]
         parts = [f"{label(r.path, unit=False).lower()} {_kwh(r.baseline_kwh)} → "
                  f"{_kwh(r.option_kwh)}" for r in rows.itertuples()]
         text = "; ".join(parts) if parts else "no path changed"
         biggest = float(rows["change_kwh"].abs().max()) if len(rows) else 0.0
-        if gains > 0 and biggest < 0.05 * gains:
-            s = study.summary
+        s = study.summary
+        swings = (s.loc["baseline", "daily_swing_summer_k"], s.loc[key, "daily_swing_summer_k"])
+        if gains > 0 and biggest < 0.05 * gains and np.isfinite(swings).all():
             text = (f"the {period} totals hardly move ({text}); the option acts on timing: "
                     f"the mean daily swing of the operative temperature in June–August goes "
                     f"from {_fmt(s.loc['baseline', 'daily_swing_summer_k'], 1)} to "
@@ -394,17 +400,17 @@ def _fmt(v, digits=0) -> str:
     return f"{float(v):,.{digits}f}".replace("-", "\u2212")
 
 
-def _verdict_cell(v) -> str:
+def _verdict_cell(v, short: bool = False) -> str:
     if v is None or v is pd.NA or (isinstance(v, float) and np.isnan(v)):
-        return "<td>not assessed</td>"
+        return "<td>–</td>" if short else "<td>not assessed</td>"
     return '<td class="pass">pass</td>' if bool(v) else '<td class="fail">fail</td>'
 
 
 #: Columns of the headline results table (labels and units from thermonet.labels.LABELS).
+#: The other metrics are in summary.csv.
 RESULT_COLUMNS: tuple[tuple[str, int], ...] = (
     ("hours_above_26_h", 0), ("max_operative_c", 1), ("adaptive_ii_hours_above_h", 0),
-    ("adaptive_ii_degree_hours_above_kelvin_hours", 0), ("heating_kwh_m2", 1),
-    ("peak_heating_w_m2", 1), ("solar_windows_summer_kwh", 0), ("daily_swing_summer_k", 1))
+    ("heating_kwh_m2", 1), ("peak_heating_w_m2", 1), ("solar_windows_summer_kwh", 0))
 
 
 def _header(name: str) -> str:
@@ -424,8 +430,8 @@ def _results_table(study) -> str:
         rows.append(
             f"<tr><td>{swatch}{_esc(r['label'])}</td>"
             + "".join(f"<td>{_fmt(r[c], d)}</td>" for c, d in RESULT_COLUMNS)
-            + f"{_verdict_cell(r['adaptive_ii_ok'])}{_verdict_cell(r['tm52_ok'])}"
-            f"{_verdict_cell(r['tm59_ok'])}"
+            + f"{_verdict_cell(r['adaptive_ii_ok'], short=True)}"
+            f"{_verdict_cell(r['tm52_ok'], short=True)}{_verdict_cell(r['tm59_ok'], short=True)}"
             f"<td>{'–' if key == 'baseline' else _fmt(int(r['cost_rank']))}</td></tr>")
     return f"<div class='tw'><table>{head}{''.join(rows)}</table></div>"
 
@@ -602,8 +608,9 @@ in every figure):</p><ul>{opts}</ul>
 {_results_table(study)}
 <p class="note">Verdicts: EN 16798-1 category II with the indicative 5 % of occupied hours;
 CIBSE TM52 category II (fails when two or more of its three criteria fail); CIBSE TM59 living
-room, natural ventilation, criterion (a). "not assessed": the simulated period does not allow
-the criterion (e.g. a short winter run). Each criterion set and its scope is listed under
+room, natural ventilation, criterion (a). "–": not assessed, the simulated period does not
+allow the criterion (e.g. a short winter run). More metrics per option are in
+<code>summary.csv</code>. Each criterion set and its scope is listed under
 "Criteria" below.</p>
 {_conclusion(study)}
 

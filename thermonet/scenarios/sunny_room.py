@@ -59,14 +59,16 @@ Per option, from the operative temperature of the room (:func:`room_operative_te
 the mean of air and area-weighted surface temperature, EN 16798-1 / ISO 52016-1 simplification,
 see :func:`thermonet.comfort.operative_temperature`):
 
-* hours above 25, 26 and 28 °C over all hours of the simulated period, and the overheating
-  frequency above 25 °C with the 10 % limit of very-low-energy houses
-  (:func:`thermonet.comfort.very_low_energy_overheating`);
-* EN 16798-1 adaptive comfort (category II) over the occupied hours;
+* hours above 25, 26 and 28 °C over all hours of the simulated period;
+* EN 16798-1 adaptive comfort (category II) over the occupied hours, judged against an
+  indicative 5 % of the occupied hours outside the category (:data:`CRITERION_SETS`);
 * CIBSE TM52 (category II) and CIBSE TM59 (living room, natural ventilation) over the
   occupied hours 09:00–22:00 (the TM59 living-room occupancy, from memory, see
   :data:`thermonet.comfort.TM59_DEFAULT_OCCUPANCY`);
 * heating demand [kWh], [kWh/m²] and peak heating power [W], [W/m²];
+* the very-low-energy criteria (overheating frequency above 25 °C ≤ 10 %, heating demand
+  ≤ 15 kWh/(m²a) or load ≤ 10 W/m²) as one more criterion set, marked as an indication: they
+  are defined for a whole building with its own design-load method, not for one room;
 * the energy balance of the room (all its nodes: air, radiant star and its own elements) by
   heat path, over the year and over June–August, and how each path moved against the
   baseline (:func:`room_balance`).
@@ -74,9 +76,9 @@ see :func:`thermonet.comfort.operative_temperature`):
 References
 ----------
 EN 16798-1:2019 (adaptive comfort, running mean outdoor temperature); CIBSE TM52 (2013);
-CIBSE TM59 (2017); Passive House overheating frequency (docs/references.md §5.5) — see the
-docstrings
-of :mod:`thermonet.comfort` for clauses and the confidence of each value.
+CIBSE TM59 (2017); very-low-energy (Passive House) criteria — see docs/references.md §5 and
+§12 and the docstrings of :mod:`thermonet.comfort` for clauses and the confidence of each
+value.
 """
 
 from __future__ import annotations
@@ -110,7 +112,7 @@ from thermonet.builders import (
 )
 from thermonet.constructions import Construction
 from thermonet.errors import NetworkError, WeatherError
-from thermonet.labels import label
+from thermonet.labels import label, unit_of
 from thermonet.network import Network
 from thermonet.scenarios.fernhollow import BUILDING
 from thermonet.scenarios.sample_weather import load_sample_weather
@@ -555,7 +557,9 @@ def room_balance(res: tn.Results, handles: SunnyRoom, freq: str | None = None) -
     """
     b = res.balance(handles.room.nodes, freq=freq)
     order = [p for p in PATH_ORDER if p in b.columns]
-    return b[order + [c for c in b.columns if c not in order]]
+    b = b[order + [c for c in b.columns if c not in order]]
+    b.attrs["unit"] = "kWh"
+    return b
 
 
 def inputs_table(net: Network, handles: SunnyRoom) -> pd.DataFrame:
@@ -941,6 +945,7 @@ def run_study(weather: pd.DataFrame | None = None, *, options: Sequence[str] | N
     summary = pd.DataFrame.from_dict(rows, orient="index")
     summary.insert(0, "label", [chosen[k].label for k in keys])
     summary.index.name = "option"
+    summary.attrs["units"] = {c: unit_of(c) for c in summary.columns if unit_of(c)}
     bal_a = _tidy_balance(annual, keys)
     bal_s = _tidy_balance(summer, keys)
     changes = []
@@ -999,6 +1004,7 @@ def _tidy_balance(per_option: dict, keys: list) -> pd.DataFrame:
     order = [p for p in PATH_ORDER if p in tab.columns]
     tab = tab[order + [c for c in tab.columns if c not in order]]
     tab.index.name = "option"
+    tab.attrs["unit"] = "kWh"
     return tab
 
 
