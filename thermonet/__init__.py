@@ -27,8 +27,8 @@ from thermonet.results import Results  # noqa: E402
 #: Public submodules, imported on first attribute access (``tn.builders``) so that
 #: ``import thermonet`` stays quick; ``import thermonet.builders`` works as usual.
 SUBMODULES = ("builders", "comfort", "constants", "constructions", "controls", "display",
-              "engine", "errors", "gains", "io", "network", "periods", "plots", "results",
-              "schedules", "solar", "studies", "weather")
+              "engine", "errors", "gains", "io", "labels", "network", "periods", "plots",
+              "results", "schedules", "solar", "studies", "weather")
 
 
 def __getattr__(name):
@@ -62,6 +62,7 @@ __all__ = [
     "gains",
     "hours",
     "io",
+    "labels",
     "network",
     "periods",
     "plots",

@@ -128,6 +128,12 @@ def network_tables(net) -> dict:
     return {"nodes": t_nodes, "boundaries": t_bounds, "links": t_links, "sources": t_src}
 
 
+def _count(items, noun: str) -> str:
+    n = len(items)
+    plural = {"boundary": "boundaries", "switch": "switches"}.get(noun, noun + "s")
+    return f"{n} {noun if n == 1 else plural}"
+
+
 def network_html(net) -> str:
     """A network at a glance: nodes by kind, links by path, totals of C and UA.
 
@@ -146,10 +152,10 @@ def network_html(net) -> str:
     """
     t = network_tables(net)
     total_c = float(t["nodes"]["total capacitance [MJ/K]"].sum())
-    head = (f"<strong>Network {_esc(net.name)!s}</strong>: {len(net.nodes)} nodes "
-            f"(C = {_num(total_c)} MJ/K in total), {len(net.boundaries)} boundaries, "
-            f"{len(net.links)} links, {len(net.sources)} sources, {len(net.thermostats)} "
-            f"thermostats, {len(net.switches)} switches")
+    head = (f"<strong>Network {_esc(net.name)}</strong>: {_count(net.nodes, 'node')} "
+            f"(C = {_num(total_c)} MJ/K in total), {_count(net.boundaries, 'boundary')}, "
+            f"{_count(net.links, 'link')}, {_count(net.sources, 'source')}, "
+            f"{_count(net.thermostats, 'thermostat')}, {_count(net.switches, 'switch')}")
     parts = [f"<p>{head}</p>"]
     for key, title in (("nodes", "Nodes by kind"), ("boundaries", "Boundaries by kind"),
                        ("links", "Links by path"), ("sources", "Sources by path")):
