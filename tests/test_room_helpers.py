@@ -104,6 +104,7 @@ def test_notebook_views_show_the_totals():
     text = str(WALL.dynamic_characteristics())
     assert len(text.splitlines()) > 8 and "time shift" in text
     assert "Results" in display.results_html(res)
+    assert res._repr_html_() == display.results_html(res)
     top = comfort.room_operative_temperature(res, room)
     crit = comfort.very_low_energy_overheating(top)
     assert ("pass" in crit._repr_html_()) == crit.passed
