@@ -3,13 +3,13 @@
 Sources named beside each check:
 - ISO 6946:2017 Table 7 surface resistances R_si = 0.10 / 0.13 / 0.17, R_se = 0.04 m²K/W [C]
   (wiki.indigud.de "RSI RSE"); internal elements R_se = R_si [C] (100gon.de/?p=222).
-- ISO 13786:2017 transfer-matrix decrement factor and time shift (REFERENCES.md §1 [M],
+- ISO 13786:2017 transfer-matrix decrement factor and time shift (docs/references.md §1 [M],
   computed by thermonet.constructions.dynamic_characteristics, itself checked there).
 - ISO 13789 / ISO 13790 ρ_a c_a = 1200 J/(m³K) (from memory); 0.33 Wh/(m³K) (common practice).
 - Meier (1986) "Infiltration: just ACH50 divided by 20?" [C]; ISO 13789 / EN 832 shielding
-  coefficient e (from memory, REFERENCES.md §4).
+  coefficient e (from memory, docs/references.md §4).
 - ISO 13370:2017 slab-on-ground and heated-basement-wall formulas (from memory,
-  REFERENCES.md brief).
+  docs/references.md).
 - EN ISO 10077-1:2017 whole-window U_w from U_g, U_f and ψ_g (from memory).
 - Dry-air ρ·c_p from the ideal gas law (R_d = 287.05 J/(kg·K)) and c_p = 1005 J/(kg·K)
   (both from memory).
@@ -200,7 +200,7 @@ def test_infiltration_heat_flow_is_033_w_per_m3h_k():
 
 def test_infiltration_from_airtightness():
     # Meier (1986): n ≈ n50/20 [C]; ISO 13789/EN 832 balanced: n = e·n50, e = 0.07 for
-    # several façades, moderate shielding, 0.07 × 0.6 = 0.042 1/h (REFERENCES.md §4 [M]).
+    # several façades, moderate shielding, 0.07 × 0.6 = 0.042 1/h (docs/references.md §4 [M]).
     assert infiltration_rate(3.0, method="divide20") == pytest.approx(0.15)
     assert infiltration_rate(0.6) == pytest.approx(0.042)
     assert infiltration_rate(2.0, shielding="none", exposed_facades="one") == pytest.approx(0.06)
@@ -515,7 +515,7 @@ def test_airflow_errors():
 
 
 def test_basement_wall_steady_loss_is_iso13370():
-    # ISO 13370:2017 heated basement wall (from memory, REFERENCES.md brief): with
+    # ISO 13370:2017 heated basement wall (from memory, docs/references.md): with
     # d_w = λ(R_si + R_w + R_se) and the floor's d_t (here d_t = d_w, the builder's default),
     # U_bw = 2λ/(πz) · (1 + 0.5 d_t/(d_t + z)) · ln(z/d_w + 1). Hand value for λ = 2 W/(mK),
     # z = 2 m, R_w = 0.2 m²K/W: d_w = 0.74 m, 0.63662 × 1.135036 × ln 3.7027 = 0.94591.

@@ -137,7 +137,7 @@ def test_run_comfort_table(full_run):
     tm = pd.read_csv(out / "temperatures_mean.csv", index_col=0)
     for node in comfort.index:
         # hours above a threshold: count of hourly values strictly above it × 1 h
-        # (very-low-energy overheating frequency definition, REFERENCES §5.5 [C])
+        # (very-low-energy overheating frequency definition, docs/references.md §5.5 [C])
         for th in (25, 26, 28):
             assert comfort.loc[node, f"hours_above_{th}_h"] == (tm[node] > th).sum()
         assert comfort.loc[node, "overheating_frequency_25"] == pytest.approx(
@@ -230,12 +230,6 @@ def test_exit_code_missing_files_are_usage_errors(model, tmp_path, capsys):
     code, err = _code(["run", str(model), "--weather", str(tmp_path / "none.csv"), "--out",
                        str(tmp_path / "o"), *SITE, "-q"], capsys)
     assert code == 2 and "cannot read weather file" in err
-
-
-def test_exit_code_missing_site_is_usage_error(model, tmp_path, capsys):
-    code, err = _code(["run", str(model), "--weather", str(SAMPLE), "--out",
-                       str(tmp_path / "o"), "-q"], capsys)
-    assert code == 2 and "--latitude" in err
 
 
 @pytest.mark.parametrize("step", ["7min", "2h", "abc", "-15min"])

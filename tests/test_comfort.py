@@ -1,7 +1,7 @@
 """Tests of thermonet.comfort against the published definitions of the criteria.
 
 Every check names its source. The expected numbers are worked out by hand from the published
-equations in the comments beside them (REFERENCES.md §5 gives the provenance of each
+equations in the comments beside them (docs/references.md §5 gives the provenance of each
 definition: [C] confirmed, [M] from memory). Series are constructed so that the answer is
 known exactly (e.g. exactly 3 % of the hours vs one hour more).
 
@@ -135,7 +135,7 @@ def test_hours_and_degree_hours_above_hourly_and_half_hourly():
 
 @pytest.mark.parametrize(("n_hot", "passed"), [(876, True), (877, False)])
 def test_very_low_energy_overheating_frequency_10_percent(n_hot, passed):
-    # Passive House criterion (REFERENCES §5.5 [C]): share of hours above 25 °C ≤ 10 %.
+    # Passive House criterion (docs/references.md §5.5 [C]): share of hours above 25 °C ≤ 10 %.
     # 10 % of 8760 h = 876 h: 876 h pass, 877 h fail. Rows at exactly 25.0 °C are not above.
     t = year_2025(20.0)
     t.iloc[:n_hot] = 26.0
@@ -196,7 +196,7 @@ def test_window_edges_start_inclusive_end_exclusive():
 def test_daylight_saving_days_are_complete_and_nights_keep_3285_hours():
     # local clock of a zone with daylight saving: March 30 2025 has 23 h, October 26 has
     # 25 h; both are complete days, and the year still holds 365 × 9 = 3285 clock hours in
-    # 22:00–07:00 (one night loses an hour, another gains one) — TM59 count, REFERENCES §5.4
+    # 22:00–07:00 (one night loses an hour, another gains one) — TM59 count, docs/references.md §5.4
     idx = pd.date_range("2025-01-01 01:00", "2026-01-01 00:00", freq="h", tz="Europe/London")
     t = pd.Series(20.0, index=idx)
     assert len(cf.daily_mean(t)) == 365
@@ -269,7 +269,7 @@ def outdoor_from_daily(daily, start="2025-06-01 01:00") -> pd.Series:
 
 
 def test_running_mean_exponential_by_hand():
-    # EN 16798-1:2019 / EN 15251 (REFERENCES §5.1 [M]): θrm,n = 0.2 θed,n−1 + 0.8 θrm,n−1,
+    # EN 16798-1:2019 / EN 15251 (docs/references.md §5.1 [M]): θrm,n = 0.2 θed,n−1 + 0.8 θrm,n−1,
     # history before day 1 = θed,1 = 10 ("first_day"):
     #   θrm1 = 10
     #   θrm2 = 0.2·10 + 0.8·10     = 10
@@ -290,8 +290,9 @@ def test_running_mean_exponential_by_hand():
 
 
 def test_running_mean_matches_general_series_form():
-    # REFERENCES §5.1 [C] (designingbuildings.co.uk): θrm = (1 − α)(θed−1 + α θed−2 + α² θed−3
-    # + …). Day 9 with history 10 °C before day 1: the finite sum over days 8 … 1 plus the
+    # docs/references.md §5.1 [C] (designingbuildings.co.uk):
+    # θrm = (1 − α)(θed−1 + α θed−2 + α² θed−3 + …). Day 9 with history 10 °C before day 1:
+    # the finite sum over days 8 … 1 plus the
     # geometric tail of the history, 10·α⁸/(1 − α)·(1 − α).
     a = 0.8
     past = DAILY[7::-1]  # θed−1 … θed−8 seen from day 9: 24, 22, …, 10
@@ -301,7 +302,7 @@ def test_running_mean_matches_general_series_form():
 
 
 def test_running_mean_seven_day_formula_by_hand():
-    # EN 15251 / EN 16798-1 approximation (REFERENCES §5.1 [M]):
+    # EN 15251 / EN 16798-1 approximation (docs/references.md §5.1 [M]):
     # θrm = (θed−1 + 0.8θed−2 + 0.6θed−3 + 0.5θed−4 + 0.4θed−5 + 0.3θed−6 + 0.2θed−7)/3.8
     # day 8: (22 + 0.8·20 + 0.6·18 + 0.5·16 + 0.4·14 + 0.3·12 + 0.2·10)/3.8
     #      = (22 + 16 + 10.8 + 8 + 5.6 + 3.6 + 2)/3.8 = 68/3.8 = 17.894736842…
@@ -338,7 +339,7 @@ def test_daily_to_index_hour_ending():
 
 
 def test_adaptive_limits_categories_and_applicability():
-    # EN 16798-1:2019 (REFERENCES §5.2 [M]): θc(20) = 0.33·20 + 18.8 = 25.4 °C;
+    # EN 16798-1:2019 (docs/references.md §5.2 [M]): θc(20) = 0.33·20 + 18.8 = 25.4 °C;
     # upper/lower: I 27.4/22.4, II 28.4/21.4, III 29.4/20.4 °C
     for cat, (up, low) in {"I": (27.4, 22.4), "II": (28.4, 21.4), "III": (29.4, 20.4)}.items():
         lim = cf.adaptive_limits(20.0, cat)
@@ -402,7 +403,7 @@ def test_adaptive_assessment_outside_applicability():
 # ---------------------------------------------------------------------------------------------
 # CIBSE TM52
 # ---------------------------------------------------------------------------------------------
-# Outdoor constant 20 °C → Trm = 20 °C → Tmax = 0.33·20 + 21.8 = 28.4 °C (cat II, REFERENCES
+# Outdoor constant 20 °C → Trm = 20 °C → Tmax = 0.33·20 + 21.8 = 28.4 °C (cat II, docs/references.md
 # §5.3 [C]); Tupp = Tmax + 4 = 32.4 °C. ΔT = round(Top − Tmax), halves up (TM52 [M]).
 JULY = "2025-07-01 01:00"
 
@@ -550,7 +551,7 @@ def test_tm52_refuses_no_occupied_season_hours():
 # ---------------------------------------------------------------------------------------------
 @pytest.mark.parametrize(("n_hot", "b_passed"), [(32, True), (33, False)])
 def test_tm59_bedroom_criterion_b_32_vs_33_hours(n_hot, b_passed):
-    # TM59 (REFERENCES §5.4): 22:00–07:00 window, 365 × 9 = 3285 h a year; 1 % = 32.85 h:
+    # TM59 (docs/references.md §5.4): 22:00–07:00 window, 365 × 9 = 3285 h a year; 1 % = 32.85 h:
     # 32 h above 26 °C pass, 33 h fail. Hot rows labelled 23:00 in January/February, outside
     # the TM52 season, so criterion (a) is untouched. Outdoor 15 °C → Tmax = 0.33·15 + 21.8 =
     # 26.75 °C; 27 °C gives ΔT = round(0.25) = 0, no exceedance for (a) either way.
@@ -655,7 +656,7 @@ def test_demand_summary_half_hourly_energy():
     ],
 )
 def test_demand_summary_very_low_energy_criteria(hours, power, extra_w, demand_ok, load_ok):
-    # Passive House (REFERENCES §5.5 [C]): heating demand ≤ 15 kWh/(m²a) OR load ≤ 10 W/m²;
+    # Passive House (docs/references.md §5.5 [C]): heating demand ≤ 15 kWh/(m²a) OR load ≤ 10 W/m²;
     # floor area 100 m²
     heat = year_2025(0.0)
     heat.iloc[:hours] = power

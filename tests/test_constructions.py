@@ -1,14 +1,16 @@
 """Tests of thermonet.constructions against standards and analytic solutions.
 
-Sources (see /work/shared/REFERENCES.md):
-- ISO 6946:2017 Table 7 surface resistances [C] (wiki.indigud.de "RSI RSE"), REFERENCES §2.3;
+Sources (see docs/references.md):
+- ISO 6946:2017 Table 7 surface resistances [C] (wiki.indigud.de "RSI RSE"), docs/references.md
+  §2.3;
   Rse = 0 against the ground and Rsi = Rse for internal elements [C] (100gon.de/?p=222).
-- ISO 6946 Annex surface-resistance formulas, hr0 table, hci/hce, REFERENCES §2.4 (from memory).
+- ISO 6946 Annex surface-resistance formulas, hr0 table, hci/hce, docs/references.md §2.4 (from
+  memory).
 - ISO 10456:2007 Table 3 λ, ρ of concrete [C]; EN ISO 10077-2 / userdeck λ, ρ, c [C];
-  REFERENCES §9.
-- Semi-infinite periodic solid (Carslaw & Jaeger 1959 §2.6), REFERENCES §1.3 and §2.2
+  docs/references.md §9.
+- Semi-infinite periodic solid (Carslaw & Jaeger 1959 §2.6), docs/references.md §1.3 and §2.2
   (exact analytic values).
-- ISO 13786:2017 definitions, REFERENCES §1.1–1.2.
+- ISO 13786:2017 definitions, docs/references.md §1.1–1.2.
 """
 
 from __future__ import annotations
@@ -77,7 +79,8 @@ def light_wall():
 
 
 def thick_concrete():
-    # REFERENCES §1.3: λ = 1.65 W/(mK), ρ = 2200 kg/m³, c = 1000 J/(kgK) (ISO 10456 [C], c [M]);
+    # docs/references.md §1.3: λ = 1.65 W/(mK), ρ = 2200 kg/m³, c = 1000 J/(kgK) (ISO 10456 [C], c
+    # [M]);
     # 3 m = 20.9 δ, so the far face contributes e^-20.9 ≈ 1e-9
     return Construction("semi-infinite concrete", [Layer(Material("c", 1.65, 2200.0, 1000.0), 3.0)])
 
@@ -86,7 +89,7 @@ def thick_concrete():
 
 
 def test_material_table_values_match_cited_sources():
-    # ISO 10456:2007 Table 3 [C] (REFERENCES §9): concrete λ / ρ
+    # ISO 10456:2007 Table 3 [C] (docs/references.md §9): concrete λ / ρ
     for name, lam, rho in [
         ("concrete_1800", 1.15, 1800),
         ("concrete_2000", 1.35, 2000),
@@ -152,7 +155,7 @@ def test_surface_resistances_iso6946_table7():
 
 
 def test_surface_resistance_from_coefficients_matches_table():
-    # REFERENCES §2.4 consistency [X]: Rs = 1/(hc + ε·4σT³), ε = 0.9, internal at 20 °C with
+    # docs/references.md §2.4 consistency [X]: Rs = 1/(hc + ε·4σT³), ε = 0.9, internal at 20 °C with
     # hci 5.0 / 2.5 / 0.7 (ISO 6946 Annex, from memory), external at 0 °C with hce = 4 + 4·4.
     # Table values ISO 6946:2017 Table 7 [C]; agreement to 0.002 m²K/W.
     assert surface_resistance(2.5, 0.9, 20.0) == pytest.approx(0.13, abs=0.002)
@@ -204,27 +207,27 @@ def test_areal_heat_capacity_hand_calculation():
 
 
 def test_penetration_depth_concrete():
-    # REFERENCES §1.3 / §2.2: concrete λ 1.65, ρ 2200, c 1000 at 24 h -> δ = 0.14362 m
+    # docs/references.md §1.3 / §2.2: concrete λ 1.65, ρ 2200, c 1000 at 24 h -> δ = 0.14362 m
     assert penetration_depth(1.65, 2200.0, 1000.0) == pytest.approx(0.14362, abs=1e-5)
 
 
 def test_semi_infinite_limit_of_layer_matrix():
-    # REFERENCES §1.3 exact analytic: a layer much thicker than δ, no surface resistance:
+    # docs/references.md §1.3 exact analytic: a layer much thicker than δ, no surface resistance:
     # |Y11| = sqrt(λρcω) = 16.247 W/(m²K), leads by T/8 = 3.000 h, κ1 = 223.4 kJ/(m²K).
     dc = dynamic_characteristics(thick_concrete(), rsi=0.0, rse=0.0)
     assert dc.y11_magnitude == pytest.approx(16.247, rel=1e-3)
     assert dc.y11_time_shift == pytest.approx(3.000, abs=1e-3)
     assert dc.kappa1 == pytest.approx(223.4e3, rel=1e-3)
-    # the analytic b·sqrt(ω) itself, b = sqrt(λρc) = 1905.3 J/(m²K s^½) (REFERENCES §1.3)
+    # the analytic b·sqrt(ω) itself, b = sqrt(λρc) = 1905.3 J/(m²K s^½) (docs/references.md §1.3)
     b_sqrt_omega = math.sqrt(1.65 * 2200.0 * 1000.0) * math.sqrt(2 * math.pi / 86400.0)
     assert dc.y11_magnitude == pytest.approx(b_sqrt_omega, rel=1e-9)
 
 
 def test_periodic_wave_at_depth_from_layer_matrix():
-    # Carslaw & Jaeger §2.6 (REFERENCES §2.2): surface temperature cos ωt in a semi-infinite
+    # Carslaw & Jaeger §2.6 (docs/references.md §2.2): surface temperature cos ωt in a semi-infinite
     # solid -> amplitude e^(-x/δ), lag x/δ rad. Concrete, x = 0.2 m: ratio 0.24844, lag 5.319 h.
     # State at the surface of the semi-infinite solid: θ = 1, q = λ(1+i)/δ (analytic).
-    delta = 0.14362  # REFERENCES §2.2 [X]
+    delta = 0.14362  # docs/references.md §2.2 [X]
     q0 = 1.65 * (1 + 1j) / delta
     z = layer_transfer_matrix(1.65, 2200.0, 1000.0, 0.2)
     theta_x = z[0, 0] * 1.0 + z[0, 1] * q0
@@ -237,7 +240,8 @@ def test_periodic_wave_at_depth_from_layer_matrix():
 
 @pytest.mark.parametrize("make", [heavy_wall, light_wall])
 def test_det_z_equals_one(make):
-    # ISO 13786 / REFERENCES §1.1: every layer and resistance matrix has det 1, so does the product
+    # ISO 13786 / docs/references.md §1.1: every layer and resistance matrix has det 1, so does the
+    # product
     for period in (PERIOD_DAY, 7 * PERIOD_DAY):
         z = transfer_matrix(make(), period, rsi=0.13, rse=0.04)
         assert np.linalg.det(z) == pytest.approx(1.0, abs=1e-9)
@@ -251,7 +255,7 @@ def test_det_z_equals_one(make):
 
 
 def test_periodic_transmittance_tends_to_u_for_long_periods():
-    # ISO 13786 (REFERENCES §1.2): |Y12| -> U and arg Y12 -> 0 as ω -> 0
+    # ISO 13786 (docs/references.md §1.2): |Y12| -> U and arg Y12 -> 0 as ω -> 0
     for wall in (heavy_wall(), light_wall()):
         dc = dynamic_characteristics(wall, period=1e10)
         assert dc.y12_magnitude == pytest.approx(wall.u_value(), rel=1e-4)
@@ -344,7 +348,7 @@ def test_rc_chain_converges_to_iso13786(make):
 def test_iso13786_heavy_and_light_walls_are_plausible():
     # ISO 13786 qualitative behaviour: the insulated heavy wall damps and delays the outdoor
     # wave strongly, the light timber-frame wall barely (f close to 1, short lag); admittance of
-    # a plastered concrete inside face leads by about 1 h (REFERENCES §1.2: 0.5–2 h, from
+    # a plastered concrete inside face leads by about 1 h (docs/references.md §1.2: 0.5–2 h, from
     # memory). The bands f < 0.3 / > 0.9 and lags > 6 h / < 3 h: common practice, no source.
     heavy = heavy_wall().dynamic_characteristics()
     light = light_wall().dynamic_characteristics()
@@ -353,7 +357,7 @@ def test_iso13786_heavy_and_light_walls_are_plausible():
     assert 0.5 < heavy.y11_time_shift < 2.0
     # κ1 surface to surface vs the simplified "effective thickness" method of the ISO 13786
     # annex (Annex A of the 2007, Annex C of the 2017 edition [C] iteh/ds.dk catalogue pages;
-    # the method itself from memory, REFERENCES §1.2): layers up to 0.10 m from the surface,
+    # the method itself from memory, docs/references.md §1.2): layers up to 0.10 m from the surface,
     # 1300·1000·0.015 + 2000·1000·0.085 = 189 500 J/(m²K); the simplified method is an
     # approximation, so 15 %.
     bare = heavy_wall().dynamic_characteristics(rsi=0.0, rse=0.0)
@@ -413,7 +417,7 @@ def test_rc_chain_invariants_on_random_constructions(layers):
 
 
 def test_rc_chain_automatic_cell_count():
-    # criterion h ≤ δ/6 with δ = 0.14362 m (REFERENCES §1.3): 0.3 m concrete_2200 needs
+    # criterion h ≤ δ/6 with δ = 0.14362 m (docs/references.md §1.3): 0.3 m concrete_2200 needs
     # ceil(0.3/(0.14362/6)) = ceil(12.53) = 13 cells = 14 nodes, each carrying ρch (half at faces)
     chain = rc_chain([Layer("concrete_2200", 0.3)])
     assert chain.n_nodes == 14

@@ -27,7 +27,7 @@ def one_node(C=10e6, H=100.0, source=0.0, initial=None):
 def test_rc_node_step_response_exact():
     # Textbook first-order RC node (e.g. Incropera, lumped capacitance, §5.1):
     # θ(t) = θ_eq + (θ0 − θ_eq) e^(−t/τ), τ = C/H. H = 100 W/K, C = 10 MJ/K → τ = 27.78 h;
-    # after 24 h the remaining fraction is e^(−24/27.78) = 0.42147 (REFERENCES.md §2.1 [X]).
+    # after 24 h the remaining fraction is e^(−24/27.78) = 0.42147 (docs/references.md §2.1 [X]).
     net = one_node(initial=20.0)
     w = hourly_weather(48, temp_air=0.0)
     res = tn.simulate(net, w, warmup_days=0)
@@ -39,7 +39,7 @@ def test_rc_node_step_response_exact():
 
 
 def test_rc_node_with_source_reaches_equilibrium():
-    # θ_eq = θ∞ + Φ/H (REFERENCES.md §2.1): 5 °C + 500 W / 100 W/K = 10 °C, approached from
+    # θ_eq = θ∞ + Φ/H (docs/references.md §2.1): 5 °C + 500 W / 100 W/K = 10 °C, approached from
     # 30 °C as θ(t) = θ_eq + (30 − θ_eq) e^(−t/τ), τ = C/H = 1e4 s (lumped capacitance,
     # Incropera §5.1). Started away from equilibrium, without warm-up.
     net = one_node(C=1e6, source=500.0, initial=30.0)
@@ -53,7 +53,7 @@ def test_rc_node_with_source_reaches_equilibrium():
 
 def test_rc_node_periodic_response_amplitude_and_lag():
     # Sinusoidal forcing A cos ωt of a first-order node: steady periodic amplitude
-    # A / sqrt(1 + (ωτ)²), lag atan(ωτ)/ω (REFERENCES.md §2.1, textbook).
+    # A / sqrt(1 + (ωτ)²), lag atan(ωτ)/ω (docs/references.md §2.1, textbook).
     # 5-min steps with the input sampled at interval mid-points, so the zero-order hold adds
     # no half-step delay; ZOH error then is O(h²) ≈ 1e-4 relative.
     C, H = 2e6, 100.0

@@ -5,6 +5,7 @@ non-interactive matplotlib backend (MPLBACKEND=Agg) and the shipped sample data.
 committed without outputs; this test checks that too, so the repository stays diff-friendly.
 """
 
+import os
 from pathlib import Path
 
 import nbformat
@@ -17,7 +18,8 @@ PATHS = sorted(NOTEBOOKS.glob("*.ipynb"))
 
 def test_the_promised_notebooks_are_there():
     names = {p.name for p in PATHS}
-    assert {"01_sunny_room_study.ipynb", "02_custom_network_sunspace.ipynb"} <= names
+    assert {"01_sunny_room_study.ipynb", "02_custom_network_sunspace.ipynb",
+            "03_room_from_scratch.ipynb"} <= names
 
 
 @pytest.mark.parametrize("path", PATHS, ids=[p.stem for p in PATHS])
@@ -32,6 +34,10 @@ def test_notebook_is_committed_without_outputs(path):
 @pytest.mark.parametrize("path", PATHS, ids=[p.stem for p in PATHS])
 def test_notebook_executes(path, monkeypatch):
     monkeypatch.setenv("MPLBACKEND", "Agg")  # inherited by the kernel
+    # the kernel imports the thermonet of this checkout, not another installed copy
+    root = str(NOTEBOOKS.parent)
+    monkeypatch.setenv("PYTHONPATH", os.pathsep.join(
+        [root, *filter(None, [os.environ.get("PYTHONPATH")])]))
     nb = nbformat.read(path, as_version=4)
     client = NotebookClient(nb, timeout=600, kernel_name="python3",
                             resources={"metadata": {"path": str(NOTEBOOKS)}})

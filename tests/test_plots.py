@@ -1,7 +1,7 @@
 """Tests of thermonet.plots: the charts show the numbers they are given, on the right axes.
 
 Checks against the outside world where a chart encodes one: the EN 16798-1 adaptive limit
-lines (θc = 0.33 θrm + 18.8 °C ± category offsets, REFERENCES §5.2, from memory), the
+lines (θc = 0.33 θrm + 18.8 °C ± category offsets, docs/references.md §5.2, from memory), the
 steady-state heat flow of a conductance Q = G·ΔT (Fourier's law) shown in the balance bars, the
 first law (gains = losses over a closed control volume), the analytic duration of a sine above
 half its amplitude (1/3 of the time), the calendar (1 June 2025 = day of year 152) and the
@@ -270,7 +270,7 @@ def test_temperature_bands_adaptive_band_with_applicability():
     trm_h = comfort.daily_to_index(trm, t_out.index).to_numpy()
     upper = np.asarray(lines[3].get_ydata(), dtype=float)
     lower = np.asarray(lines[4].get_ydata(), dtype=float)
-    # EN 16798-1 cat. II (from memory, REFERENCES §5.2): θc + 3 K where 10 < θrm < 30 °C,
+    # EN 16798-1 cat. II (from memory, docs/references.md §5.2): θc + 3 K where 10 < θrm < 30 °C,
     # θc − 4 K where 15 < θrm < 30 °C; not drawn outside
     ok_up = (trm_h > 10) & (trm_h < 30)
     ok_low = (trm_h > 15) & (trm_h < 30)
@@ -422,7 +422,8 @@ def test_adaptive_scatter_lines_follow_en16798():
     fig, ax = plots.adaptive_scatter(t_op, t_out, category="II")
     assert isinstance(fig, Figure)
     lines = {ln.get_gid(): ln for ln in ax.get_lines()}
-    # EN 16798-1:2019 (from memory, REFERENCES §5.2): θc = 0.33 θrm + 18.8; upper θc + 2/3/4 K
+    # EN 16798-1:2019 (from memory, docs/references.md §5.2): θc = 0.33 θrm + 18.8; upper θc +
+    # 2/3/4 K
     # for 10 < θrm < 30 °C, lower θc − 3/4/5 K for 15 < θrm < 30 °C (cat. I/II/III)
     expect = {
         "II-upper": ([10, 30], [25.1, 31.7]),
@@ -481,7 +482,8 @@ def test_compare_options_bars_sorted_labelled_highlighted():
     assert widths == [42.1, 30.5, 25.0, 18.2]
     assert [t.get_text() for t in ax.get_yticklabels()][::-1] == [
         "base", "more glass", "shaded", "insulated"]
-    assert ax.get_xlabel() == "heating_kwh_m2 [kWh/m²]"
+    # words and unit from the one label table (thermonet.labels)
+    assert ax.get_xlabel() == "Heating demand per floor area [kWh/m²]"
     assert ax.patches[0].get_facecolor() != ax.patches[1].get_facecolor()
     assert any(t.get_text() == "18.2 kWh/m²" for t in ax.texts)
     _, ax = plots.compare_options(table, "share", unit="–", sort=False)

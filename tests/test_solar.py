@@ -56,7 +56,7 @@ def greensboro_planes(greensboro):
 # --------------------------------------------------------------------------------------------
 # solar position: NREL SPA worked example
 # --------------------------------------------------------------------------------------------
-# Reda & Andreas (2004), NREL/TP-560-34302, worked example (REFERENCES.md §3 [C]):
+# Reda & Andreas (2004), NREL/TP-560-34302, worked example (docs/references.md §3 [C]):
 # 2003-10-17 12:30:30 local time, UTC-7; 39.742476 N, -105.1786 E, 1830.14 m;
 # 820 mbar = 82 000 Pa; 11 °C; ΔT = 67 s. Topocentric (refracted) zenith 50.111622°,
 # azimuth 194.340241°, incidence 25.187000° on a 30° slope rotated −10° from south
@@ -89,7 +89,7 @@ def test_spa_worked_example_incidence_through_the_default_path():
     # weather.attrs["site"], pressure [Pa] and temp_air [°C] from the frame, and places the
     # sun at the mid-point of the hour ENDING at the label (13:00:30 -> the SPA instant
     # 12:30:30). Reda & Andreas (2004) worked example: incidence 25.187000° on a 30° slope
-    # facing 170° (REFERENCES.md §3 [C]); the beam on the plane is DNI·cos θ.
+    # facing 170° (docs/references.md §3 [C]); the beam on the plane is DNI·cos θ.
     idx = pd.DatetimeIndex(["2003-10-17 12:00:30", "2003-10-17 13:00:30"], tz="Etc/GMT+7")
     weather = pd.DataFrame({"ghi": 500.0, "dni": 700.0, "dhi": 100.0, "temp_air": 11.0,
                             "pressure": 82000.0}, index=idx)

@@ -1,6 +1,6 @@
 """Tests of thermonet.templates: the ISO 13790:2008 5R1C zone.
 
-Source: ISO 13790:2008 Annex C, simple hourly method (REFERENCES.md §7.1, from memory, high
+Source: ISO 13790:2008 Annex C, simple hourly method (docs/references.md §7.1, from memory, high
 confidence): H_tr,is = 3.45 A_t, A_t = 4.5 A_f, H_tr,ms = 9.1 A_m,
 H_tr,em = 1/(1/H_tr,op − 1/H_tr,ms), Table 12 mass classes, the gain split and the node
 equations (H_tr,1, H_tr,2, H_tr,3, Φ_mtot, θ_m, θ_s, θ_air).

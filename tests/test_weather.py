@@ -3,7 +3,7 @@
 Reference data: NREL TMY3 station 723170, Greensboro Piedmont Triad International, NC, as
 shipped with pvlib (pvlib/data/723170TYA.CSV), read in place, never copied. Values quoted
 as "read by hand" were read from that file's lines with a text viewer.
-Published numbers: /work/shared/REFERENCES.md §6 (tags [X] computed from the published
+Published numbers: docs/references.md §6 (tags [X] computed from the published
 equations, [M] from memory).
 """
 
@@ -423,7 +423,7 @@ def test_solar_times_are_interval_midpoints(june):
 # ------------------------------------------------------------------------------------------
 @pytest.mark.parametrize("kind", ["scalar", "array", "series"])
 def test_swinbank_published_values(kind):
-    # REFERENCES.md §6 [X]: Swinbank (1963) T_sky = 0.0552 T_a^1.5,
+    # docs/references.md §6 [X]: Swinbank (1963) T_sky = 0.0552 T_a^1.5,
     # T_a = 273.15 / 283.15 / 293.15 K -> 249.20 / 263.00 / 277.06 K
     t_air = [0.0, 10.0, 20.0]
     expected = np.array([249.20, 263.00, 277.06]) - 273.15
@@ -439,7 +439,7 @@ def test_swinbank_published_values(kind):
 
 
 def test_berdahl_martin_published_values():
-    # REFERENCES.md §6 [X]: Berdahl & Martin (1984) clear sky, T_a = 20 °C,
+    # docs/references.md §6 [X]: Berdahl & Martin (1984) clear sky, T_a = 20 °C,
     # T_dp = 0 / 10 / 20 °C -> ε = 0.7110 / 0.7743 / 0.8522, T_sky = 269.19 / 274.99 / 281.66 K
     eps = w.sky_emissivity_berdahl_martin(np.array([0.0, 10.0, 20.0]))
     np.testing.assert_allclose(eps, [0.7110, 0.7743, 0.8522], atol=6e-5)
@@ -448,7 +448,7 @@ def test_berdahl_martin_published_values():
 
 
 def test_berdahl_martin_diurnal_pressure_and_cloud_terms():
-    # Terms of the published equation (REFERENCES.md §6, [M] from memory), values worked by
+    # Terms of the published equation (docs/references.md §6, [M] from memory), values worked by
     # hand for T_a = 20 °C, T_dp = 10 °C (clear ε = 0.7743):
     #   diurnal +0.013 cos(2π t/24): t = 0 h -> ε = 0.7873, T_sky = 276.137 K; t = 6 h -> 0
     #   pressure +0.00012 (P − 1000 mbar): 900 mbar -> ε = 0.7623, T_sky = 273.919 K
@@ -488,7 +488,7 @@ ALPHA_005 = 0.05 / 86_400.0  # 0.05 m²/day in m²/s
 
 
 def test_kusuda_amplitude_ratio_and_lag_at_2m():
-    # REFERENCES.md §6 [X]: α = 0.05 m²/day, z = 2 m -> amplitude ratio 0.43614, lag 48.20 d
+    # docs/references.md §6 [X]: α = 0.05 m²/day, z = 2 m -> amplitude ratio 0.43614, lag 48.20 d
     t = np.arange(0.0, 365.0, 0.01)
     temp = w.ground_temperature_kusuda(t, 2.0, 10.0, 8.0, 30.0, ALPHA_005)
     assert (temp.max() - temp.min()) / 2.0 / 8.0 == pytest.approx(0.43614, abs=2e-5)
@@ -497,7 +497,7 @@ def test_kusuda_amplitude_ratio_and_lag_at_2m():
 
 def test_kusuda_surface_and_deep_limits():
     # z = 0: the surface wave itself, T_m − A at t0, T_m + A half a year later, T_m between;
-    # z → ∞: the annual mean (semi-infinite solid, Carslaw & Jaeger; REFERENCES.md §2.2)
+    # z → ∞: the annual mean (semi-infinite solid, Carslaw & Jaeger; docs/references.md §2.2)
     k = w.ground_temperature_kusuda
     assert k(30.0, 0.0, 10.0, 8.0, 30.0, ALPHA_005) == pytest.approx(2.0, abs=1e-12)
     assert k(30.0 + 182.5, 0.0, 10.0, 8.0, 30.0, ALPHA_005) == pytest.approx(18.0, abs=1e-12)
@@ -537,7 +537,7 @@ def test_add_ground_temperature(tmy):
     out = w.add_ground_temperature(tmy, depth=2.0, t_mean=15.0, amplitude=10.0, day_min=20.0,
                                    diffusivity=ALPHA_005)
     col = out["temp_ground_2m"]
-    # damped wave: swing 10 K × 0.43614 around 15 °C (REFERENCES.md §6 [X]); hourly samples
+    # damped wave: swing 10 K × 0.43614 around 15 °C (docs/references.md §6 [X]); hourly samples
     assert (col.max() - col.min()) / 2.0 == pytest.approx(4.3614, abs=1e-3)
     deep = w.add_ground_temperature(tmy, depth=20.0)  # cycle fitted to the TMY3 temp_air
     assert deep["temp_ground_20m"].std() < 0.1
@@ -601,7 +601,7 @@ def test_write_sample_csv_round_trip(tmp_path, sample):
 # the library's one solar-position path, and a second real typical year
 # ------------------------------------------------------------------------------------------
 def test_weather_solar_position_reproduces_the_spa_worked_example():
-    # Reda & Andreas (2004), NREL/TP-560-34302, worked example (REFERENCES.md §3 [C]):
+    # Reda & Andreas (2004), NREL/TP-560-34302, worked example (docs/references.md §3 [C]):
     # 2003-10-17 12:30:30 local standard time, UTC−7; 39.742476 N, −105.1786 E, 1830.14 m;
     # 820 mbar, 11 °C, ΔT = 67 s -> topocentric (refracted) zenith 50.111622°, azimuth
     # 194.340241°. As a weather frame: the hour ENDING 13:00:30 has its sun at 12:30:30,

@@ -4,7 +4,8 @@
 :class:`Results`, the switch conditions) and every public submodule: the physics modules
 (``tn.weather``, ``tn.solar``, ``tn.constructions``, ``tn.gains``, ``tn.comfort``), the model
 (``tn.network``, ``tn.schedules``, ``tn.controls``), the engine (``tn.engine``), and what is
-composed on top (``tn.results``, ``tn.builders``, ``tn.studies``, ``tn.plots``, ``tn.io``).
+composed on top (``tn.results``, ``tn.periods``, ``tn.builders``, ``tn.studies``, ``tn.plots``,
+``tn.display``, ``tn.io``).
 """
 
 __version__ = "0.1.0"
@@ -26,8 +27,8 @@ from thermonet.results import Results  # noqa: E402
 #: Public submodules, imported on first attribute access (``tn.builders``) so that
 #: ``import thermonet`` stays quick; ``import thermonet.builders`` works as usual.
 SUBMODULES = ("airflow", "builders", "comfort", "constants", "constructions", "controls",
-              "engine", "errors", "gains", "io", "network", "occupancy", "plots", "results",
-              "schedules", "solar", "studies", "weather")
+              "display", "engine", "errors", "gains", "io", "labels", "network", "occupancy",
+              "periods", "plots", "results", "schedules", "solar", "studies", "weather")
 
 
 def __getattr__(name):
@@ -56,13 +57,16 @@ __all__ = [
     "constants",
     "constructions",
     "controls",
+    "display",
     "engine",
     "errors",
     "gains",
     "hours",
     "io",
+    "labels",
     "network",
     "occupancy",
+    "periods",
     "plots",
     "radiation_conductance",
     "results",

@@ -37,9 +37,12 @@ Functions
 ---------
 :func:`operative_temperature`, :func:`mean_radiant_temperature`
     the temperatures comfort is judged on (ISO 7726, ISO 52016-1, EN 16798-1).
-:func:`hours_above`, :func:`degree_hours_above`, :func:`overheating_frequency`,
-:func:`very_low_energy_overheating`
-    fixed-threshold counts; the 25 °C / 10 % overheating frequency of very-low-energy houses.
+:func:`room_operative_temperature`, :func:`room_mean_radiant_temperature`
+    the same for a room built by :func:`thermonet.builders.add_room`, from a simulation.
+:func:`hours_above`, :func:`degree_hours_above`
+    fixed-threshold counts.
+:func:`overheating_frequency`, :func:`very_low_energy_overheating`
+    the 25 °C / 10 % overheating frequency of very-low-energy houses.
 :func:`daily_mean`, :func:`running_mean_outdoor`, :func:`daily_to_index`
     daily means and the exponentially weighted running mean of the outdoor temperature.
 :func:`adaptive_comfort_temperature`, :func:`adaptive_limits`, :func:`adaptive_assessment`
@@ -94,6 +97,8 @@ __all__ = [
     "mean_radiant_temperature",
     "operative_temperature",
     "overheating_frequency",
+    "room_mean_radiant_temperature",
+    "room_operative_temperature",
     "running_mean_outdoor",
     "tm52",
     "tm59",
@@ -103,7 +108,7 @@ __all__ = [
 #: EN 16798-1:2019 adaptive method, offsets of the upper and lower limits from the comfort
 #: temperature θc [K] per category: ``{category: (upper, lower)}`` so that
 #: θ_upper = θc + upper and θ_lower = θc − lower. From memory (EN 16798-1:2019, adaptive
-#: method for buildings without mechanical cooling; REFERENCES §5.2 [M]); EN 15251:2007 used
+#: method for buildings without mechanical cooling; docs/references.md §5.2 [M]); EN 15251:2007 used
 #: the symmetric ±2 / ±3 / ±4 K.
 EN16798_ADAPTIVE_CATEGORIES: dict[str, tuple[float, float]] = {
     "I": (2.0, 3.0),
@@ -113,7 +118,7 @@ EN16798_ADAPTIVE_CATEGORIES: dict[str, tuple[float, float]] = {
 
 #: Constant term of the CIBSE TM52 (2013) maximum acceptable temperature
 #: Tmax = 0.33·Trm + constant [°C] per category. Category II, 21.8 °C, is confirmed
-#: (REFERENCES §5.3 [C], CIBSE Journal Aug 2013); I and III are the EN 15251 comfort
+#: (docs/references.md §5.3 [C], CIBSE Journal Aug 2013); I and III are the EN 15251 comfort
 #: temperature 18.8 °C plus 2 and 4 K (from memory).
 TM52_CATEGORIES: dict[str, float] = {"I": 20.8, "II": 21.8, "III": 22.8}
 
@@ -675,6 +680,136 @@ def mean_radiant_temperature(surface_temps: pd.DataFrame, areas: Mapping[str, fl
     return pd.Series(t @ a / a.sum(), index=surface_temps.index, name="mean_radiant")
 
 
+def _room_fields(room: object) -> tuple[str, dict, dict]:
+    """Air node, surface nodes and areas of a room record (a builders ``Room``)."""
+    try:
+        air, surfaces, areas = room.air, dict(room.surfaces), dict(room.areas)
+    except AttributeError:
+        raise TypeError(
+            f"room must be a room record of thermonet.builders (what add_room returns, or "
+            f"thermonet.builders.rooms(net)[name]), got {type(room).__name__}"
+        ) from None
+    if not surfaces:
+        raise ValueError(
+            f"room {getattr(room, 'name', air)!r} has no inside surfaces in its record; the mean "
+            "radiant temperature needs the elements built by add_room"
+        )
+    return air, surfaces, areas
+
+
+def _room_table(results: object, mean: bool) -> pd.DataFrame:
+    attr = "mean_temperatures" if mean else "temperatures"
+    try:
+        return getattr(results, attr)
+    except AttributeError:
+        raise TypeError(
+            f"results must be what thermonet.simulate returned (with .{attr}), got "
+            f"{type(results).__name__}"
+        ) from None
+
+
+def room_mean_radiant_temperature(results: object, room: object, *, mean: bool = True
+                                  ) -> pd.Series:
+    """Mean radiant temperature of a room built by :func:`thermonet.builders.add_room`.
+
+    The area-weighted mean of the inside surface temperatures of the room's elements, windows
+    and doors (:func:`mean_radiant_temperature` on the nodes of ``room.surfaces`` with the
+    areas of ``room.areas``).
+
+    Parameters
+    ----------
+    results : thermonet.Results
+        What :func:`thermonet.simulate` returned for the network holding the room.
+    room : thermonet.builders.Room
+        The room record (returned by ``add_room`` or found again with
+        :func:`thermonet.builders.rooms`, also after loading a model file).
+    mean : bool, default True
+        True: step means [°C] (:attr:`~thermonet.Results.mean_temperatures`, the
+        temperatures the energy balance uses); False: values at the end of each step [°C].
+
+    Returns
+    -------
+    pandas.Series
+        θ_mr [°C] on the result index, named ``"mean_radiant"``; ``attrs["unit"]`` is "°C".
+
+    Raises
+    ------
+    TypeError
+        ``results`` is not a simulation result or ``room`` not a room record.
+    ValueError
+        The record has no surfaces, or a surface node is not in the results (a stale record).
+
+    Notes
+    -----
+    See :func:`mean_radiant_temperature` for the area-weighting simplification and its limits.
+
+    References
+    ----------
+    ISO 52016-1:2017, mean radiant temperature of a zone from its internal surface
+    temperatures (from memory); ISO 7726:1998 for the exact definition (see
+    ``docs/references.md``).
+    """
+    air, surfaces, areas = _room_fields(room)
+    table = _room_table(results, mean)
+    missing = [n for n in surfaces.values() if n not in table.columns]
+    if missing:
+        raise ValueError(
+            f"the results have no temperature for surface node(s) {missing[:4]} of room "
+            f"{getattr(room, 'name', air)!r}; simulate the network the room was built in"
+        )
+    surf = table[list(surfaces.values())].set_axis(list(surfaces), axis=1)
+    out = mean_radiant_temperature(surf, {k: areas[k] for k in surfaces})
+    out.attrs["unit"] = "°C"
+    return out
+
+
+def room_operative_temperature(results: object, room: object, *, weight_air: float = 0.5,
+                               mean: bool = True) -> pd.Series:
+    """Operative temperature of a room built by :func:`thermonet.builders.add_room`.
+
+    θ_op = A·θ_air + (1 − A)·θ_mr with θ_air the room's air node and θ_mr from
+    :func:`room_mean_radiant_temperature`.
+
+    Parameters
+    ----------
+    results : thermonet.Results
+        What :func:`thermonet.simulate` returned for the network holding the room.
+    room : thermonet.builders.Room
+        The room record (from ``add_room`` or :func:`thermonet.builders.rooms`).
+    weight_air : float, default 0.5
+        Weight A of the air temperature [–], 0 … 1 (0.5 for air speeds below 0.2 m/s, see
+        :func:`operative_temperature`).
+    mean : bool, default True
+        True: step means [°C]; False: values at the end of each step [°C].
+
+    Returns
+    -------
+    pandas.Series
+        θ_op [°C] on the result index, named ``"operative"``; ``attrs["unit"]`` is "°C".
+
+    Raises
+    ------
+    TypeError, ValueError
+        As :func:`room_mean_radiant_temperature`; ``weight_air`` outside 0 … 1.
+
+    References
+    ----------
+    ISO 7726:1998; EN 16798-1:2019 and ISO 52016-1:2017 for A = 0.5 (from memory; see
+    ``docs/references.md``).
+
+    Examples
+    --------
+    >>> top = room_operative_temperature(res, room)                       # doctest: +SKIP
+    >>> hours_above(top, 26.0)                                            # doctest: +SKIP
+    """
+    air, _, _ = _room_fields(room)
+    mrt = room_mean_radiant_temperature(results, room, mean=mean)
+    out = operative_temperature(_room_table(results, mean)[air], mrt, weight_air=weight_air)
+    out = out.rename("operative")
+    out.attrs["unit"] = "°C"
+    return out
+
+
 # --------------------------------------------------------------------------------------------
 # fixed thresholds
 # --------------------------------------------------------------------------------------------
@@ -704,6 +839,11 @@ class CriterionResult:
     unit: str
     passed: bool
     source: str = ""
+
+    def _repr_html_(self):
+        from thermonet.display import criteria_html  # display reads attributes only
+
+        return criteria_html(self.name, [self], passed=self.passed)
 
 
 def _criterion(name: str, value: float, limit: float, unit: str, source: str) -> CriterionResult:
@@ -822,12 +962,12 @@ def overheating_frequency(
     -----
     The frequency of overheating of very-low-energy (Passive House) buildings is the share of
     the hours of the year with an indoor temperature above 25 °C; it should stay below 10 %
-    (REFERENCES §5.5 [C], beispielhaus.de "Übertemperaturhäufigkeit … unter 10 Prozent");
+    (docs/references.md §5.5 [C], beispielhaus.de "Übertemperaturhäufigkeit … unter 10 Prozent");
     5 % is the recommended value (from memory).
 
     References
     ----------
-    Passive House criteria, frequency of overheating; see REFERENCES §5.5.
+    Passive House criteria, frequency of overheating; see docs/references.md §5.5.
     """
     _, step = _series_values(temp, "temp")
     mask = _occupied_mask(occupied, temp, "temp")
@@ -864,7 +1004,7 @@ def very_low_energy_overheating(
 
     References
     ----------
-    Passive House criteria: frequency of overheating (> 25 °C) below 10 % — REFERENCES §5.5
+    Passive House criteria: frequency of overheating (> 25 °C) below 10 % — docs/references.md §5.5
     [C] (https://beispielhaus.de/faq_ab-wann-gilt-passivhaus.html).
     """
     lim = _finite_number(limit, "limit")
@@ -876,7 +1016,7 @@ def very_low_energy_overheating(
         value,
         lim,
         "–",
-        "Passive House criteria, REFERENCES §5.5",
+        "Passive House criteria, docs/references.md §5.5",
     )
 
 
@@ -976,7 +1116,8 @@ def running_mean_outdoor(
                  + 0.4θ_{ed−5} + 0.3θ_{ed−6} + 0.2θ_{ed−7}) / 3.8              \\quad (2)
 
     Eq. (1) is the recursive form of θrm = (1 − α)(θed−1 + α θed−2 + α² θed−3 + …)
-    (REFERENCES §5.1 [C]); eq. (2) is the approximation the standards give where daily records
+    (docs/references.md §5.1 [C]); eq. (2) is the approximation the standards give where daily
+    records
     are short (from memory). Daily means are taken over the intervals whose MID-POINT falls
     in the day (see the module notes).
 
@@ -985,7 +1126,7 @@ def running_mean_outdoor(
     EN 16798-1:2019, Energy performance of buildings — Ventilation for buildings — Part 1,
     running mean outdoor temperature (from memory: Annex B). EN 15251:2007, Annex A.
     CIBSE TM52 (2013), The limits of thermal comfort: avoiding overheating in European
-    buildings, running mean temperature. See REFERENCES §5.1.
+    buildings, running mean temperature. See docs/references.md §5.1.
 
     Examples
     --------
@@ -1032,7 +1173,7 @@ def adaptive_comfort_temperature(trm):
     References
     ----------
     EN 16798-1:2019, adaptive criteria for buildings without mechanical cooling (from memory,
-    REFERENCES §5.2 [M]); same equation in EN 15251:2007 Annex A.
+    docs/references.md §5.2 [M]); same equation in EN 15251:2007 Annex A.
 
     Examples
     --------
@@ -1070,7 +1211,7 @@ def adaptive_limits(trm, category: str = "II") -> pd.DataFrame:
 
     References
     ----------
-    EN 16798-1:2019, adaptive criteria (from memory, REFERENCES §5.2 [M]).
+    EN 16798-1:2019, adaptive criteria (from memory, docs/references.md §5.2 [M]).
     """
     cat = _check_category(category, EN16798_ADAPTIVE_CATEGORIES, "EN 16798-1 adaptive")
     up, low = EN16798_ADAPTIVE_CATEGORIES[cat]
@@ -1153,6 +1294,14 @@ class AdaptiveAssessment:
         """Share of the assessed occupied hours within the chosen category's limits [–]."""
         return float(self.table.loc[self.category, "share_in_category"])
 
+    def _repr_html_(self):
+        from thermonet.display import table_html
+
+        return (f"<div class='tn-view'><p><strong>EN 16798-1 adaptive assessment</strong>, "
+                f"category {self.category}: {100.0 * self.share_in_category:.1f} % of the "
+                f"assessed occupied hours within the limits. Hours [h], degree-hours [K·h], "
+                f"shares [–] per category:</p>{table_html(self.table)}</div>")
+
 
 def adaptive_assessment(
     t_op: pd.Series,
@@ -1207,7 +1356,7 @@ def adaptive_assessment(
     References
     ----------
     EN 16798-1:2019, adaptive criteria for buildings without mechanical cooling (from memory,
-    REFERENCES §5.2 [M]).
+    docs/references.md §5.2 [M]).
     """
     cat = _check_category(category, EN16798_ADAPTIVE_CATEGORIES, "EN 16798-1 adaptive")
     top, step = _series_values(t_op, "t_op")
@@ -1346,8 +1495,16 @@ class TM52Result:
         """The three criteria as a DataFrame (value, limit, unit, passed, source)."""
         return _criteria_table(self.criteria)
 
+    def _repr_html_(self):
+        from thermonet.display import criteria_html
 
-_TM52_SOURCE = "CIBSE TM52 (2013), REFERENCES §5.3"
+        return criteria_html(f"CIBSE TM52, category {self.category}", self.criteria,
+                             passed=self.passed,
+                             note=f"{self.assessed_hours:g} occupied hours assessed in "
+                                  f"May–September; fails when two or more criteria fail.")
+
+
+_TM52_SOURCE = "CIBSE TM52 (2013), docs/references.md §5.3"
 
 
 def _tm52_core(
@@ -1494,7 +1651,7 @@ def tm52(
     ----------
     CIBSE TM52 (2013), The limits of thermal comfort: avoiding overheating in European
     buildings, Chartered Institution of Building Services Engineers, London, section 6.
-    Tmax for category II and the criteria: REFERENCES §5.3 [C] (CIBSE Journal Aug 2013;
+    Tmax for category II and the criteria: docs/references.md §5.3 [C] (CIBSE Journal Aug 2013;
     buildingenergyexperts.co.uk; energaia.co.uk); the We formula [M].
     """
     cat = _check_category(category, TM52_CATEGORIES, "CIBSE TM52")
@@ -1546,8 +1703,15 @@ class TM59Result:
         """The criteria as a DataFrame (value, limit, unit, passed, source)."""
         return _criteria_table(self.criteria)
 
+    def _repr_html_(self):
+        from thermonet.display import criteria_html
 
-_TM59_SOURCE = "CIBSE TM59 (2017), REFERENCES §5.4"
+        return criteria_html(f"CIBSE TM59, {self.room_type}, {self.ventilation} ventilation",
+                             self.criteria, passed=self.passed,
+                             note=f"{self.occupied_hours:g} occupied hours assessed.")
+
+
+_TM59_SOURCE = "CIBSE TM59 (2017), docs/references.md §5.4"
 
 
 def tm59(
@@ -1608,7 +1772,7 @@ def tm59(
     (b) bedrooms only: θop over the 22:00–07:00 window shall exceed 26 °C (θop > 26 °C) for
         no more than 1 % of the annual hours of that window. For a year of 365 nights the
         window holds 3285 h and 1 % is 32.85 h, so 32 h above 26 °C pass and 33 h fail
-        (REFERENCES §5.4). The window is taken by clock time (interval mid-points between
+        (docs/references.md §5.4). The window is taken by clock time (interval mid-points between
         22:00 and 07:00), independent of ``occupied``; the 1 % applies to the window hours
         actually present in the series.
 
@@ -1620,7 +1784,7 @@ def tm59(
     ----------
     CIBSE TM59 (2017), Design methodology for the assessment of overheating risk in homes,
     Chartered Institution of Building Services Engineers, London. Criteria (a) and (b):
-    REFERENCES §5.4 [C] (tek-ltd.com); 32/33 h and the mechanical criterion [M].
+    docs/references.md §5.4 [C] (tek-ltd.com); 32/33 h and the mechanical criterion [M].
     """
     if room_type not in TM59_DEFAULT_OCCUPANCY:
         raise ValueError(
@@ -1762,6 +1926,22 @@ class DemandSummary:
     very_low_energy: tuple[CriterionResult, CriterionResult] | None = None
     very_low_energy_passed: bool | None = None
 
+    def _repr_html_(self):
+        from thermonet.display import table_html
+
+        rows = [("heating energy", self.heating_kwh, "kWh"),
+                ("heating per floor area", self.heating_kwh_m2, "kWh/m²"),
+                ("peak heating (step mean)", self.heating_peak_w, "W"),
+                ("peak heating per floor area", self.heating_peak_w_m2, "W/m²")]
+        if self.cooling_kwh is not None:
+            rows += [("cooling energy", self.cooling_kwh, "kWh"),
+                     ("cooling per floor area", self.cooling_kwh_m2, "kWh/m²"),
+                     ("peak cooling (step mean)", self.cooling_peak_w, "W"),
+                     ("peak cooling per floor area", self.cooling_peak_w_m2, "W/m²")]
+        df = pd.DataFrame(rows, columns=["quantity", "value", "unit"]).set_index("quantity")
+        return (f"<div class='tn-view'><p><strong>Demand</strong> over {self.period_hours:g} h, "
+                f"floor area {self.floor_area:g} m²</p>{table_html(df)}</div>")
+
 
 def _energy_and_peak(values: np.ndarray, index: pd.DatetimeIndex, step: pd.Timedelta):
     kwh = float(values.sum() * _step_hours(step) / 1000.0)  # Wh → kWh: /1000
@@ -1809,13 +1989,13 @@ def demand_summary(
     E = Σ P·Δt / 1000 [kWh] with Δt = step [h]; the peak is the largest step-mean power, so it
     depends on the step (a 15-min peak is higher than the hourly one). Very-low-energy
     (Passive House) criteria: annual heating demand ≤ 15 kWh/(m²a) OR heating load ≤ 10 W/m²
-    of treated floor area (REFERENCES §5.5 [C]). The Passive House heating load is a
+    of treated floor area (docs/references.md §5.5 [C]). The Passive House heating load is a
     design-day calculation; the simulated peak used here is a proxy that depends on the
     weather year and the control, so treat a near-limit result with care.
 
     References
     ----------
-    Passive House criteria — REFERENCES §5.5 [C]
+    Passive House criteria — docs/references.md §5.5 [C]
     (https://study.passivehouseacademy.ac.nz/mod/glossary/showentry.php?eid=30).
     """
     area = _finite_number(floor_area, "floor_area")
@@ -1855,7 +2035,7 @@ def demand_summary(
                 f"very_low_energy=True judges ANNUAL heating demand; heating_w covers "
                 f"{period_hours:g} h, not one year (8760 h or 8784 h). Pass one full year"
             )
-        source = "Passive House criteria, REFERENCES §5.5"
+        source = "Passive House criteria, docs/references.md §5.5"
         crit = (
             _criterion("heating demand", h_kwh / area, 15.0, "kWh/(m²a)", source),
             _criterion("heating load (simulated peak)", h_peak / area, 10.0, "W/m²", source),

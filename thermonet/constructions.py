@@ -26,14 +26,16 @@ Functions
 ---------
 :func:`register_material`, :func:`get_material`
     the material registry :data:`MATERIALS`.
-:func:`surface_resistances`, :func:`surface_resistance`, :func:`radiative_coefficient`,
-:func:`external_convective_coefficient`
-    ISO 6946 surface resistances, tabulated and from coefficients.
+:func:`surface_resistances`, :func:`surface_resistance`
+    ISO 6946 surface resistances, tabulated.
+:func:`radiative_coefficient`, :func:`external_convective_coefficient`
+    ISO 6946 surface coefficients, from which the resistances follow.
 :func:`thermal_resistance`, :func:`u_value`, :func:`areal_heat_capacity`
     steady-state quantities (ISO 6946).
-:func:`penetration_depth`, :func:`layer_transfer_matrix`, :func:`resistance_transfer_matrix`,
+:func:`penetration_depth`, :func:`layer_transfer_matrix`, :func:`resistance_transfer_matrix`
+    ISO 13786 layer matrices.
 :func:`transfer_matrix`, :func:`dynamic_characteristics`
-    ISO 13786 periodic quantities.
+    ISO 13786 periodic quantities of a whole element.
 :func:`rc_chain`
     discretisation into a chain of nodes (capacities) and conductances.
 """
@@ -510,7 +512,13 @@ class Construction:
         return areal_heat_capacity(self)
 
     def reversed(self, name: str | None = None) -> Construction:
-        """The same element seen from the other side (layers in reverse order)."""
+        """The same element seen from the other side (layers in reverse order).
+
+        Parameters
+        ----------
+        name : str, optional
+            Name of the reversed construction; default ``"<name> (reversed)"``.
+        """
         return Construction(
             name if name is not None else f"{self.name} (reversed)",
             tuple(reversed(self.layers)),
@@ -518,13 +526,35 @@ class Construction:
         )
 
     def u_value(self, direction="horizontal", rsi=None, rse=None, exterior=None) -> float:
-        """Thermal transmittance [W/(m²K)]; see :func:`u_value`."""
+        """Thermal transmittance [W/(m²K)]; see :func:`u_value`.
+
+        Parameters
+        ----------
+        direction : str, default "horizontal"
+            Direction of heat flow (``"up"``, ``"horizontal"``, ``"down"``).
+        rsi, rse : float, optional
+            Surface resistances [m²K/W]; default ISO 6946 values for ``direction``.
+        exterior : {"outdoor", "ground", "internal"}, optional
+            What the outside face meets (sets Rse).
+        """
         return u_value(self, direction=direction, rsi=rsi, rse=rse, exterior=exterior)
 
     def dynamic_characteristics(
         self, period=PERIOD_DAY, direction="horizontal", rsi=None, rse=None, exterior=None
     ) -> DynamicCharacteristics:
-        """ISO 13786 periodic characteristics; see :func:`dynamic_characteristics`."""
+        """ISO 13786 periodic characteristics; see :func:`dynamic_characteristics`.
+
+        Parameters
+        ----------
+        period : float, default 86400
+            Period T [s].
+        direction : str, default "horizontal"
+            Direction of heat flow for the surface resistances.
+        rsi, rse : float, optional
+            Surface resistances [m²K/W].
+        exterior : {"outdoor", "ground", "internal"}, optional
+            What the outside face meets (sets Rse).
+        """
         return dynamic_characteristics(
             self, period=period, direction=direction, rsi=rsi, rse=rse, exterior=exterior
         )
@@ -532,6 +562,12 @@ class Construction:
     def rc_chain(self, **kwargs) -> RCChain:
         """Discretise into an RC chain; see :func:`rc_chain` for the keywords."""
         return rc_chain(self, **kwargs)
+
+    def _repr_html_(self):
+        """Layers with U-value, decrement factor and time shift (a notebook's view)."""
+        from thermonet.display import construction_html  # display reads attributes only
+
+        return construction_html(self)
 
 
 def _as_construction(construction) -> Construction:
@@ -565,7 +601,7 @@ DIRECTIONS = ("up", "horizontal", "down", "ground", "internal")
 EXTERIORS = ("outdoor", "ground", "internal")
 
 #: Convective coefficient at internal surfaces hci [W/(m²K)] by heat-flow direction,
-#: ISO 6946:2007 Annex A (informative), from memory (REFERENCES.md §2.4).
+#: ISO 6946:2007 Annex A (informative), from memory (docs/references.md §2.4).
 INTERNAL_CONVECTIVE_COEFFICIENTS = {"up": 5.0, "horizontal": 2.5, "down": 0.7}
 
 _ALIASES = {"ground": ("down", "ground"), "internal": ("horizontal", "internal")}
@@ -715,7 +751,7 @@ def external_convective_coefficient(wind_speed):
 
     References
     ----------
-    ISO 6946:2007, Annex A (informative), Formula (A.2), from memory (REFERENCES.md §2.4).
+    ISO 6946:2007, Annex A (informative), Formula (A.2), from memory (docs/references.md §2.4).
     """
     v = np.asarray(wind_speed, dtype=float)
     if np.any(~np.isfinite(v)) or np.any(v < 0.0):
@@ -946,7 +982,7 @@ def layer_transfer_matrix(conductivity, density, specific_heat, thickness, perio
 
     Notes
     -----
-    With δ = sqrt(λT/(πρc)) and ξ = d/δ (ISO 13786, REFERENCES.md §1.1):
+    With δ = sqrt(λT/(πρc)) and ξ = d/δ (ISO 13786, docs/references.md §1.1):
 
     - Z11 = Z22 = cosh ξ cos ξ + i sinh ξ sin ξ
     - Z12 = −(δ/2λ)·{sinh ξ cos ξ + cosh ξ sin ξ + i[cosh ξ sin ξ − sinh ξ cos ξ]}
@@ -1098,18 +1134,18 @@ class DynamicCharacteristics:
     y12 : complex
         Periodic thermal transmittance Y12 = −1/Z12 [W/(m²K)].
     y11_magnitude, y22_magnitude, y12_magnitude : float
-        |Y| [W/(m²K)].
+        ``|Y|`` [W/(m²K)].
     y11_time_shift, y22_time_shift : float
         Time shift of the admittances, (T/2π)·arg(Y) [h]; positive: the heat flow into the
         surface leads the temperature.
     decrement_factor : float
-        f = |Y12|/U [–].
+        f = ``|Y12|``/U [–].
     time_shift : float
         Lag of the heat flow through the element behind the outside temperature,
         (−arg(Y12)·T/2π) mod T [h], in [0, T).
     kappa1, kappa2 : float
-        Internal and external areal heat capacities κ1 = (T/2π)|(Z11 − 1)/Z12|,
-        κ2 = (T/2π)|(Z22 − 1)/Z12| [J/(m²K)], from the same matrix Z as the admittances,
+        Internal and external areal heat capacities κ1 = (T/2π)·abs((Z11 − 1)/Z12),
+        κ2 = (T/2π)·abs((Z22 − 1)/Z12) [J/(m²K)], from the same matrix Z as the admittances,
         i.e. including ``rsi`` and ``rse``; pass ``rsi=0, rse=0`` to
         :func:`dynamic_characteristics` for the surface-to-surface values.
     rsi, rse : float
@@ -1135,6 +1171,16 @@ class DynamicCharacteristics:
     rsi: float
     rse: float
     matrix: np.ndarray = field(repr=False, compare=False)
+
+    def __str__(self):
+        from thermonet.display import dynamic_characteristics_text
+
+        return dynamic_characteristics_text(self)
+
+    def _repr_html_(self):
+        from thermonet.display import dynamic_characteristics_html
+
+        return dynamic_characteristics_html(self)
 
 
 def dynamic_characteristics(
@@ -1170,8 +1216,8 @@ def dynamic_characteristics(
     With Z = Z_s2·Z_N⋯Z_1·Z_s1 (:func:`transfer_matrix`), ω = 2π/T (ISO 13786):
 
     - Y11 = −Z11/Z12, Y22 = −Z22/Z12, Y12 = −1/Z12 [W/(m²K)]
-    - f = |Y12|/U, Δt = (T/2π)·arg(Y); for Y12 the lag −arg(Y12)·T/2π is reported mod T
-    - κ1 = (T/2π)·|(Z11 − 1)/Z12|, κ2 = (T/2π)·|(Z22 − 1)/Z12| [J/(m²K)]
+    - f = ``|Y12|``/U, Δt = (T/2π)·arg(Y); for Y12 the lag −arg(Y12)·T/2π is reported mod T
+    - κ1 = (T/2π)·abs((Z11 − 1)/Z12), κ2 = (T/2π)·abs((Z22 − 1)/Z12) [J/(m²K)]
 
     For a layer much thicker than δ without surface resistance, Y11 → λ(1 + i)/δ: the
     admittance leads the temperature by exactly T/8 (3 h at 24 h).
@@ -1274,7 +1320,13 @@ class RCChain:
         return float(sum(1.0 / g for g in self.conductances))
 
     def for_area(self, area: float) -> tuple[np.ndarray, np.ndarray]:
-        """Node capacities [J/K] and link conductances [W/K] of an element of ``area`` [m²]."""
+        """Node capacities [J/K] and link conductances [W/K] of an element of ``area`` [m²].
+
+        Parameters
+        ----------
+        area : float
+            Element area [m²], > 0.
+        """
         a = _check_finite(area, "area [m²]", f"RC chain of {self.construction!r}")
         if a <= 0.0:
             raise ConstructionError(f"area must be > 0 m², got {area!r}.")
@@ -1342,7 +1394,7 @@ def rc_chain(
         layer name to the count, other layers stay automatic.
     period : float, default 86400
         Period T [s] for the penetration depth of the automatic criterion.
-    direction, exterior, rsi, rse :
+    direction, exterior, rsi, rse : optional
         Surface resistances as in :func:`u_value`; only with
         ``include_surface_resistances=True``.
     include_surface_resistances : bool, default False

@@ -31,6 +31,15 @@ class Term:
     """``value(a) − value(b) > threshold`` (op ``">"``) or ``< threshold`` (op ``"<"``).
 
     ``a`` and ``b`` are node/boundary names or :class:`Signal` objects; ``b`` may be None (0).
+
+    Attributes
+    ----------
+    a, b : str, Signal or None
+        What is compared (temperatures [°C] of nodes, or signal values).
+    op : {">", "<"}
+        Comparison.
+    threshold : float
+        Threshold of ``a − b`` in their unit ([K] for two nodes).
     """
 
     a: object
@@ -40,7 +49,15 @@ class Term:
 
 
 class Signal:
-    """A named time series used in conditions (aligned to the weather index)."""
+    """A named time series used in conditions (aligned to the weather index).
+
+    Parameters
+    ----------
+    series : pandas.Series
+        Values (any unit) with a DatetimeIndex, finite.
+    name : str, default "signal"
+        Label in messages.
+    """
 
     def __init__(self, series: pd.Series, name: str = "signal"):
         if not isinstance(series, pd.Series) or not isinstance(series.index, pd.DatetimeIndex):
@@ -56,7 +73,14 @@ class Signal:
 
 
 class Condition:
-    """An OR of AND-clauses of :class:`Term` objects."""
+    """An OR of AND-clauses of :class:`Term` objects (build them with :func:`above`,
+    :func:`warmer`, :func:`hours` ... and combine with ``&`` and ``|``).
+
+    Parameters
+    ----------
+    clauses : sequence of sequence of Term
+        The condition holds when all terms of at least one clause hold.
+    """
 
     def __init__(self, clauses):
         self.clauses = tuple(tuple(c) for c in clauses)
@@ -95,27 +119,65 @@ def _ref(x):
 
 
 def above(ref, threshold: float) -> Condition:
-    """True while the temperature (or signal) of ``ref`` is above ``threshold``."""
+    """True while the temperature (or signal) of ``ref`` is above ``threshold``.
+
+    Parameters
+    ----------
+    ref : str or Signal
+        Node name (its temperature [°C]) or a Signal (any unit).
+    threshold : float
+        Threshold in the unit of ``ref`` ([°C] for a node).
+    """
     return Condition([[Term(_ref(ref), None, ">", float(threshold))]])
 
 
 def below(ref, threshold: float) -> Condition:
-    """True while the temperature (or signal) of ``ref`` is below ``threshold``."""
+    """True while the temperature (or signal) of ``ref`` is below ``threshold``.
+
+    Parameters
+    ----------
+    ref : str or Signal
+        Node name (its temperature [°C]) or a Signal (any unit).
+    threshold : float
+        Threshold in the unit of ``ref`` ([°C] for a node).
+    """
     return Condition([[Term(_ref(ref), None, "<", float(threshold))]])
 
 
 def warmer(a, b, by: float = 0.0) -> Condition:
-    """True while ``a`` is warmer than ``b`` by more than ``by`` [K]."""
+    """True while ``a`` is warmer than ``b`` by more than ``by`` [K].
+
+    Parameters
+    ----------
+    a, b : str
+        Node or boundary names.
+    by : float, default 0.0
+        Required difference T_a − T_b [K].
+    """
     return Condition([[Term(_ref(a), _ref(b), ">", float(by))]])
 
 
 def colder(a, b, by: float = 0.0) -> Condition:
-    """True while ``a`` is colder than ``b`` by more than ``by`` [K]."""
+    """True while ``a`` is colder than ``b`` by more than ``by`` [K].
+
+    Parameters
+    ----------
+    a, b : str
+        Node or boundary names.
+    by : float, default 0.0
+        Required difference T_b − T_a [K].
+    """
     return Condition([[Term(_ref(a), _ref(b), "<", -float(by))]])
 
 
 def when(mask: pd.Series) -> Condition:
-    """True on the steps where the boolean (or 0/1) Series ``mask`` is true."""
+    """True on the steps where the boolean (or 0/1) Series ``mask`` is true.
+
+    Parameters
+    ----------
+    mask : pandas.Series
+        Boolean (or 0/1) values on the weather index.
+    """
     return Condition([[Term(Signal(mask.astype(float), name=str(mask.name or "mask")), None,
                             ">", 0.5)]])
 
@@ -126,6 +188,13 @@ def hours(start: int, end: int, index: pd.DatetimeIndex | None = None) -> Condit
     With the hour-ending convention a row labelled 23:00 covers 22:00–23:00, so
     ``hours(22, 7)`` is true for rows labelled 23:00 … 07:00. The mask is built when the
     network is compiled against the weather index unless ``index`` is given here.
+
+    Parameters
+    ----------
+    start, end : int
+        Clock hours 0–24 [h]; the window wraps midnight when ``start > end``.
+    index : pandas.DatetimeIndex, optional
+        Build the mask now on this index instead of at compile time.
     """
     for v, what in ((start, "start"), (end, "end")):
         if not (isinstance(v, (int, np.integer)) and 0 <= v <= 24):
@@ -134,13 +203,28 @@ def hours(start: int, end: int, index: pd.DatetimeIndex | None = None) -> Condit
 
 
 class HourWindow:
-    """A clock-hour window evaluated on the simulation index (interval mid-points)."""
+    """A clock-hour window evaluated on the simulation index (interval mid-points).
+
+    Parameters
+    ----------
+    start, end : int
+        Clock hours [h]; the window wraps midnight when ``start > end``.
+    """
 
     def __init__(self, start: int, end: int):
         self.start, self.end = start, end
         self.name = f"hours {start:02d}-{end:02d}"
 
     def values(self, index: pd.DatetimeIndex, step: pd.Timedelta) -> np.ndarray:
+        """1.0 in the rows whose interval mid-point falls in the window, else 0.0 [-].
+
+        Parameters
+        ----------
+        index : pandas.DatetimeIndex
+            Simulation index (interval ending).
+        step : pandas.Timedelta
+            Its step.
+        """
         mid = index - step / 2
         h = mid.hour + mid.minute / 60.0
         if self.start <= self.end:

@@ -17,7 +17,7 @@ the tables of a standard your project must follow) for any real assessment.
 Convective fraction
 -------------------
 Default 0.4 for every gain: the convective fraction of internal gains in ISO 52016-1:2017
-(from memory, REFERENCES.md §7.2 [M]); the remaining 0.6 is radiative. (ISO 13790's simple
+(from memory, docs/references.md §7.2 [M]); the remaining 0.6 is radiative. (ISO 13790's simple
 hourly method uses 0.5, see :mod:`thermonet.templates`.)
 """
 
@@ -91,7 +91,13 @@ class GainProfile:
             object.__setattr__(self, what, tuple(float(v) for v in arr))
 
     def series(self, index: pd.DatetimeIndex) -> pd.Series:
-        """The profile on a simulation index [-] (hour of each interval's mid-point)."""
+        """The profile on a simulation index [-] (hour of each interval's mid-point).
+
+        Parameters
+        ----------
+        index : pandas.DatetimeIndex
+            Simulation index (interval ending).
+        """
         # same rule as schedules.weekly_profile, written out here with day_of_week (the
         # dayofweek alias used there is deprecated in pandas 3 and warns)
         step = check_index(index, f"profile {self.name!r} index")
@@ -204,7 +210,13 @@ class Gain:
                             "number")
 
     def peak(self, floor_area: float | None = None) -> float:
-        """Peak power [W]."""
+        """Peak power [W].
+
+        Parameters
+        ----------
+        floor_area : float, optional
+            Floor area [m²], needed for gains given per m².
+        """
         if self.power_w is not None:
             return float(self.power_w)
         if floor_area is None or not float(floor_area) > 0:
@@ -212,7 +224,13 @@ class Gain:
         return float(self.w_per_m2) * float(floor_area)
 
     def fractions(self, index: pd.DatetimeIndex) -> pd.Series:
-        """Profile fractions on ``index`` [-]."""
+        """Profile fractions on ``index`` [-].
+
+        Parameters
+        ----------
+        index : pandas.DatetimeIndex
+            Simulation index (interval ending).
+        """
         p = self.profile
         if isinstance(p, GainProfile):
             return p.series(index)
@@ -230,7 +248,21 @@ class Gain:
 def occupants(people: float, *, w_per_person: float = SENSIBLE_HEAT_PER_PERSON,
               profile=RESIDENTIAL_OCCUPANCY, convective_fraction: float = CONVECTIVE_FRACTION,
               name: str = "occupants") -> Gain:
-    """Occupants: ``people`` × ``w_per_person`` [W] (sensible heat) × profile."""
+    """Occupants: ``people`` × ``w_per_person`` [W] (sensible heat) × profile.
+
+    Parameters
+    ----------
+    people : float
+        Number of occupants [-], ≥ 0.
+    w_per_person : float, default SENSIBLE_HEAT_PER_PERSON
+        Sensible heat per person [W], ≥ 0.
+    profile : GainProfile, pandas.Series or float, default the dwelling profile
+        Fraction of the peak per step [-] (a Series on the simulation index).
+    convective_fraction : float, default CONVECTIVE_FRACTION
+        Share of the gain to the air [-], 0 … 1; the rest is radiative.
+    name : str
+        Gain name (prefix of the source names).
+    """
     p = _number(people, name, "people")
     if not math.isfinite(p) or p < 0:
         raise NetworkError(f"gain {name!r}: people must be finite and ≥ 0, got {people!r}")
@@ -243,14 +275,38 @@ def occupants(people: float, *, w_per_person: float = SENSIBLE_HEAT_PER_PERSON,
 
 def lighting(w_per_m2: float, *, profile=RESIDENTIAL_LIGHTING,
              convective_fraction: float = CONVECTIVE_FRACTION, name: str = "lighting") -> Gain:
-    """Lighting: ``w_per_m2`` [W/m²] of floor area × profile."""
+    """Lighting: ``w_per_m2`` [W/m²] of floor area × profile.
+
+    Parameters
+    ----------
+    w_per_m2 : float
+        Peak lighting power per floor area [W/m²], ≥ 0.
+    profile : GainProfile, pandas.Series or float, default the dwelling profile
+        Fraction of the peak per step [-] (a Series on the simulation index).
+    convective_fraction : float, default CONVECTIVE_FRACTION
+        Share of the gain to the air [-], 0 … 1; the rest is radiative.
+    name : str
+        Gain name (prefix of the source names).
+    """
     return Gain(name, None, w_per_m2, profile, convective_fraction)
 
 
 def appliances(w_per_m2: float, *, profile=RESIDENTIAL_APPLIANCES,
                convective_fraction: float = CONVECTIVE_FRACTION,
                name: str = "appliances") -> Gain:
-    """Appliances and equipment: ``w_per_m2`` [W/m²] of floor area × profile."""
+    """Appliances and equipment: ``w_per_m2`` [W/m²] of floor area × profile.
+
+    Parameters
+    ----------
+    w_per_m2 : float
+        Peak appliance power per floor area [W/m²], ≥ 0.
+    profile : GainProfile, pandas.Series or float, default the dwelling profile
+        Fraction of the peak per step [-] (a Series on the simulation index).
+    convective_fraction : float, default CONVECTIVE_FRACTION
+        Share of the gain to the air [-], 0 … 1; the rest is radiative.
+    name : str
+        Gain name (prefix of the source names).
+    """
     return Gain(name, None, w_per_m2, profile, convective_fraction)
 
 
@@ -294,7 +350,17 @@ def gain_table(gains, index: pd.DatetimeIndex, floor_area: float | None = None) 
 
 
 def total_gains(gains, index: pd.DatetimeIndex, floor_area: float | None = None) -> pd.Series:
-    """Total internal gain per step [W] (e.g. Φ_int of :mod:`thermonet.templates`)."""
+    """Total internal gain per step [W] (e.g. Φ_int of :mod:`thermonet.templates`).
+
+    Parameters
+    ----------
+    gains : sequence of Gain
+        The gains to add up.
+    index : pandas.DatetimeIndex
+        Simulation index (interval ending).
+    floor_area : float, optional
+        Floor area [m²], needed for gains given per m².
+    """
     return gain_table(gains, index, floor_area).sum(axis=1).rename("internal_gains")
 
 

@@ -128,7 +128,17 @@ class Node(Element):
 
 @dataclass
 class Boundary(Element):
-    """A node of given temperature: a weather column name, a constant or a Series [°C]."""
+    """A node of given temperature: a weather column name, a constant or a Series [°C].
+
+    Attributes
+    ----------
+    name : str
+        Boundary name.
+    temperature : str, float or pandas.Series
+        Weather column, constant or Series [°C].
+    kind : str, default "air"
+        One of ``air, sky, ground, surface``.
+    """
 
     name: str
     temperature: str | float | pd.Series
@@ -143,6 +153,21 @@ class Link(Element):
 
     ``conductance`` [W/K] is a float, or a Series [W/K] aligned to the weather when the link is
     scheduled (a few distinct values, each with its own cached discretisation).
+
+    Attributes
+    ----------
+    name : str
+        Link name (the column of ``res.flows``).
+    a, b : str
+        First and second node; the flow is positive from ``a`` to ``b``.
+    conductance : float or pandas.Series
+        G [W/K].
+    path : str
+        Balance path.
+    kind : str, default "conductance"
+        ``"conductance"``, ``"airflow"`` or ``"radiation"``.
+    params : dict
+        What the link was made from (flow [m³/h], heat recovery [-], emissivities ...).
     """
 
     name: str
@@ -164,7 +189,19 @@ class Link(Element):
 
 @dataclass
 class Source(Element):
-    """Heat into a node [W]: a constant or a Series aligned to the weather."""
+    """Heat into a node [W]: a constant or a Series aligned to the weather.
+
+    Attributes
+    ----------
+    name : str
+        Source name (the column of ``res.sources``).
+    node : str
+        The free node that receives the heat.
+    power : float or pandas.Series
+        Heat into the node [W].
+    path : str
+        Balance path.
+    """
 
     name: str
     node: str
@@ -180,6 +217,17 @@ class Thermostat(Element):
 
     Setpoints [°C] are constants, Series or None (no heating / no cooling). Capacities [W] are
     positive (``inf`` = unlimited).
+
+    Attributes
+    ----------
+    name : str
+        Thermostat name.
+    node : str
+        The controlled free node.
+    heating_setpoint, cooling_setpoint : float, pandas.Series or None
+        Setpoints [°C].
+    max_heating_w, max_cooling_w : float
+        Capacities [W].
     """
 
     name: str
@@ -200,6 +248,17 @@ class Switch(Element):
     (default: ``on`` no longer holds), giving hysteresis when both are given. Conditions are
     evaluated at the start of each step from the node temperatures at the end of the previous
     step and the current step's boundary values and signals.
+
+    Attributes
+    ----------
+    name : str
+        Switch name.
+    on, off : Condition
+        Conditions that turn the switch on and (optionally) off.
+    link_factors, source_factors : dict of str to (float, float)
+        Target name -> (factor while off, factor while on) [-].
+    initial : bool, default False
+        State before the first step.
     """
 
     name: str
@@ -348,6 +407,11 @@ class Network:
     Build it with :meth:`add_node`, :meth:`add_boundary`, :meth:`add_link`,
     :meth:`add_airflow`, :meth:`add_radiation`, :meth:`add_source`, :meth:`add_thermostat`
     and :meth:`add_switch`; run it with :func:`thermonet.simulate`.
+
+    Parameters
+    ----------
+    name : str, default "network"
+        A label for reports and model files.
 
     Examples
     --------
@@ -575,6 +639,30 @@ class Network:
         See :func:`radiation_conductance` for the formula. With ``simulate(...,
         relinearise="D")`` (or another period) the conductance is recomputed at the start of
         each period from the mean of the two nodes' temperatures.
+
+        Parameters
+        ----------
+        a, b : str
+            The two surface nodes (free nodes or boundaries).
+        area : float
+            Area of surface a [m²], > 0.
+        path : str
+            Balance path of the link.
+        emissivity_a, emissivity_b : float, default 0.9
+            Hemispherical emissivities [-], in (0, 1].
+        view_factor : float, default 1.0
+            View factor from a to b [-].
+        area_b : float, optional
+            Area of surface b [m²]; default ``area``.
+        reference_temperature : float, default 20.0
+            Mean surface temperature at which σT⁴ is linearised [°C].
+        name : str, optional
+            Link name; default ``"<a>-<b>:<path>"``.
+
+        Returns
+        -------
+        str
+            The link name.
         """
         self._link_ends(a, b)
         _check_name(path, "path")
@@ -591,7 +679,25 @@ class Network:
     # ---------------------------------------------------------------- sources
     def add_source(self, node: str, *, power: float | pd.Series, path: str,
                    name: str | None = None) -> str:
-        """Add heat into a free node [W] (constant or Series), counted under ``path``."""
+        """Add heat into a free node [W] (constant or Series), counted under ``path``.
+
+        Parameters
+        ----------
+        node : str
+            The free node that receives the heat.
+        power : float or pandas.Series
+            Heat into the node [W] (negative: heat taken out), constant or one value per step
+            on the weather index (a step mean).
+        path : str
+            Balance path the heat is counted under (``"internal"``, ``"solar"`` ...).
+        name : str, optional
+            Source name; default ``"<node>:<path>"``.
+
+        Returns
+        -------
+        str
+            The source name.
+        """
         if node not in self.nodes:
             self._known(node, "source node")
             raise NetworkError(f"source at boundary {node!r}: a boundary's temperature is given, "
@@ -619,6 +725,13 @@ class Network:
             Setpoints [°C]; None disables heating or cooling. Heating ≤ cooling everywhere.
         max_heating_w, max_cooling_w : float, default inf
             Capacity limits [W], > 0.
+        name : str, optional
+            Thermostat name; default ``"thermostat:<node>"``.
+
+        Returns
+        -------
+        str
+            The thermostat name.
 
         Notes
         -----
@@ -679,6 +792,13 @@ class Network:
             Same for sources' powers (e.g. a blind admitting 20 % of solar: ``{sun: 0.2}``).
         initial : bool, default False
             State before the first step.
+        name : str, optional
+            Switch name.
+
+        Returns
+        -------
+        str
+            The switch name.
 
         Notes
         -----
@@ -720,6 +840,12 @@ class Network:
                      conductance_w_per_k=float(np.mean(np.asarray(l.conductance, dtype=float))))
                 for l in self.links.values()]
         return pd.DataFrame(rows)
+
+    def _repr_html_(self):
+        """Nodes by kind, links by path, totals of C and UA (a notebook's view)."""
+        from thermonet.display import network_html  # display reads attributes only
+
+        return network_html(self)
 
     def __repr__(self):
         return (f"Network({self.name!r}: {len(self.nodes)} nodes, {len(self.boundaries)} "

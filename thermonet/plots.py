@@ -69,6 +69,8 @@ from matplotlib.colors import Normalize
 
 from thermonet import comfort
 from thermonet.errors import ScheduleError
+from thermonet.labels import label as words
+from thermonet.labels import unit_of
 
 __all__ = [
     "FALLBACK_COLORS",
@@ -100,6 +102,9 @@ PATH_COLORS: dict[str, str] = {
     "infiltration": "#882255",  # wine (Tol muted)
     "ground": "#999933",  # olive (Tol muted)
     "buffer": "#44AA99",  # teal (Tol muted)
+    "adjacent": "#DDCC77",  # sand (Tol muted)
+    "window_ventilation": "#BBCC33",  # pear (Tol light)
+    "night_ventilation": "#661100",  # brown
     "storage": "#AAAAAA",  # neutral grey: heat released by / stored in the fabric
     "residual": "#000000",
 }
@@ -108,12 +113,12 @@ PATH_COLORS: dict[str, str] = {
 FALLBACK_COLORS: tuple[str, ...] = (
     "#CC6677",  # rose (Tol muted)
     "#117733",  # green (Tol muted)
-    "#DDCC77",  # sand (Tol muted)
     "#88CCEE",  # cyan (Tol muted)
-    "#AA4499",  # purple (Tol muted)
-    "#661100",  # brown
     "#6699CC",  # steel blue
     "#F0E442",  # yellow (Okabe–Ito)
+    "#AA4499",  # purple (Tol muted)
+    "#3969AC",  # denim
+    "#E68310",  # amber
 )
 
 #: Line colours for temperatures and other series that are not heat paths (Okabe–Ito order,
@@ -373,6 +378,7 @@ def balance_bars(
     drop_zero: bool = True,
     residual_tol: float = 1e-6,
     legend: bool = True,
+    xlabel: str | None = None,
 ):
     """Energy balance of a control volume by heat path, as stacked bars per period.
 
@@ -397,7 +403,10 @@ def balance_bars(
         ``residual`` is never drawn; when its largest absolute value exceeds
         ``residual_tol`` × the largest absolute term, a note on the chart says so.
     legend : bool, default True
-        Draw the legend (paths in column order) to the right of the axes.
+        Draw the legend (paths in column order, in words from :data:`thermonet.labels.LABELS`)
+        to the right of the axes.
+    xlabel : str, optional
+        x-axis label; default from the index ("Month", "Day", "Year") or "Period".
 
     Returns
     -------
@@ -454,16 +463,35 @@ def balance_bars(
             lab.set_visible(k % step == 0)
     ax.set_xlim(-0.6, len(x) - 0.4)
     ax.set_ylabel(f"Energy [{label_unit}]  (+ into, − out of the control volume)")
-    ax.set_xlabel("Period")
+    ax.set_xlabel(xlabel if xlabel is not None else _period_word(balance_df.index))
     ax.set_title(title if title is not None else "Energy balance by heat path")
     ax.grid(axis="y", color="#DDDDDD", linewidth=0.6)
     ax.set_axisbelow(True)
     terms = values[:, keep] if keep else values
+    if not keep:
+        ax.text(0.5, 0.62, "Every path is 0 in every period shown\n(e.g. no step of the "
+                "period falls in it)", transform=ax.transAxes, ha="center", va="center",
+                color="#444444")
     _residual_note(ax, residual, terms, residual_tol, label_unit)
     if legend and keep:
-        ax.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), frameon=False,
-                  title="path")
+        handles = list(ax.containers)
+        ax.legend(handles, [words(h.get_label(), unit=False) for h in handles],
+                  loc="upper left", bbox_to_anchor=(1.01, 1.0), frameon=False,
+                  title="Heat path")
     return fig, ax
+
+
+def _period_word(index: pd.Index) -> str:
+    """x label of balance periods: Month, Day or Year from the spacing of a DatetimeIndex."""
+    if isinstance(index, pd.DatetimeIndex) and len(index) > 1:
+        days = (index[1] - index[0]) / pd.Timedelta(days=1)
+        if 28 <= days <= 31:
+            return "Month"
+        if 365 <= days <= 366:
+            return "Year"
+        if days == 1:
+            return "Day"
+    return "Period"
 
 
 def balance_annual(
@@ -622,6 +650,7 @@ def temperature_bands(
     ax=None,
     title: str | None = None,
     band_label: str = "comfort band",
+    colors: Mapping[str, str] | None = None,
 ):
     """Temperatures over time against a comfort band or fixed thresholds.
 
@@ -648,6 +677,9 @@ def temperature_bands(
         Axes title.
     band_label : str, default "comfort band"
         Legend label of the shaded band.
+    colors : mapping of str to str, optional
+        Line colour per column (e.g. one colour per design option, the same in every
+        figure); columns not in it get the series colours.
 
     Returns
     -------
@@ -671,10 +703,12 @@ def temperature_bands(
     index = df.index
     fig, ax = _new_axes(ax, (10.0, 4.2))
     # the band and its limits are drawn in _BAND_COLOR: keep that colour off the lines
-    colors = _series_colors([str(c) for c in df.columns],
-                            avoid=(_BAND_COLOR,) if isinstance(bands, pd.DataFrame) else ())
+    line_colors = _series_colors([str(c) for c in df.columns],
+                                 avoid=(_BAND_COLOR,) if isinstance(bands, pd.DataFrame) else ())
+    line_colors.update({str(k): v for k, v in dict(colors or {}).items()})
     for j, col in enumerate(df.columns):
-        ax.plot(index, values[:, j], color=colors[str(col)], linewidth=1.1, label=str(col))
+        ax.plot(index, values[:, j], color=line_colors[str(col)], linewidth=1.1,
+                label=str(col))
     if outdoor is not None:
         if not isinstance(outdoor, pd.Series):
             raise TypeError(f"outdoor must be a pandas Series, got {type(outdoor).__name__}")
@@ -852,6 +886,7 @@ def duration_curve(
     unit: str = "W",
     label: str | None = None,
     title: str | None = None,
+    colors: Mapping[str, str] | None = None,
 ):
     """Duration curve: values sorted in descending order against cumulative hours.
 
@@ -868,6 +903,9 @@ def duration_curve(
         y label; default ``"<name> [<unit>]"`` for one series, ``"Value [<unit>]"`` else.
     title : str, optional
         Axes title.
+    colors : mapping of str to str, optional
+        Line colour per column (e.g. one colour per design option); others get the series
+        colours.
 
     Returns
     -------
@@ -890,10 +928,11 @@ def duration_curve(
     x = np.arange(n + 1) * dt
     fig, ax = _new_axes(ax, (8.0, 4.2))
     names = [str(c) for c in df.columns]
-    colors = _series_colors(names)
+    line_colors = _series_colors(names)
+    line_colors.update({str(k): v for k, v in dict(colors or {}).items()})
     for j, name in enumerate(names):
         v = np.sort(values[:, j])[::-1]
-        ax.plot(x, np.append(v, v[-1]), drawstyle="steps-post", color=colors[name],
+        ax.plot(x, np.append(v, v[-1]), drawstyle="steps-post", color=line_colors[name],
                 linewidth=1.3, label=name)
     ax.set_xlim(0, n * dt)
     ax.set_xlabel("Duration [h] (hours the value is reached or exceeded)")
@@ -972,7 +1011,7 @@ def adaptive_scatter(
     References
     ----------
     EN 16798-1:2019, adaptive criteria for buildings without mechanical cooling (from memory,
-    REFERENCES §5.2 [M]).
+    docs/references.md §5.2 [M]).
     """
     a = comfort.adaptive_assessment(t_op, temp_air_outdoor, category, occupied,
                                     alpha=alpha, init=init)
@@ -1033,20 +1072,6 @@ def adaptive_scatter(
 # --------------------------------------------------------------------------------------------
 # 6. design options
 # --------------------------------------------------------------------------------------------
-_SUFFIX_UNITS = (
-    ("_kwh_m2", "kWh/m²"),
-    ("_w_m2", "W/m²"),
-    ("_kwh", "kWh"),
-    ("_mwh", "MWh"),
-    ("_kw", "kW"),
-    ("_w", "W"),
-    ("_kh", "K·h"),
-    ("_h", "h"),
-    ("_pct", "%"),
-    ("_c", "°C"),
-)
-
-
 def compare_options(
     table: pd.DataFrame,
     metric: str,
@@ -1056,6 +1081,8 @@ def compare_options(
     sort: bool = True,
     highlight: str | Sequence[str] | None = None,
     title: str | None = None,
+    colors: Mapping[str, str] | None = None,
+    xlabel: str | None = None,
 ):
     """One metric of several design options as labelled horizontal bars.
 
@@ -1068,9 +1095,10 @@ def compare_options(
     ax : matplotlib.axes.Axes, optional
         Axes to draw on; default a new figure.
     unit : str, optional
-        Unit of the metric for the axis label and the value labels. Default: read from the
-        column name's suffix — ``_kwh_m2`` kWh/m², ``_w_m2`` W/m², ``_kwh`` kWh, ``_mwh`` MWh,
-        ``_kw`` kW, ``_w`` W, ``_kh`` K·h, ``_h`` h, ``_pct`` %, ``_c`` °C; pass ``unit="–"``
+        Unit of the metric for the axis label and the value labels. Default:
+        :func:`thermonet.labels.unit_of` — the label table, else the column name's suffix
+        (``_kwh_m2`` kWh/m², ``_w_m2`` W/m², ``_kwh`` kWh, ``_mwh`` MWh, ``_kw`` kW, ``_w`` W,
+        ``_kelvin_hours`` K·h, ``_h`` h, ``_pct`` %, ``_c`` °C, ``_k`` K); pass ``unit="–"``
         for a dimensionless metric.
     sort : bool, default True
         Largest value at the top; False keeps the table order (first row at the top).
@@ -1078,6 +1106,12 @@ def compare_options(
         Option(s) drawn in orange (e.g. the reference design); the others are blue.
     title : str, optional
         Axes title; default the metric name.
+    colors : mapping of str to str, optional
+        Bar colour per option (one colour per option, the same in every figure); overrides
+        ``highlight`` for the options it names.
+    xlabel : str, optional
+        x-axis label; default the metric in words with its unit
+        (:func:`thermonet.labels.label`).
 
     Returns
     -------
@@ -1104,8 +1138,7 @@ def compare_options(
         raise ValueError("table has no rows (no options to compare)")
     values = _numeric(table[[metric]], "table", allow_nan=False)[:, 0]
     if unit is None:
-        low = str(metric).lower()
-        unit = next((u for suffix, u in _SUFFIX_UNITS if low.endswith(suffix)), None)
+        unit = unit_of(str(metric))
         if unit is None:
             raise ValueError(
                 f"cannot read the unit of metric {metric!r} from its name; pass unit=..., "
@@ -1122,20 +1155,33 @@ def compare_options(
     labels = [names[k] for k in order]
     fig, ax = _new_axes(ax, (8.0, 0.9 + 0.42 * max(len(labels), 2)))
     y = np.arange(len(labels))[::-1]
-    colors = ["#E69F00" if n in marked else "#0072B2" for n in labels]
-    bars = ax.barh(y, vals, height=0.66, color=colors, edgecolor="white")
-    span = float(np.max(np.abs(vals))) or 1.0
-    for bar, v in zip(bars, vals, strict=True):
-        pad = 0.01 * span
-        ax.text(v + (pad if v >= 0 else -pad), bar.get_y() + bar.get_height() / 2,
-                f"{_fmt(v, signed=False)} {unit}", va="center",
-                ha="left" if v >= 0 else "right", fontsize=8.5)
+    given = {str(k): v for k, v in dict(colors or {}).items()}
+    bar_colors = [given.get(n, "#E69F00" if n in marked else "#0072B2") for n in labels]
+    bars = ax.barh(y, vals, height=0.66, color=bar_colors, edgecolor="white")
+    span = float(np.max(np.abs(vals)))
+    suffix = f" {unit}" if unit not in ("", "–") else ""
+    if span == 0.0:  # nothing to compare: say so instead of bars of zero length
+        ax.text(0.5, 0.5, f"0{suffix} for every option", transform=ax.transAxes,
+                ha="center", va="center", fontsize=10, color="#444444")
+        span = 1.0
+    else:
+        for bar, v in zip(bars, vals, strict=True):
+            pad = 0.01 * span
+            ax.text(v + (pad if v >= 0 else -pad), bar.get_y() + bar.get_height() / 2,
+                    f"{_fmt(v, signed=False)}{suffix}", va="center",
+                    ha="left" if v >= 0 else "right", fontsize=8.5)
     ax.set_yticks(y[::-1], labels[::-1])  # tick labels listed bottom → top
     ax.axvline(0.0, color="black", linewidth=0.8)
     lo = min(0.0, float(vals.min()))
     hi = max(0.0, float(vals.max()))
-    ax.set_xlim(lo - (0.22 * span if lo < 0 else 0.0), hi + (0.22 * span if hi > 0 else 0.02))
-    ax.set_xlabel(f"{metric} [{unit}]")
+    # room for the value labels ("1,234 kWh/m²") beside the longest bar
+    room = 0.34 * span
+    ax.set_xlim(lo - (room if lo < 0 else 0.0), hi + (room if hi > 0 else 0.02 * span))
+    if not np.any(vals):
+        ax.set_xticks([])  # an empty scale would only show meaningless fractions
+    ax.set_xlabel(xlabel if xlabel is not None else
+                  (f"{words(str(metric), unit=False)} [{unit}]" if suffix else
+                   words(str(metric), unit=False)))
     ax.set_ylabel("Design option")
     ax.set_title(title if title is not None else str(metric))
     ax.grid(axis="x", color="#DDDDDD", linewidth=0.6)

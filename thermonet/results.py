@@ -248,6 +248,12 @@ class Results:
         out["worst_residual"] = self.worst_residual()
         return pd.Series(out, dtype=object)
 
+    def _repr_html_(self):
+        """How the run went and its heating/cooling summary (a notebook's view)."""
+        from thermonet.display import results_html  # display reads attributes only
+
+        return results_html(self)
+
     def __repr__(self):
         i = self.info
         return (f"Results({i['method']}, {i['steps']} steps of {i['step_s']:.0f} s, "

@@ -15,6 +15,13 @@ from thermonet.errors import ScheduleError
 def check_index(index: pd.DatetimeIndex, what: str = "weather") -> pd.Timedelta:
     """Check a simulation index and return its step.
 
+    Parameters
+    ----------
+    index : pandas.DatetimeIndex
+        The simulation index.
+    what : str, default "weather"
+        How the index is named in error messages.
+
     Raises
     ------
     ScheduleError
@@ -49,6 +56,15 @@ def align(series: pd.Series, index: pd.DatetimeIndex, what: str) -> np.ndarray:
 
     The Series must carry exactly the timestamps of ``index`` (any time zone; compared as
     instants). Nothing is interpolated or filled.
+
+    Parameters
+    ----------
+    series : pandas.Series
+        The schedule.
+    index : pandas.DatetimeIndex
+        The simulation index.
+    what : str
+        How the schedule is named in error messages.
     """
     if not isinstance(series.index, pd.DatetimeIndex):
         raise ScheduleError(f"{what}: needs a DatetimeIndex aligned to the weather")
@@ -80,6 +96,8 @@ def weekly_profile(index: pd.DatetimeIndex, weekday, weekend=None, *, name=None)
         interval mid-point falls in, in the index's local time.
     weekday, weekend : sequence of 24 floats
         Values for hours 0–23 (Monday–Friday, Saturday–Sunday; weekend defaults to weekday).
+    name : str, optional
+        Name of the returned Series.
 
     Returns
     -------

@@ -93,7 +93,7 @@ IAM_MODELS: dict[str, dict[str, float]] = {
 INTERVALS: tuple[str, ...] = ("ending", "beginning", "instant")
 
 #: Share of transmitted solar given directly to the room air [-]: 0.1, the convective
-#: fraction of solar gains in ISO 52016-1:2017 (from memory, REFERENCES.md §7.2 [M]).
+#: fraction of solar gains in ISO 52016-1:2017 (from memory, docs/references.md §7.2 [M]).
 SOLAR_CONVECTIVE_FRACTION = 0.1
 
 #: Share of transmitted solar absorbed by the floor in the ``"floor"`` method of
@@ -1710,7 +1710,13 @@ class MovableShading:
 
     def admitted_fraction(self, deployed):
         """Share of the transmitted gain admitted per step [-]: ``factor`` where deployed, 1
-        elsewhere — for ``window_transmitted(..., shading=...)``."""
+        elsewhere — for ``window_transmitted(..., shading=...)``.
+
+        Parameters
+        ----------
+        deployed : bool array or pandas.Series
+            Whether the device is deployed in each step.
+        """
         d = np.asarray(deployed, dtype=bool)
         return _like(np.where(d, self.factor, 1.0), deployed, name="admitted_fraction")
 
@@ -1752,7 +1758,7 @@ def solar_shares(surfaces, *, floor="floor", air="air", method="floor"):
     ----------
     ISO 52016-1:2017, Energy performance of buildings — Energy needs for heating and
     cooling ... — Part 1: Calculation procedures: convective fraction of solar gains 0.1
-    (from memory; REFERENCES.md §7.2 [M]).
+    (from memory; docs/references.md §7.2 [M]).
     """
     if not isinstance(surfaces, Mapping) or not surfaces:
         raise NetworkError("surfaces must be a non-empty mapping name -> area [m²]")

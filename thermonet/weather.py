@@ -245,6 +245,11 @@ def _check_coordinate(name: str, value: float, low: float, high: float) -> None:
 def site_of(df: pd.DataFrame) -> Site:
     """Return the :class:`Site` stored in ``df.attrs["site"]``.
 
+    Parameters
+    ----------
+    df : pandas.DataFrame
+        A weather frame (from :func:`from_dataframe` or a reader).
+
     Raises
     ------
     WeatherError
@@ -1212,7 +1217,7 @@ def sky_emissivity_berdahl_martin(temp_dew, hour=None, pressure=None, cloud_cove
     Notes
     -----
     Clear sky (Berdahl & Martin 1984; the diurnal and pressure terms as quoted in
-    REFERENCES.md §6, from memory), with T_dp in °C, t in hours, P in mbar:
+    docs/references.md §6, from memory), with T_dp in °C, t in hours, P in mbar:
 
     .. math::
         \\varepsilon_0 = 0.711 + 0.56\\,\\frac{T_{dp}}{100} + 0.73\\left(\\frac{T_{dp}}{100}

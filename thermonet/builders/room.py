@@ -9,7 +9,8 @@ a small record (:class:`Room`) naming what it created.
 Heat paths (the ``path`` label of every link and source)
 --------------------------------------------------------
 =================== =====================================================================
-``"opaque"``        walls, roofs, floors and doors to outdoor air and sky
+``"opaque"``        walls, roofs, floors and doors to outdoor air and sky, and the sun
+                    absorbed on their outer faces (sources ``<room>.<element>:solar_absorbed``)
 ``"glazing"``       windows to outdoor air and sky
 ``"ground"``        floors and basement walls into the soil, soil to the deep ground
 ``"buffer"``        heat through elements and airflow between a heated zone and an
@@ -19,7 +20,7 @@ Heat paths (the ``path`` label of every link and source)
 ``"internal"``      links between two nodes of the same zone (convection and radiation
                     between room air, surfaces and the radiant star node, conduction inside
                     elements) and, from :mod:`thermonet.gains`, internal gains
-``"solar"``         transmitted solar gains and solar absorbed on exterior surfaces
+``"solar"``         solar gains transmitted by windows
 ``"infiltration"``, ``"ventilation"``, ``"window_ventilation"``  airflows
 =================== =====================================================================
 
@@ -1073,13 +1074,15 @@ def add_room(net: Network, name: str, *, floor_area: float, height: float,
     furniture_capacity : float, default 0
         Heat capacity of furniture lumped with the air [J/K], ≥ 0.
     outdoor : str, default "outdoor"
-        Outdoor-air boundary, reused if it exists, else created with ``outdoor_temperature``
-        (default weather column ``"temp_air"``).
+        Outdoor-air boundary, reused if it exists, else created with ``outdoor_temperature``.
+    outdoor_temperature : str, float or pandas.Series, default "temp_air"
+        Temperature of a new outdoor boundary [°C]: a weather column, a constant or a Series.
     sky : str or None, default "sky"
         Sky boundary (kind ``"sky"``) for exterior long-wave exchange, reused or created with
-        ``sky_temperature`` (default weather column ``"temp_sky"``, see
-        :func:`thermonet.weather.add_sky_temperature`). None: exterior radiation goes to the
-        outdoor air instead.
+        ``sky_temperature``. None: exterior radiation goes to the outdoor air instead.
+    sky_temperature : str, float or pandas.Series, default "temp_sky"
+        Temperature of a new sky boundary [°C] (weather column, see
+        :func:`thermonet.weather.add_sky_temperature`).
     ground, ground_temperature : str, and float, str or Series
         Deep-ground boundary of the soil columns (kind ``"ground"``): a constant annual mean
         [°C], a column such as ``"temp_ground_2m"`` (:func:`thermonet.weather.
@@ -1326,7 +1329,11 @@ def add_room(net: Network, name: str, *, floor_area: float, height: float,
                     direction).rse)
                 if weather is not None and elem.solar_absorptance > 0:
                     q = irradiance(tilt, az) * (float(elem.solar_absorptance) * a_op)
-                    rec.sources.append(net.add_source(se, power=q.rename(None), path="solar",
+                    # booked under the element's own path ("opaque"): the control volume
+                    # of the room holds the outer face, so the sun absorbed there and the
+                    # heat it returns to outdoor air and sky net out in one path, and
+                    # "solar" stays the gain through the windows
+                    rec.sources.append(net.add_source(se, power=q.rename(None), path=path,
                                                       name=f"{base}:solar_absorbed"))
             elif kind == "zone":
                 _film_to_zone(net, rec, se, other, direction, a_op, path, base)
@@ -1457,6 +1464,20 @@ def add_buffer(net: Network, name: str, **kwargs) -> Room:
     own air (node kind ``"buffer"``) and fabric. Couple it to a heated room with an element
     whose ``boundary`` is the buffer's :class:`Room` (conduction, path ``"buffer"``) and with
     :func:`add_buffer_exchange` (airflow, path ``"buffer"``).
+
+    Parameters
+    ----------
+    net : Network
+        Network to add to.
+    name : str
+        Zone name; also the name of its air node.
+    **kwargs
+        Keywords of :func:`add_room` (``floor_area`` [m²], ``height`` [m], ``elements``,
+        ``weather`` ...), except ``heated``.
+
+    Returns
+    -------
+    Room
     """
     if "heated" in kwargs:
         raise NetworkError("add_buffer builds an unheated zone; do not pass heated=")
@@ -1465,7 +1486,7 @@ def add_buffer(net: Network, name: str, **kwargs) -> Room:
 
 # ------------------------------------------------------------------------------ airflow
 #: Shielding coefficients e [-] of the ISO 13789 / EN 832 infiltration estimate, by number
-#: of exposed façades and shielding class (from memory, REFERENCES.md §4 [M]).
+#: of exposed façades and shielding class (from memory, docs/references.md §4 [M]).
 _SHIELDING_E = {
     ("several", "none"): 0.10, ("several", "moderate"): 0.07, ("several", "heavy"): 0.04,
     ("one", "none"): 0.03, ("one", "moderate"): 0.02, ("one", "heavy"): 0.01,
@@ -1485,17 +1506,23 @@ def infiltration_rate(n50=None, *, q50=None, envelope_area=None, volume=None,
     q50 : float, optional
         Air permeability at 50 Pa [m³/(h·m²)] of the envelope area, with ``envelope_area``
         [m²] and ``volume`` [m³]: n50 = q50·A_E/V.
+    envelope_area : float, optional
+        Envelope area A_E [m²] for ``q50``.
+    volume : float, optional
+        Air volume V [m³] for ``q50`` and for an unbalanced flow.
     method : {"iso13789", "divide20"}, default "iso13789"
         ``"iso13789"``: n = n50·e / (1 + (f/e)·(Δq/(V·n50))²) with shielding coefficient e and
         f (EN 832 / ISO 13789 / ISO 13790 style, from memory); Δq = ``unbalanced_flow_m3h``
         (0 for balanced mechanical ventilation or none), giving n = e·n50.
         ``"divide20"``: n = n50/20 (Kronvall and Persily's rule, Meier 1986 [C]).
     shielding : {"none", "moderate", "heavy"}, default "moderate"
+        Shielding class of the building by its surroundings.
     exposed_facades : {"several", "one"}, default "several"
-        e = 0.10 / 0.07 / 0.04 (several façades: no / moderate / heavy shielding),
-        0.03 / 0.02 / 0.01 (one façade); f = 15 (several), 20 (one) — from memory.
+        Façades exposed to the wind; e = 0.10 / 0.07 / 0.04 (several façades: no /
+        moderate / heavy shielding), 0.03 / 0.02 / 0.01 (one façade); f = 15 (several),
+        20 (one) — from memory.
     unbalanced_flow_m3h : float, default 0
-        |supply − exhaust| of mechanical ventilation [m³/h] (needs ``volume``).
+        abs(supply − exhaust) of mechanical ventilation [m³/h] (needs ``volume``).
 
     Returns
     -------
@@ -1555,6 +1582,38 @@ def add_infiltration(net: Network, zone, *, ach=None, flow_m3h=None, n50=None, q
     ``envelope_area`` [m²]; the test results are converted with :func:`infiltration_rate`
     (``method``, ``shielding``, ``exposed_facades``). The conductance is ρc·V̇ with
     ρc = 1200 J/(m³K) (ISO 13789, from memory): 0.333 W per m³/h per K.
+
+    Parameters
+    ----------
+    net : Network
+        Network holding the zone.
+    zone : Room
+        The zone (from :func:`add_room` or a template zone).
+    ach : float or pandas.Series, optional
+        Infiltration air change rate [1/h].
+    flow_m3h : float or pandas.Series, optional
+        Infiltration airflow [m³/h].
+    n50 : float, optional
+        Air change rate at 50 Pa [1/h] (converted with :func:`infiltration_rate`).
+    q50 : float, optional
+        Air permeability at 50 Pa [m³/(h·m²)], with ``envelope_area``.
+    envelope_area : float, optional
+        Envelope area [m²] for ``q50``.
+    method, shielding, exposed_facades : str
+        Passed to :func:`infiltration_rate` (``"iso13789"``, ``"moderate"``,
+        ``"several"`` by default).
+    name : str, optional
+        Link name; default ``"<zone>:infiltration"``.
+
+    Returns
+    -------
+    str
+        Link name.
+
+    Raises
+    ------
+    NetworkError
+        Not exactly one of ``ach``, ``flow_m3h``, ``n50``, ``q50``, or invalid values.
     """
     zone = _zone(zone, "add_infiltration")
     given = [k for k, v in dict(ach=ach, flow_m3h=flow_m3h, n50=n50, q50=q50).items()
@@ -1646,6 +1705,23 @@ def night_ventilation(air: str, outdoor: str = "outdoor", *, indoor_above: float
 
     ``tn.above(air, indoor_above) & tn.warmer(air, outdoor, warmer_by) & tn.hours(start, end)``
     (thresholds [°C], [K], clock hours; common practice, no source).
+
+    Parameters
+    ----------
+    air : str
+        Indoor air node.
+    outdoor : str, default "outdoor"
+        Outdoor-air boundary.
+    indoor_above : float, default 24.0
+        Indoor air temperature above which to ventilate [°C].
+    warmer_by : float, default 1.0
+        Required excess of indoor over outdoor air temperature [K].
+    start, end : int, default 22 and 7
+        Clock hours of the night window [h], wrapping midnight when ``start > end``.
+
+    Returns
+    -------
+    Condition
     """
     return above(air, indoor_above) & warmer(air, outdoor, warmer_by) & hours(start, end)
 
@@ -1657,6 +1733,10 @@ def add_window_opening(net: Network, zone, *, open_when: Condition, close_when=N
 
     Parameters
     ----------
+    net : Network
+        Network holding the zone.
+    zone : Room
+        The zone whose air is exchanged with its outdoor boundary.
     open_when : Condition
         Opens the windows, e.g. :func:`night_ventilation` or
         ``tn.above(room.air, 24) & tn.warmer(room.air, "outdoor", 1) & tn.hours(22, 7)``.
@@ -1665,6 +1745,9 @@ def add_window_opening(net: Network, zone, *, open_when: Condition, close_when=N
     flow_m3h, ach : float
         Airflow while open [m³/h] or [1/h] (one of them).
     path : str, default "window_ventilation"
+        Balance path of the airflow.
+    name : str, optional
+        Link name; default ``"<zone>:window_opening"``.
 
     Returns
     -------
@@ -1697,11 +1780,16 @@ def add_buffer_exchange(net: Network, room, buffer, *, flow_m3h, schedule=None,
 
     Parameters
     ----------
+    net : Network
+        Network holding both zones.
     room, buffer : Room
+        The heated room and the buffer space (:func:`add_buffer`).
     flow_m3h : float
         Exchange flow each way [m³/h], ≥ 0.
     schedule : pandas.Series, optional
         Fraction per step [-], ≥ 0 (e.g. a vestibule door opening schedule).
+    name : str, optional
+        Link name; default ``"<room>-<buffer>:exchange"``.
 
     Returns
     -------

@@ -1,6 +1,6 @@
 """Templates: the ISO 13790:2008 simple hourly 5R1C zone built from ordinary nodes and links.
 
-The 5R1C zone (ISO 13790:2008 Annex C, REFERENCES.md §7.1, from memory, high confidence) has
+The 5R1C zone (ISO 13790:2008 Annex C, docs/references.md §7.1, from memory, high confidence) has
 three free nodes and the outdoor air:
 
 ======== ================= ============================================================
@@ -70,7 +70,29 @@ MASS_CLASSES = {
 
 @dataclass(frozen=True)
 class Iso13790Parameters:
-    """Conductances [W/K], areas [m²] and capacity [J/K] of a 5R1C zone."""
+    """Conductances [W/K], areas [m²] and capacity [J/K] of a 5R1C zone.
+
+    Attributes
+    ----------
+    floor_area : float
+        Conditioned floor area A_f [m²].
+    a_t : float
+        Area of all surfaces facing the zone A_t = Λ_at·A_f [m²].
+    a_m : float
+        Effective mass area A_m [m²].
+    c_m : float
+        Internal heat capacity C_m [J/K].
+    h_tr_is : float
+        Coupling air – star node H_tr,is = h_is·A_t [W/K].
+    h_tr_ms : float
+        Coupling star – mass node H_tr,ms = h_ms·A_m [W/K].
+    h_tr_em : float
+        Outdoor – mass node H_tr,em [W/K].
+    h_tr_op : float
+        Transmission of the opaque elements H_tr,op [W/K].
+    h_tr_w : float
+        Transmission of windows and light elements H_tr,w [W/K].
+    """
 
     floor_area: float
     a_t: float
@@ -161,7 +183,23 @@ def iso13790_parameters(floor_area, h_tr_op, h_tr_w, *, mass_class="medium", a_m
 
 @dataclass
 class Iso13790Zone:
-    """What :func:`add_iso13790_zone` created."""
+    """What :func:`add_iso13790_zone` created.
+
+    Attributes
+    ----------
+    name, air, star, mass, outdoor : str
+        Zone name and the names of its air, star and mass nodes and outdoor boundary.
+    volume : float or None
+        Air volume [m³] (for airflows given in air changes).
+    floor_area : float
+        Conditioned floor area [m²].
+    parameters : Iso13790Parameters
+        The 5R1C conductances and capacity.
+    heated : bool, default True
+        Whether the zone is heated (air node kind).
+    nodes, links, sources, switches : list of str
+        Everything created for the zone, including later airflows and gains.
+    """
 
     name: str
     air: str
@@ -267,6 +305,11 @@ def iso13790_zones(net: Network) -> dict[str, Iso13790Zone]:
     Kept in ``net.meta["builders"]["iso13790_zones"]`` (plain JSON), so they survive a model
     file round trip (:func:`thermonet.io.save_model` / :func:`~thermonet.io.load_model`);
     the returned zones share their lists with the record.
+
+    Parameters
+    ----------
+    net : Network
+        The network to read the records from.
 
     Raises
     ------

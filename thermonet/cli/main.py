@@ -72,6 +72,18 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 def main(argv=None) -> int:
+    """Run the ``thermonet`` command line.
+
+    Parameters
+    ----------
+    argv : list of str, optional
+        Arguments without the program name; default ``sys.argv[1:]``.
+
+    Returns
+    -------
+    int
+        Exit code (0 on success; see :mod:`thermonet.cli.run` for the others).
+    """
     parser = build_parser()
     args = parser.parse_args(argv)
     if not getattr(args, "func", None):

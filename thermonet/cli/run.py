@@ -42,9 +42,13 @@ A CSV whose first column is the time stamp (ISO 8601, preferably with UTC offset
 the END of each interval) and whose other columns carry pvlib names and thermonet units
 (``temp_air`` [°C], ``ghi``/``dni``/``dhi`` [W/m²], ...), as written by
 ``weather_samples/generate.py``; lines starting with ``#`` are comments. The site comes from
-``--latitude/--longitude/--elevation/--tz`` or from a JSON sidecar next to the CSV with the
+``--latitude/--longitude/--elevation/--tz``, from a JSON sidecar next to the CSV with the
 same stem (``fernhollow_sample.json``: ``{"latitude": 48.3, "longitude": 11.9,
-"elevation": 480, "tz": "Etc/GMT-1", "name": "..."}``); options override the sidecar. The
+"elevation": 480, "tz": "Etc/GMT-1", "name": "..."}``) or from the file's own comment lines
+when they state it as ``(48.3N 11.9E 480 m, UTC+1)`` (:func:`site_from_header`, as the sample
+files do); options override the sidecar, the sidecar overrides the header. A model that reads
+no irradiance column (``ghi``, ``dni``, ``dhi``: nothing in it uses the sun at run time) needs
+no site at all; its weather is then checked without the irradiance closure test. The
 frame is checked with :func:`thermonet.weather.from_dataframe`; the columns the model reads
 are required, except two derived boundaries that typical-year files do not carry: when the
 model reads ``temp_sky`` or ``temp_ground_<depth>m`` (as models made by
@@ -104,6 +108,7 @@ __all__ = [
     "run_command",
     "check_command",
     "read_weather_csv",
+    "site_from_header",
     "SiteMissingError",
     "model_summary",
     "format_model_summary",
@@ -133,7 +138,7 @@ EXIT_HELP = """exit codes:
 """
 
 #: Comfort thresholds [°C]: hours above 25/26/28 °C (25 °C: very-low-energy overheating
-#: frequency, REFERENCES §5.5 [C]; 26 and 28 °C: common practice, no source).
+#: frequency, docs/references.md §5.5 [C]; 26 and 28 °C: common practice, no source).
 COMFORT_THRESHOLDS = (25.0, 26.0, 28.0)
 
 #: The tables ``thermonet run`` writes: name -> (description, unit).
@@ -306,9 +311,59 @@ def _sidecar(path: Path) -> dict:
     return data
 
 
+#: Site in a comment line: "(48.3N 11.9E 480 m, UTC+1)"; elevation and offset optional.
+_HEADER_SITE = re.compile(
+    r"(\d+(?:\.\d+)?)\s*([NS])[\s,]+(\d+(?:\.\d+)?)\s*([EW])"
+    r"(?:[\s,]+(-?\d+(?:\.\d+)?)\s*m\b)?(?:[\s,]+UTC\s*([+-]\d{1,2}))?")
+
+#: Irradiance columns: a model that reads one of them uses the sun (and its site).
+SOLAR_COLUMNS = ("ghi", "dni", "dhi")
+
+
+def site_from_header(path) -> dict:
+    """The site stated in the leading ``#`` comment lines of a weather CSV, if any.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        The weather CSV.
+
+    Returns
+    -------
+    dict
+        ``latitude`` [°N], ``longitude`` [°E] and, when stated, ``elevation`` [m] and ``tz``
+        (``"UTC+1"`` → ``"Etc/GMT-1"``, the fixed-offset zone); empty when no comment line
+        has the pattern ``48.3N 11.9E 480 m, UTC+1`` (S and W give negative values).
+    """
+    try:
+        with open(path, encoding="utf-8") as fh:
+            lines = []
+            for line in fh:
+                if not line.startswith("#"):
+                    break
+                lines.append(line)
+    except (OSError, UnicodeDecodeError):
+        return {}
+    for line in lines:
+        m = _HEADER_SITE.search(line)
+        if m is None:
+            continue
+        lat = float(m.group(1)) * (-1.0 if m.group(2) == "S" else 1.0)
+        lon = float(m.group(3)) * (-1.0 if m.group(4) == "W" else 1.0)
+        site = {"latitude": lat, "longitude": lon}
+        if m.group(5) is not None:
+            site["elevation"] = float(m.group(5))
+        if m.group(6) is not None:
+            off = int(m.group(6))
+            # POSIX-style zone names invert the sign: UTC+1 is "Etc/GMT-1"
+            site["tz"] = "UTC" if off == 0 else f"Etc/GMT{-off:+d}"
+        return site
+    return {}
+
+
 def read_weather_csv(path, *, latitude=None, longitude=None, elevation=None, tz=None,
                      name=None, label: str = "end", required=(),
-                     closure_check: bool = True) -> pd.DataFrame:
+                     closure_check: bool = True, needs_site: bool = True) -> pd.DataFrame:
     """Read a weather CSV into a validated thermonet weather frame.
 
     Parameters
@@ -316,7 +371,8 @@ def read_weather_csv(path, *, latitude=None, longitude=None, elevation=None, tz=
     path : str or os.PathLike
         CSV with the time stamp in the first column; ``#`` lines are comments.
     latitude, longitude : float, optional
-        Site [°N, °E]; default from the JSON sidecar ``<stem>.json``.
+        Site [°N, °E]; default from the JSON sidecar ``<stem>.json``, else from the file's
+        comment lines (:func:`site_from_header`).
     elevation : float, optional
         Site elevation [m]; default from the sidecar, else 0.
     tz : str, optional
@@ -330,6 +386,11 @@ def read_weather_csv(path, *, latitude=None, longitude=None, elevation=None, tz=
         Columns that must be present (those the model reads).
     closure_check : bool, default True
         Apply the ghi/dni/dhi closure test (only when all three columns are present).
+    needs_site : bool, default True
+        False when nothing that will use the weather needs the sun's position (a model
+        reading none of ``ghi``, ``dni``, ``dhi``): an unknown site is then accepted, the
+        frame carries no ``attrs["site"]`` and the closure test (which needs the sun) is
+        skipped.
 
     Returns
     -------
@@ -341,7 +402,8 @@ def read_weather_csv(path, *, latitude=None, longitude=None, elevation=None, tz=
     OSError
         If the file cannot be read.
     SiteMissingError
-        If neither the options nor a sidecar give latitude and longitude.
+        If neither the options, a sidecar nor the header give latitude and longitude (and
+        ``needs_site`` is True).
     WeatherError
         Unparsable time stamps or numbers, or any check of
         :func:`thermonet.weather.validate`.
@@ -349,15 +411,18 @@ def read_weather_csv(path, *, latitude=None, longitude=None, elevation=None, tz=
     from thermonet.weather import CLOSURE_LIMITS, from_dataframe
 
     path = Path(path)
-    site = _sidecar(path)
+    site = {**site_from_header(path), **_sidecar(path)}
     for key, value in (("latitude", latitude), ("longitude", longitude),
                        ("elevation", elevation), ("tz", tz), ("name", name)):
         if value is not None:
             site[key] = value
-    if "latitude" not in site or "longitude" not in site:
-        raise SiteMissingError(f"weather {path.name}: the site is unknown; pass --latitude and "
-                           f"--longitude (or write {path.with_suffix('.json').name} with "
-                           "latitude, longitude, elevation, tz)")
+    known = "latitude" in site and "longitude" in site
+    if not known and needs_site:
+        raise SiteMissingError(f"weather {path.name}: the site is unknown and the model uses "
+                               "the sun (it reads irradiance); pass --latitude and --longitude "
+                               f"(or write {path.with_suffix('.json').name} with latitude, "
+                               "longitude, elevation, tz, or state it in a comment line as "
+                               "'(48.3N 11.9E 480 m, UTC+1)')")
     if not path.is_file():
         raise FileNotFoundError(f"weather file {path} does not exist")
     try:
@@ -388,6 +453,8 @@ def read_weather_csv(path, *, latitude=None, longitude=None, elevation=None, tz=
     df = raw.astype(float)
     closure = CLOSURE_LIMITS if closure_check and {"ghi", "dni", "dhi"} <= set(df.columns) \
         else None
+    if not known:
+        return _weather_without_site(df, path, site.get("tz"), label, required)
     try:
         return from_dataframe(
             df, latitude=site["latitude"], longitude=site["longitude"],
@@ -396,6 +463,24 @@ def read_weather_csv(path, *, latitude=None, longitude=None, elevation=None, tz=
             required=list(required), closure_limits=closure)
     except ScheduleError as exc:  # index problems reported by a shared helper
         raise WeatherError(str(exc)) from exc
+
+
+def _weather_without_site(df, path: Path, tz, label: str, required) -> pd.DataFrame:
+    """Validate a frame whose site is unknown (not needed): no closure test, no site."""
+    from thermonet.weather import validate
+
+    if tz is not None:
+        df = df.tz_localize(tz) if df.index.tz is None else df.tz_convert(tz)
+    df.attrs = {"source": f"CSV file {path.name}; site unknown (not needed: the model reads "
+                          "no irradiance)"}
+    try:
+        out = validate(df, list(required), closure_limits=None)
+    except ScheduleError as exc:
+        raise WeatherError(str(exc)) from exc
+    if label == "start":
+        out.index = out.index + (out.index[1] - out.index[0])
+        out.attrs["source"] += "; labels moved from interval start to interval end"
+    return out
 
 
 _GROUND_COLUMN = re.compile(r"temp_ground_(\d+(?:\.\d+)?)m")
@@ -464,7 +549,8 @@ def _weather_from_args(args, required, say=None) -> pd.DataFrame:
             args.weather, latitude=args.latitude, longitude=args.longitude,
             elevation=args.elevation, tz=args.tz, label=args.label,
             required=[c for c in required if not _derivable(c)],
-            closure_check=not args.no_closure_check)
+            closure_check=not args.no_closure_check,
+            needs_site=any(c in SOLAR_COLUMNS for c in required))
         weather, added = add_derived_columns(weather, required)
         if added and say is not None:
             say(f"derived weather column(s) {', '.join(added)} (sky: Berdahl–Martin; "
@@ -615,7 +701,15 @@ def model_summary(net, weather: pd.DataFrame | None = None, *, max_eigen_nodes: 
 
 
 def format_model_summary(s: dict, *, max_nodes: int = 30) -> str:
-    """The text ``thermonet check`` prints for a :func:`model_summary`."""
+    """The text ``thermonet check`` prints for a :func:`model_summary`.
+
+    Parameters
+    ----------
+    s : dict
+        What :func:`model_summary` returned.
+    max_nodes : int, default 30
+        Largest number of nodes listed by name.
+    """
     lines = [f"network {s['name']!r}: {s['nodes']} nodes, {s['boundaries']} boundaries, "
              f"{s['links']} links, {s['sources']} sources, {s['thermostats']} thermostats, "
              f"{s['switches']} switches",
@@ -651,7 +745,13 @@ def format_model_summary(s: dict, *, max_nodes: int = 30) -> str:
 
 
 def check_command(args) -> int:
-    """Handler of ``thermonet check``: validate a model file, print its summary."""
+    """Handler of ``thermonet check``: validate a model file, print its summary.
+
+    Parameters
+    ----------
+    args : argparse.Namespace
+        Parsed options of ``thermonet check`` (model, optional weather and site).
+    """
     try:
         mf = _model_from_args(args)
         weather = None
@@ -685,6 +785,13 @@ def comfort_table(res, net) -> pd.DataFrame:
     ``degree_hours_above_26_kh`` [K·h], ``overheating_frequency_25`` [-] (share of all hours
     above 25 °C, the very-low-energy criterion of :func:`thermonet.comfort.overheating_frequency`),
     ``max_c`` and ``mean_c`` [°C]. One row per node of kind ``air``.
+
+    Parameters
+    ----------
+    res : thermonet.Results
+        The simulation.
+    net : Network
+        Its network (the air nodes are read from it).
     """
     rows = {}
     tm = res.mean_temperatures
@@ -870,6 +977,11 @@ def run_command(args) -> int:
     The results are written into a staging folder beside ``--out`` and swapped in as one
     unit at the end (:class:`thermonet.io.files.OutputFolder`): an interrupted or failed
     run leaves ``--out`` as it was. Ctrl-C exits with 130 and removes the staging folder.
+
+    Parameters
+    ----------
+    args : argparse.Namespace
+        Parsed options of ``thermonet run`` (model, weather, out, site, step, warm-up ...).
     """
     say = _Progress("run", getattr(args, "quiet", False),
                     getattr(args, "progress_every", PROGRESS_EVERY))

@@ -618,6 +618,13 @@ def dumps(net: Network, *, weather_columns=None) -> str:
     """The model file of a network as JSON text (short elements on one line each).
 
     See :func:`to_dict` for the parameters and errors.
+
+    Parameters
+    ----------
+    net : Network
+        The network to write.
+    weather_columns : sequence of str, optional
+        Weather columns the model needs (see :func:`to_dict`).
     """
     return _pretty(to_dict(net, weather_columns=weather_columns)) + "\n"
 
@@ -676,7 +683,14 @@ def loads(text: str, *, source: str = "model text",
           max_bytes: float = MAX_MODEL_BYTES) -> Network:
     """Read a network from model-file JSON text (see :func:`from_dict`).
 
-    ``max_bytes`` [characters] refuses longer texts (:data:`MAX_MODEL_BYTES`).
+    Parameters
+    ----------
+    text : str
+        Model-file JSON text.
+    source : str, default "model text"
+        How the text is named in error messages.
+    max_bytes : float, default MAX_MODEL_BYTES
+        Longer texts [characters] are refused (:data:`MAX_MODEL_BYTES`).
     """
     return _read_text(text, source, max_bytes)[0]
 

@@ -93,6 +93,11 @@ def jsonable(x):
 
     NaN and ±inf become the strings ``"nan"``, ``"inf"``, ``"-inf"`` (JSON has no such
     numbers); anything else unknown becomes its ``str``.
+
+    Parameters
+    ----------
+    x : object
+        Any value of a provenance record.
     """
     if x is None or isinstance(x, (bool, str)):
         return x
@@ -196,6 +201,15 @@ def write_provenance(folder, record: Mapping, *, name: str = PROVENANCE_FILE) ->
     """Write a record as ``folder/provenance.json`` atomically (:func:`write_file_atomic`:
     unique temporary file, fsync, rename; permissions from the umask).
 
+    Parameters
+    ----------
+    folder : str or os.PathLike
+        Output folder (must exist).
+    record : mapping
+        The provenance record (made JSON-safe with :func:`jsonable`).
+    name : str, default "provenance.json"
+        File name.
+
     Returns
     -------
     pathlib.Path
@@ -208,7 +222,13 @@ def write_provenance(folder, record: Mapping, *, name: str = PROVENANCE_FILE) ->
 
 
 def read_provenance(folder) -> dict:
-    """Read ``folder/provenance.json`` (or the file itself if a file path is given)."""
+    """Read ``folder/provenance.json`` (or the file itself if a file path is given).
+
+    Parameters
+    ----------
+    folder : str or os.PathLike
+        Output folder, or the provenance file itself.
+    """
     p = Path(folder)
     if p.is_dir():
         p = p / PROVENANCE_FILE

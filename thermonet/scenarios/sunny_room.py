@@ -59,14 +59,16 @@ Per option, from the operative temperature of the room (:func:`room_operative_te
 the mean of air and area-weighted surface temperature, EN 16798-1 / ISO 52016-1 simplification,
 see :func:`thermonet.comfort.operative_temperature`):
 
-* hours above 25, 26 and 28 °C over all hours of the simulated period, and the overheating
-  frequency above 25 °C with the 10 % limit of very-low-energy houses
-  (:func:`thermonet.comfort.very_low_energy_overheating`);
-* EN 16798-1 adaptive comfort (category II) over the occupied hours;
+* hours above 25, 26 and 28 °C over all hours of the simulated period;
+* EN 16798-1 adaptive comfort (category II) over the occupied hours, judged against an
+  indicative 5 % of the occupied hours outside the category (:data:`CRITERION_SETS`);
 * CIBSE TM52 (category II) and CIBSE TM59 (living room, natural ventilation) over the
   occupied hours 09:00–22:00 (the TM59 living-room occupancy, from memory, see
   :data:`thermonet.comfort.TM59_DEFAULT_OCCUPANCY`);
 * heating demand [kWh], [kWh/m²] and peak heating power [W], [W/m²];
+* the very-low-energy criteria (overheating frequency above 25 °C ≤ 10 %, heating demand
+  ≤ 15 kWh/(m²a) or load ≤ 10 W/m²) as one more criterion set, marked as an indication: they
+  are defined for a whole building with its own design-load method, not for one room;
 * the energy balance of the room (all its nodes: air, radiant star and its own elements) by
   heat path, over the year and over June–August, and how each path moved against the
   baseline (:func:`room_balance`).
@@ -74,8 +76,9 @@ see :func:`thermonet.comfort.operative_temperature`):
 References
 ----------
 EN 16798-1:2019 (adaptive comfort, running mean outdoor temperature); CIBSE TM52 (2013);
-CIBSE TM59 (2017); Passive House overheating frequency (REFERENCES §5.5) — see the docstrings
-of :mod:`thermonet.comfort` for clauses and the confidence of each value.
+CIBSE TM59 (2017); very-low-energy (Passive House) criteria — see docs/references.md §5 and
+§12 and the docstrings of :mod:`thermonet.comfort` for clauses and the confidence of each
+value.
 """
 
 from __future__ import annotations
@@ -107,9 +110,9 @@ from thermonet.builders import (
     add_window_opening,
     night_ventilation,
 )
-from thermonet.constants import J_PER_KWH
 from thermonet.constructions import Construction
 from thermonet.errors import NetworkError, WeatherError
+from thermonet.labels import label, unit_of
 from thermonet.network import Network
 from thermonet.scenarios.fernhollow import BUILDING
 from thermonet.scenarios.sample_weather import load_sample_weather
@@ -132,7 +135,10 @@ __all__ = [
     "Option",
     "SunnyRoom",
     "SunnyRoomStudy",
+    "CRITERION_SETS",
+    "EN16798_INDICATIVE_SHARE_PCT",
     "build_sunny_room",
+    "inputs_table",
     "prepare_weather",
     "room_balance",
     "room_operative_temperature",
@@ -496,8 +502,7 @@ def build_sunny_room(weather: pd.DataFrame, design: Design | None = None, **chan
                            & tn.when(~heating_season))
     thermostat = net.add_thermostat(room.air, heating_setpoint=setpoint)
     absorbed = [s for s in room.sources if s.endswith(":solar_absorbed")]
-    through = [s for s in room.sources
-               if net.sources[s].path == "solar" and s not in absorbed]
+    through = [s for s in room.sources if net.sources[s].path == "solar"]
     return net, SunnyRoom(d, room, stair, room.floor_area, thermostat, setpoint, neighbours,
                           through, absorbed)
 
@@ -506,32 +511,41 @@ def build_sunny_room(weather: pd.DataFrame, design: Design | None = None, **chan
 def room_operative_temperature(res: tn.Results, handles: SunnyRoom) -> pd.Series:
     """Operative temperature of the room [°C], step means.
 
-    θop = (θair + θmr)/2 with θmr the area-weighted mean of the room's inside surface
-    temperatures (walls, roof, floor, partitions, windows and door), see
-    :func:`thermonet.comfort.operative_temperature` and
-    :func:`thermonet.comfort.mean_radiant_temperature`.
+    :func:`thermonet.comfort.room_operative_temperature` of ``handles.room``: θop =
+    (θair + θmr)/2 with θmr the area-weighted mean of the room's inside surface temperatures
+    (walls, roof, floor, partitions, windows and door).
+
+    Parameters
+    ----------
+    res : thermonet.Results
+        The simulation of the network of :func:`build_sunny_room`.
+    handles : SunnyRoom
+        What :func:`build_sunny_room` returned with it.
+
+    Returns
+    -------
+    pandas.Series
+        θop [°C], named ``"operative"``.
     """
-    room = handles.room
-    t = res.mean_temperatures
-    surf = t[[room.surfaces[k] for k in room.surfaces]].set_axis(list(room.surfaces), axis=1)
-    mrt = comfort.mean_radiant_temperature(surf, room.areas)
-    return comfort.operative_temperature(t[room.air], mrt).rename("operative")
+    return comfort.room_operative_temperature(res, handles.room)
 
 
 def room_balance(res: tn.Results, handles: SunnyRoom, freq: str | None = None) -> pd.DataFrame:
     """Energy balance of the room [kWh] by heat path, positive into the room.
 
     The control volume is ``handles.room.nodes`` (air, radiant star and the room's own
-    elements). It is :meth:`thermonet.Results.balance` with one presentation change: the
-    sun absorbed on the OUTER faces of the walls and roof is moved from ``"solar"`` to
-    ``"opaque"``, so that ``"solar"`` is the gain transmitted by the windows and ``"opaque"``
-    the net heat the opaque envelope exchanges with outdoor air, sky and sun. The two
-    columns change by equal and opposite amounts: the row sum (``"residual"``) is unchanged.
+    elements): this is :meth:`thermonet.Results.balance` with the columns in
+    :data:`PATH_ORDER`. The builders book the sun absorbed on the outer faces of the walls
+    and roof under ``"opaque"`` (the net heat the opaque envelope exchanges with outdoor air,
+    sky and sun), so ``"solar"`` is the gain transmitted by the windows — a balance you
+    compute yourself with ``res.balance(room.nodes)`` shows the same numbers.
 
     Parameters
     ----------
     res : thermonet.Results
+        The simulation of the network of :func:`build_sunny_room`.
     handles : SunnyRoom
+        What :func:`build_sunny_room` returned with it.
     freq : str, optional
         None: one row per step; a pandas offset alias (``"MS"``, ``"D"``) sums per period,
         each step counted in the period of its interval mid-point.
@@ -541,20 +555,82 @@ def room_balance(res: tn.Results, handles: SunnyRoom, freq: str | None = None) -
     pandas.DataFrame
         Columns in :data:`PATH_ORDER` (those present), [kWh].
     """
-    b = res.balance(handles.room.nodes)
-    step_h = res.info["step_s"] / 3600.0
-    absorbed = (res.sources[handles.opaque_solar_sources].sum(axis=1).to_numpy()
-                * (step_h * 3600.0 / J_PER_KWH)) if handles.opaque_solar_sources else 0.0
-    b["solar"] = b["solar"] - absorbed
-    b["opaque"] = b["opaque"] + absorbed
+    b = res.balance(handles.room.nodes, freq=freq)
     order = [p for p in PATH_ORDER if p in b.columns]
     b = b[order + [c for c in b.columns if c not in order]]
-    if freq is None:
-        return b
-    mid = b.index - pd.Timedelta(hours=step_h / 2.0)
-    out = b.set_axis(mid).resample(freq).sum()
-    out["residual"] = out.drop(columns="residual").sum(axis=1)
-    return out
+    b.attrs["unit"] = "kWh"
+    return b
+
+
+def inputs_table(net: Network, handles: SunnyRoom) -> pd.DataFrame:
+    """The inputs and assumptions of one built design, as a tidy table for the report.
+
+    Parameters
+    ----------
+    net : thermonet.Network
+        The network of :func:`build_sunny_room`.
+    handles : SunnyRoom
+        What :func:`build_sunny_room` returned with it.
+
+    Returns
+    -------
+    pandas.DataFrame
+        Columns ``group``, ``item``, ``value``, ``unit``, ``note``: the room's size, each
+        element and window (area [m²], U-value [W/(m²K)], g-value [-]), each airflow
+        (flow [m³/h] and air changes [1/h]), the mean internal gains [W/m²], the heating
+        setpoints and the neighbours' temperature rule.
+    """
+    room, d = handles.room, handles.design
+    rows = [dict(group="room", item="floor area", value=room.floor_area, unit="m²", note=""),
+            dict(group="room", item="clear height", value=room.height, unit="m", note=""),
+            dict(group="room", item="air volume", value=room.volume, unit="m³", note="")]
+    windows = {"west_glazing", "south_glazing", "stair_door"}
+    for name, area in room.areas.items():
+        u = room.u_values.get(name, np.nan)
+        kind = "window" if name in windows else "element"
+        note = (f"g {float(d.g_value):.2f}" + (", external blinds" if d.external_blinds else "")
+                if name.endswith("_glazing") else "")
+        rows.append(dict(group=kind, item=f"{name}: area", value=area, unit="m²", note=note))
+        rows.append(dict(group=kind, item=f"{name}: U-value", value=u, unit="W/(m²K)",
+                         note="U_w, air to air" if kind == "window" else
+                         "ISO 6946, from the layers"))
+    for name in room.links:
+        link = net.links[name]
+        if link.kind != "airflow":
+            continue
+        flow = link.params.get("flow_m3h")
+        if isinstance(flow, pd.Series):
+            note, flow = "scheduled; largest value", float(flow.max())
+        else:
+            switched = any(sw.startswith(f"{name}:") for sw in room.switches)
+            note = "when open (switched by a condition)" if switched else "always"
+        words = label(link.path, unit=False)
+        rows.append(dict(group="airflow", item=f"{words} ({name})", value=float(flow),
+                         unit="m³/h", note=note))
+        rows.append(dict(group="airflow", item=f"{words}: air changes",
+                         value=float(flow) / room.volume, unit="1/h", note=note))
+    gains: dict[str, float] = {}
+    for n in room.sources:
+        if net.sources[n].path == "internal":
+            p = net.sources[n].power
+            key = n.rsplit(":", 1)[0] if n.endswith(("convective", "radiative")) else n
+            gains[key] = gains.get(key, 0.0) + (float(p.mean()) if isinstance(p, pd.Series)
+                                                else float(p))
+    for n, mean in gains.items():
+        rows.append(dict(group="internal gains", item=n, value=mean / room.floor_area,
+                         unit="W/m²", note="mean over the period, convective + radiative "
+                         "(daily profiles of thermonet.gains)"))
+    rows += [dict(group="schedule", item="heating setpoint, October–April", value=20.0,
+                  unit="°C", note="thermostat on the room air, no cooling"),
+             dict(group="schedule", item="heating setpoint, May–September", value=5.0,
+                  unit="°C", note="frost protection only: the room runs free"),
+             dict(group="schedule", item="occupied hours (comfort criteria)",
+                  value=np.nan, unit="", note=f"{OCCUPIED_HOURS[0]}–{OCCUPIED_HOURS[1]}"),
+             dict(group="boundary", item="neighbouring flats", value=np.nan, unit="°C",
+                  note="max(20 °C, running mean outdoor + 4 K) (invented)"),
+             dict(group="boundary", item="cellar under the stair", value=12.0, unit="°C",
+                  note="constant (invented)")]
+    return pd.DataFrame(rows)
 
 
 def _period_sum(b: pd.DataFrame, months: Sequence[int] | None, step_h: float) -> pd.Series:
@@ -590,10 +666,13 @@ class SunnyRoomStudy:
     summary : pandas.DataFrame
         One row per option (index: option key): the metrics named with their unit
         (``_h`` hours, ``_pct`` percent, ``_kwh``, ``_kwh_m2``, ``_w``, ``_w_m2``, ``_c`` °C,
-        ``_k`` K, ``_kh`` K·h), verdicts (bool; missing where a criterion could not be
+        ``_k`` K, ``_kelvin_hours`` K·h), verdicts (bool; missing where a criterion could not be
         assessed in the simulated period) and the invented cost rank.
     verdicts : pandas.DataFrame
-        One row per option and criterion: value, limit, unit, passed, source.
+        One row per option and criterion: criterion_set (a key of :data:`CRITERION_SETS`),
+        criterion, value, limit, unit, passed, source.
+    inputs : pandas.DataFrame
+        Inputs and assumptions of the baseline (:func:`inputs_table`).
     balance_annual, balance_summer : pandas.DataFrame
         Room balance by path per option [kWh] over the simulated period and over its
         June–August steps (:func:`room_balance`); a path absent from an option is 0 kWh.
@@ -626,6 +705,7 @@ class SunnyRoomStudy:
     weather: pd.DataFrame
     occupied: pd.Series
     seconds: dict
+    inputs: pd.DataFrame = field(default_factory=pd.DataFrame)
 
     @property
     def full_year(self) -> bool:
@@ -659,9 +739,59 @@ class SunnyRoomStudy:
                                ).reset_index(drop=True)
 
 
-def _criterion_rows(key: str, results) -> list[dict]:
-    return [dict(option=key, criterion=c.name, value=c.value, limit=c.limit, unit=c.unit,
-                 passed=c.passed, source=c.source) for c in results]
+#: Criterion sets of the report: key -> (title, scope note). Each verdict row names its set.
+CRITERION_SETS: dict[str, tuple[str, str]] = {
+    "en16798": ("EN 16798-1 adaptive comfort, category II",
+                "This room, occupied hours 09:00–22:00, operative temperature. The standard "
+                "states the limits but no pass mark; the 5 % of occupied hours used here is an "
+                "indication (acceptable deviation suggested in EN 15251:2007 Annex G and "
+                "CEN/TR 16798-2, from memory)."),
+    "tm52": ("CIBSE TM52, category II",
+             "This room, occupied hours 09:00–22:00 in May–September, operative temperature; "
+             "fails when two or more of the three criteria fail."),
+    "tm59": ("CIBSE TM59, living room, natural ventilation",
+             "This room as a living room, criterion (a), occupied hours 09:00–22:00."),
+    "very_low_energy": ("Very-low-energy house criteria — an indication only",
+                        "These criteria are defined for a WHOLE building over a year with its "
+                        "own design-load method; here they are applied to one room's simulated "
+                        "operative temperature and simulated hourly peak. Read them as an "
+                        "indication, not as a certification result. For heating, the scheme "
+                        "accepts either the demand or the load criterion."),
+}
+
+#: Indicative pass mark of the EN 16798-1 adaptive assessment: share of the occupied hours
+#: (with an applicable limit) outside category II [%]. From memory (EN 15251:2007 Annex G,
+#: CEN/TR 16798-2); see docs/references.md.
+EN16798_INDICATIVE_SHARE_PCT = 5.0
+
+
+def _criterion_rows(key: str, results, criterion_set: str) -> list[dict]:
+    return [dict(option=key, criterion_set=criterion_set, criterion=c.name, value=c.value,
+                 limit=c.limit, unit=c.unit, passed=c.passed, source=c.source)
+            for c in results]
+
+
+def _en16798_rows(key: str, row: dict, t2: pd.Series) -> list[dict]:
+    """The EN 16798-1 category II verdict (indicative 5 % pass mark) and its metrics."""
+    assessed = float(t2["occupied_hours"] - t2["hours_no_limit_applicable"])
+    outside = float(t2["hours_above_upper"] + t2["hours_below_lower"])
+    upper_ok = float(t2["occupied_hours"] - t2["hours_upper_not_applicable"])
+    row["adaptive_ii_share_above_pct"] = (100.0 * float(t2["hours_above_upper"]) / upper_ok
+                                          if upper_ok > 0 else np.nan)
+    source = ("EN 16798-1:2019 adaptive limits; 5 % indicative pass mark from EN 15251:2007 "
+              "Annex G / CEN/TR 16798-2 (from memory), docs/references.md")
+    if assessed <= 0:
+        return [dict(option=key, criterion_set="en16798", criterion="share of occupied hours "
+                     "outside category II", value=np.nan, limit=EN16798_INDICATIVE_SHARE_PCT,
+                     unit="%", passed=pd.NA,
+                     source="not assessed: no occupied hour of the period has a running mean "
+                            "outdoor temperature in the range where a limit applies "
+                            "(upper 10–30 °C, lower 15–30 °C); " + source)]
+    share = 100.0 * outside / assessed
+    return [dict(option=key, criterion_set="en16798", criterion="share of occupied hours "
+                 "outside category II", value=share, limit=EN16798_INDICATIVE_SHARE_PCT,
+                 unit="%", passed=bool(share <= EN16798_INDICATIVE_SHARE_PCT + 1e-9),
+                 source=source)]
 
 
 def _assess(key: str, res: tn.Results, h: SunnyRoom, weather: pd.DataFrame,
@@ -679,53 +809,60 @@ def _assess(key: str, res: tn.Results, h: SunnyRoom, weather: pd.DataFrame,
     row["overheating_freq_25_pct"] = 100.0 * freq.value
     # the 10 % limit is judged on a whole year; a shorter run only reports the share
     row["overheating_freq_ok"] = freq.passed if full_year else pd.NA
-    verdicts = _criterion_rows(key, [freq])
+    vle = _criterion_rows(key, [freq], "very_low_energy")
+    vle[0]["source"] = ("Passive House criteria (overheating frequency), docs/references.md; "
+                        "applied to this room's operative temperature")
     if not full_year:
-        verdicts[0].update(passed=pd.NA, source=freq.source + "; not judged: the limit "
-                           "applies to a whole year, the run is shorter")
+        vle[0].update(passed=pd.NA, source=vle[0]["source"] + "; not judged: the limit "
+                      "applies to a whole year, the run is shorter")
     ad = comfort.adaptive_assessment(top, outdoor, "II", occupied, init=init)
     t2 = ad.table.loc["II"]
     row["adaptive_ii_hours_above_h"] = float(t2["hours_above_upper"])
-    row["adaptive_ii_degree_hours_above_kh"] = float(t2["degree_hours_above_upper"])
+    row["adaptive_ii_degree_hours_above_kelvin_hours"] = float(t2["degree_hours_above_upper"])
     row["adaptive_ii_share_in_category_pct"] = 100.0 * float(t2["share_in_category"])
-    verdicts.append(dict(option=key, criterion="EN 16798-1 adaptive, category II: occupied "
-                         "hours above the upper limit", value=float(t2["hours_above_upper"]),
-                         limit=np.nan, unit="h", passed=pd.NA,
-                         source="EN 16798-1:2019 (no pass mark stated; REFERENCES §5.2)"))
+    verdicts = _en16798_rows(key, row, t2)
+    row["adaptive_ii_ok"] = verdicts[0]["passed"]
     season = np.isin(np.asarray(comfort.interval_midpoints(top.index).month), (5, 6, 7, 8, 9))
     if (season & occupied.to_numpy()).any():
         r52 = comfort.tm52(top, outdoor, occupied, "II", init=init)
         row["tm52_c1_exceedance_pct"] = r52.criteria[0].value
-        row["tm52_c2_worst_we_kh"] = r52.criteria[1].value
+        row["tm52_c2_worst_we_kelvin_hours"] = r52.criteria[1].value
         row["tm52_c3_max_dt_k"] = r52.criteria[2].value
         row["tm52_failed_criteria"] = r52.n_failed
         row["tm52_ok"] = r52.passed
-        verdicts += _criterion_rows(key, r52.criteria)
-        verdicts.append(dict(option=key, criterion="TM52 overall (fails when 2 or more "
-                             "criteria fail)", value=float(r52.n_failed), limit=1.0,
-                             unit="criteria failed", passed=r52.passed,
-                             source="CIBSE TM52 (2013), REFERENCES §5.3"))
+        verdicts += _criterion_rows(key, r52.criteria, "tm52")
+        verdicts.append(dict(option=key, criterion_set="tm52", criterion="TM52 overall "
+                             "(fails when 2 or more criteria fail)", value=float(r52.n_failed),
+                             limit=1.0, unit="criteria failed", passed=r52.passed,
+                             source="CIBSE TM52 (2013), docs/references.md §5.3"))
         r59 = comfort.tm59(top, outdoor, "living", occupied, "natural", init=init)
         row["tm59_a_pct"] = r59.criteria[0].value
         row["tm59_ok"] = r59.passed
-        verdicts += _criterion_rows(key, r59.criteria)
+        verdicts += _criterion_rows(key, r59.criteria, "tm59")
     else:
-        for col in ("tm52_c1_exceedance_pct", "tm52_c2_worst_we_kh", "tm52_c3_max_dt_k",
+        for col in ("tm52_c1_exceedance_pct", "tm52_c2_worst_we_kelvin_hours",
+                    "tm52_c3_max_dt_k",
                     "tm52_failed_criteria", "tm59_a_pct"):
             row[col] = np.nan
         row["tm52_ok"] = pd.NA
         row["tm59_ok"] = pd.NA
-        verdicts.append(dict(option=key, criterion="CIBSE TM52 and TM59", value=np.nan,
-                             limit=np.nan, unit="", passed=pd.NA,
-                             source="not assessed: the simulated period has no occupied hour "
-                                    "in May–September"))
+        for cset in ("tm52", "tm59"):
+            verdicts.append(dict(option=key, criterion_set=cset, criterion="all criteria",
+                                 value=np.nan, limit=np.nan, unit="", passed=pd.NA,
+                                 source="not assessed: the simulated period has no occupied "
+                                        "hour in May–September"))
     dem = comfort.demand_summary(res.heating, None, h.floor_area, very_low_energy=full_year)
     row["heating_kwh"] = dem.heating_kwh
     row["heating_kwh_m2"] = dem.heating_kwh_m2
     row["peak_heating_w"] = dem.heating_peak_w
     row["peak_heating_w_m2"] = dem.heating_peak_w_m2
     if dem.very_low_energy is not None:
-        verdicts += _criterion_rows(key, dem.very_low_energy)
+        vle += _criterion_rows(key, dem.very_low_energy, "very_low_energy")
+        for r in vle[1:]:
+            r["source"] = ("Passive House criteria, docs/references.md; a whole-building "
+                           "criterion, applied to this room (the load one as the simulated "
+                           "hourly peak, not the scheme's design-load method)")
+    verdicts += vle
     return row, verdicts, top
 
 
@@ -780,6 +917,7 @@ def run_study(weather: pd.DataFrame | None = None, *, options: Sequence[str] | N
     step_h = pd.Timedelta(w.index[1] - w.index[0]) / pd.Timedelta(hours=1)
     rows, verdicts, annual, summer, tops, heat, seconds = {}, [], {}, {}, {}, {}, {}
     monthly = None
+    base_inputs = pd.DataFrame()
     for i, key in enumerate(keys, 1):
         t1 = time.perf_counter()
         opt = chosen[key]
@@ -796,6 +934,7 @@ def run_study(weather: pd.DataFrame | None = None, *, options: Sequence[str] | N
         row["cost_rank"] = opt.cost_rank
         if key == "baseline":
             monthly = room_balance(res, h, freq="MS")
+            base_inputs = inputs_table(net, h)
         rows[key] = row
         verdicts += ver
         tops[key] = top
@@ -806,6 +945,7 @@ def run_study(weather: pd.DataFrame | None = None, *, options: Sequence[str] | N
     summary = pd.DataFrame.from_dict(rows, orient="index")
     summary.insert(0, "label", [chosen[k].label for k in keys])
     summary.index.name = "option"
+    summary.attrs["units"] = {c: unit_of(c) for c in summary.columns if unit_of(c)}
     bal_a = _tidy_balance(annual, keys)
     bal_s = _tidy_balance(summer, keys)
     changes = []
@@ -831,6 +971,7 @@ def run_study(weather: pd.DataFrame | None = None, *, options: Sequence[str] | N
         weather=w,
         occupied=occupied,
         seconds=seconds,
+        inputs=base_inputs,
     )
 
 
@@ -863,6 +1004,7 @@ def _tidy_balance(per_option: dict, keys: list) -> pd.DataFrame:
     order = [p for p in PATH_ORDER if p in tab.columns]
     tab = tab[order + [c for c in tab.columns if c not in order]]
     tab.index.name = "option"
+    tab.attrs["unit"] = "kWh"
     return tab
 
 

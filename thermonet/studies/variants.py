@@ -79,22 +79,22 @@ function's code, use a new folder.
 
 References
 ----------
-.. [1] Morris, M. D., "Factorial sampling plans for preliminary computational experiments",
-   Technometrics 33(2), 161–174, 1991. doi:10.1080/00401706.1991.10484804
-.. [2] Campolongo, F., Cariboni, J., Saltelli, A., "An effective screening design for
-   sensitivity analysis of large models", Environmental Modelling & Software 22(10),
-   1509–1518, 2007. doi:10.1016/j.envsoft.2006.10.004
-.. [3] Sobol', I. M., "Global sensitivity indices for nonlinear mathematical models and their
-   Monte Carlo estimates", Mathematics and Computers in Simulation 55(1–3), 271–280, 2001.
-   doi:10.1016/S0378-4754(00)00270-6
-.. [4] Saltelli, A., Annoni, P., Azzini, I., Campolongo, F., Ratto, M., Tarantola, S.,
-   "Variance based sensitivity analysis of model output. Design and estimator for the total
-   sensitivity index", Computer Physics Communications 181(2), 259–270, 2010.
-   doi:10.1016/j.cpc.2009.09.018
-.. [5] Herman, J., Usher, W., "SALib: An open-source Python library for Sensitivity
-   Analysis", Journal of Open Source Software 2(9), 97, 2017. doi:10.21105/joss.00097
-.. [6] Seber, G. A. F., Wild, C. J., Nonlinear Regression, Wiley, 1989, §2.1–2.2
-   (asymptotic covariance ``s²(JᵀJ)⁻¹`` of least-squares estimates) — from memory.
+- [1] Morris, M. D., "Factorial sampling plans for preliminary computational experiments",
+  Technometrics 33(2), 161–174, 1991. doi:10.1080/00401706.1991.10484804
+- [2] Campolongo, F., Cariboni, J., Saltelli, A., "An effective screening design for
+  sensitivity analysis of large models", Environmental Modelling & Software 22(10),
+  1509–1518, 2007. doi:10.1016/j.envsoft.2006.10.004
+- [3] Sobol', I. M., "Global sensitivity indices for nonlinear mathematical models and their
+  Monte Carlo estimates", Mathematics and Computers in Simulation 55(1–3), 271–280, 2001.
+  doi:10.1016/S0378-4754(00)00270-6
+- [4] Saltelli, A., Annoni, P., Azzini, I., Campolongo, F., Ratto, M., Tarantola, S.,
+  "Variance based sensitivity analysis of model output. Design and estimator for the total
+  sensitivity index", Computer Physics Communications 181(2), 259–270, 2010.
+  doi:10.1016/j.cpc.2009.09.018
+- [5] Herman, J., Usher, W., "SALib: An open-source Python library for Sensitivity
+  Analysis", Journal of Open Source Software 2(9), 97, 2017. doi:10.21105/joss.00097
+- [6] Seber, G. A. F., Wild, C. J., Nonlinear Regression, Wiley, 1989, §2.1–2.2
+  (asymptotic covariance ``s²(JᵀJ)⁻¹`` of least-squares estimates) — from memory.
 """
 
 from __future__ import annotations
@@ -1022,7 +1022,7 @@ def morris(build, bounds: Mapping, weather: pd.DataFrame | None = None, *,
     -----
     The elementary effect of parameter i on trajectory j is
     ``EE = [y(x + Δ e_i) − y(x)] / Δ`` with Δ = p / (2(p − 1)) of the *normalised* range;
-    μ* = mean |EE| ranks importance, σ = std(EE) flags interaction or non-linearity.
+    μ* = mean abs(EE) ranks importance, σ = std(EE) flags interaction or non-linearity.
 
     References
     ----------
@@ -1163,7 +1163,7 @@ class CalibrationResult:
         ``at_bound`` (True if the fit stopped on a bound: its standard error is not
         meaningful).
     correlation : pandas.DataFrame
-        Correlation matrix of the estimates [-]; |r| near 1 means the data cannot tell the
+        Correlation matrix of the estimates [-]; abs(r) near 1 means the data cannot tell the
         two parameters apart.
     covariance : pandas.DataFrame
         Covariance of the estimates [unit_i · unit_j].
