@@ -43,12 +43,13 @@ def _read(folder, name):
 
 
 def _check_closes(table):
-    """Row sums of a balance table close: |residual| ≤ 1e-11 × the largest term.
+    """Row sums of a balance table close: |residual| ≤ 1e-10 × the largest term.
 
-    Measured ≤ 3.5e-13 (the demo's tables at 480 h); 1e-11 leaves a margin of ~30.
+    Measured ≤ 3.5e-13 at 480 h and 1.0e-11 over the full year (annual sums of 8,760 steps
+    whose residuals are ~1e-9 W against terms of ~1e3 W); 1e-10 leaves a margin of ~10.
     """
     terms = table.drop(columns="residual").abs().to_numpy().max(axis=1)
-    assert (table["residual"].abs().to_numpy() <= 1e-11 * np.maximum(terms, 1.0)).all()
+    assert (table["residual"].abs().to_numpy() <= 1e-10 * np.maximum(terms, 1.0)).all()
     recomputed = table.drop(columns="residual").sum(axis=1)
     # the CSV keeps 6 significant digits: the written terms add up to rounding of that size
     assert (recomputed.abs() <= 1e-5 * np.maximum(terms, 1.0) * table.shape[1]).all()
