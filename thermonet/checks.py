@@ -147,7 +147,8 @@ def check_temperature(x, what: str, *, plausible=BOUNDARY_RANGE, error=NetworkEr
         k = int((v < -ZERO_CELSIUS).argmax())
         raise error(f"{what}: {v[k]} °C {_where(x, k)} is below absolute zero "
                            f"(−{ZERO_CELSIUS} °C); temperatures are in °C")
-    med = float(np.median(v))
+    vmax = float(v.max())
+    med = float(np.median(v)) if vmax > KELVIN_MEDIAN else vmax   # the median ≤ the max
     if med > KELVIN_MEDIAN:
         if med < KELVIN_LIKELY_MAX:
             raise error(f"{what}: median {med:.1f} °C looks like kelvin; thermonet keeps "
@@ -156,6 +157,8 @@ def check_temperature(x, what: str, *, plausible=BOUNDARY_RANGE, error=NetworkEr
                     f"(above {KELVIN_MEDIAN:g} °C most of the time); check the value and its "
                     "unit (°C)")
     low, high = plausible
+    if float(v.min()) >= low and vmax <= high:
+        return
     out = (v < low) | (v > high)
     if out.any():
         k = int(out.argmax())

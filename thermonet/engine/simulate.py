@@ -37,6 +37,7 @@ import warnings
 import numpy as np
 import pandas as pd
 
+from thermonet.checks import check_simulation_inputs
 from thermonet.engine.compile import Compiled, compile_network
 from thermonet.engine.run import KERNELS, GroupRun, step_group
 from thermonet.engine.trajectory import ExactTrajectory, JoinedTrajectory, Trajectory
@@ -266,6 +267,7 @@ def simulate(net, weather, *, step=None, method: str = "auto", warmup_days: floa
     """
     _check_options(method, kernel, sparse_tol, warmup_days)
     t0 = time.perf_counter()
+    check_simulation_inputs(net, weather, warmup_days)     # impossible → error, odd → warning
     comp = compile_network(net, weather, step=step, interpolate=interpolate)
     n = len(comp.index)
     w = min(int(round(warmup_days * 86400.0 / comp.step_s)), n)
