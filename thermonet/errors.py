@@ -69,3 +69,7 @@ class AirflowError(ThermonetError, ValueError):
 
 class PlausibilityWarning(ThermonetWarning):
     """An input or result is possible but implausible for a building (a unit mix-up?)."""
+
+
+class MemoryBudgetWarning(ThermonetWarning):
+    """A run is about to keep more hourly results in memory than its stated budget."""

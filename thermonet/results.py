@@ -44,17 +44,31 @@ class Results:
         return out
 
     @cached_property
+    def _free_kept(self) -> np.ndarray:
+        """Free nodes whose temperatures the run kept (all unless ``outputs=`` chose)."""
+        idx = np.arange(self._c.nf)
+        return idx[self._t.kept(idx)]
+
+    @cached_property
     def _tmean(self):
-        return self._points(self._t.mean(np.arange(self._c.nf)))
+        return self._points(self._t.mean(self._free_kept))
+
+    @cached_property
+    def _links_kept(self) -> np.ndarray:
+        c = self._c
+        ok = np.ones(c.nf + c.nb, dtype=bool)
+        ok[:c.nf] = False
+        ok[self._free_kept] = True
+        return np.flatnonzero(ok[c.link_a] & ok[c.link_b])
 
     @cached_property
     def _flows(self):
-        return self._link_flows(np.arange(len(self._c.link_names)))
+        return self._link_flows(self._links_kept)
 
     def _point_means(self, pts: np.ndarray) -> np.ndarray:
         """Step means [°C] of points (free nodes then boundaries) ``pts``, only those."""
         c = self._c
-        if "_tmean" in self.__dict__:
+        if "_tmean" in self.__dict__ and len(self._free_kept) == c.nf:
             return self.__dict__["_tmean"][:, pts]
         uniq, inv = np.unique(pts, return_inverse=True)
         free = uniq < c.nf
@@ -66,7 +80,7 @@ class Results:
 
     def _link_flows(self, cols):
         """Flows [W] of the links ``cols`` (step means), without forming all the others."""
-        if "_flows" in self.__dict__:
+        if "_flows" in self.__dict__ and len(self._links_kept) == len(self._c.link_names):
             return self.__dict__["_flows"][:, cols]
         c = self._c
         a, b = c.link_a[cols], c.link_b[cols]
@@ -84,21 +98,26 @@ class Results:
     # ---------------------------------------------------------------- tables
     @cached_property
     def temperatures(self) -> pd.DataFrame:
-        """Node and boundary temperatures [°C] at the end of each step."""
-        c = self._c
-        return self._frame(self._points(self._t.end(np.arange(c.nf)), at_end=True),
-                           c.free + c.boundaries, self._order)
+        """Node and boundary temperatures [°C] at the end of each step (the kept nodes)."""
+        return self._frame(self._points(self._t.end(self._free_kept), at_end=True),
+                           *self._columns())
 
     @cached_property
     def mean_temperatures(self) -> pd.DataFrame:
         """Node and boundary temperatures [°C], means over each step (used by the balance)."""
+        return self._frame(self._tmean, *self._columns())
+
+    def _columns(self):
         c = self._c
-        return self._frame(self._tmean, c.free + c.boundaries, self._order)
+        names = [c.free[i] for i in self._free_kept] + list(c.boundaries)
+        keep = set(names)
+        return names, [n for n in self._order if n in keep]
 
     @cached_property
     def flows(self) -> pd.DataFrame:
-        """Link flows [W], step means, positive from the link's node ``a`` to node ``b``."""
-        return self._frame(self._flows, self._c.link_names)
+        """Link flows [W], step means, positive from the link's node ``a`` to node ``b``
+        (the links whose two ends were kept)."""
+        return self._frame(self._flows, [self._c.link_names[j] for j in self._links_kept])
 
     @cached_property
     def sources(self) -> pd.DataFrame:
@@ -181,7 +200,7 @@ class Results:
         cols["heating"] = heat
         cols["cooling"] = cool
         cap = np.flatnonzero(inside[:c.nc])
-        cols["storage"] = -((t.X[:, cap] - t.X_start[:, cap]) @ c.C[cap]) / c.step_s
+        cols["storage"] = -(t.storage_w(cap) @ c.C[cap]) / c.step_s
         df = pd.DataFrame(cols, index=self.index)
         df["residual"] = df.sum(axis=1)
         return df

@@ -98,7 +98,7 @@ def solve_band_many(Lb, d, R):
 
 @numba.njit(cache=True, parallel=True)
 def march_free_band(Lbs, ds, weights, r_inf, c, Lb_real, d_real, E_ptr, E_idx, E_val, U, D,
-                    ramp, T0, perm, h):
+                    ramp, T0, perm, h, out_col, n_out):
     """March the free-running sparse step over all rows of the inputs ``U``.
 
     The free-running loop of the sparse method in one compiled call. Inputs are ``U`` at the
@@ -110,23 +110,27 @@ def march_free_band(Lbs, ds, weights, r_inf, c, Lb_real, d_real, E_ptr, E_idx, E
     parallel, and the step mean from the integrated equation ``L T̄ = E ū − C (T⁺ − T)/h``
     with ``ū = u − hd/2``. ``L``, ``C`` (``c``), ``E`` (CSR rows ``E_ptr, E_idx, E_val``)
     and ``T0`` are in the banded (permuted) order; the outputs are written in the network's
-    order (``perm[i]`` is node i of the banded order).
+    order (``perm[i]`` is node i of the banded order), and only the ``n_out`` nodes with an
+    output column ``out_col[node] ≥ 0`` are kept (memory: steps × n_out).
 
     Returns
     -------
-    Tall : ndarray (steps + 1, n)
-        Start temperature then the end-of-step temperatures [°C].
-    Tmean : ndarray (steps, n)
-        Step-mean temperatures [°C].
+    Tall : ndarray (steps + 1, n_out)
+        Start temperature then the end-of-step temperatures [°C] of the kept nodes.
+    Tmean : ndarray (steps, n_out)
+        Step-mean temperatures [°C] of the kept nodes.
     """
     nsteps = U.shape[0]
     n = T0.shape[0]
     P = Lbs.shape[0]
-    Tall = np.empty((nsteps + 1, n))
-    Tmean = np.empty((nsteps, n))
+    Tall = np.empty((nsteps + 1, n_out))
+    Tmean = np.empty((nsteps, n_out))
     T = T0.copy()
+    col = np.empty(n, dtype=np.int64)      # output column of each banded position
     for i in range(n):
-        Tall[0, perm[i]] = T[i]
+        col[i] = out_col[perm[i]]
+        if col[i] >= 0:
+            Tall[0, col[i]] = T[i]
     parts = np.zeros((P, n))
     rc = np.empty(n, dtype=np.complex128)
     b = np.empty(n)
@@ -162,10 +166,12 @@ def march_free_band(Lbs, ds, weights, r_inf, c, Lb_real, d_real, E_ptr, E_idx, E
                 acc += parts[p, i]
             dT[i] = b[i] - 0.5 * h * bd[i] - c[i] * (acc - T[i]) / h
             T[i] = acc
-            Tall[k + 1, perm[i]] = acc
+            if col[i] >= 0:
+                Tall[k + 1, col[i]] = acc
         tm = solve_band(Lb_real, d_real, dT)
         for i in range(n):
-            Tmean[k, perm[i]] = tm[i]
+            if col[i] >= 0:
+                Tmean[k, col[i]] = tm[i]
     return Tall, Tmean
 
 

@@ -125,15 +125,90 @@ class SparseMethod:
 
     name = "sparse"
 
-    def run(self, comp: Compiled, warm: int, *, tol: float = 1e-6) -> Trajectory:
-        """Step ``comp`` after ``warm`` warm-up steps to the accuracy ``tol``."""
+    def run(self, comp: Compiled, warm: int, *, tol: float = 1e-6, keep=None) -> Trajectory:
+        """Step ``comp`` after ``warm`` warm-up steps to the accuracy ``tol``.
+
+        Parameters
+        ----------
+        comp : Compiled
+        warm : int
+            Warm-up steps.
+        tol : float, default 1e-6
+            Accuracy target of the rational exponential.
+        keep : array of int, optional
+            Free nodes whose temperatures are kept (default: all).
+        """
         from thermonet.engine.sparse import run_sparse
 
-        return run_sparse(comp, warm, tol=tol)
+        return run_sparse(comp, warm, tol=tol, keep=keep)
 
 
 #: Method registry: name → stepper class.
 METHODS = {"exact": ExactMethod, "sparse": SparseMethod}
+
+#: Default memory budget [bytes] of the hourly results one run keeps; beyond it simulate
+#: warns (MemoryBudgetWarning) and says how to keep less (``outputs=``).
+MEMORY_BUDGET = 2e9
+
+
+def kept_nodes(comp: Compiled, outputs) -> np.ndarray | None:
+    """Free nodes (indices) to keep for ``outputs``; None keeps all.
+
+    Parameters
+    ----------
+    comp : Compiled
+    outputs : None, list of str or dict
+        A list of node names, or ``{"nodes": [...], "balances": [[...], ...]}``: the nodes
+        whose temperatures are kept, plus what the balance of each listed control volume
+        needs (the ends of the links crossing it and its capacitive nodes).
+    """
+    if outputs is None:
+        return None
+    if isinstance(outputs, dict):
+        unknown = sorted(set(outputs) - {"nodes", "balances"})
+        if unknown:
+            raise ValueError(f"outputs= keys must be 'nodes' and 'balances', got {unknown}")
+        nodes, sets = list(outputs.get("nodes", [])), list(outputs.get("balances", []))
+    elif isinstance(outputs, str):
+        nodes, sets = [outputs], []
+    else:
+        nodes, sets = list(outputs), []
+    pos = {n: i for i, n in enumerate(comp.free)}
+
+    def index(name):
+        if name not in pos:
+            from thermonet.errors import NetworkError
+
+            raise NetworkError(f"outputs=: {name!r} is not a free node; known: "
+                               f"{', '.join(comp.free[:20])}{' …' if comp.nf > 20 else ''}")
+        return pos[name]
+
+    keep = {index(n) for n in nodes}
+    for group in sets:
+        inside = np.zeros(comp.nf + comp.nb, dtype=bool)
+        inside[[index(n) for n in ([group] if isinstance(group, str) else group)]] = True
+        cross = inside[comp.link_a] != inside[comp.link_b]
+        ends = np.concatenate([comp.link_a[cross], comp.link_b[cross]])
+        keep |= {int(i) for i in ends if i < comp.nf}
+        keep |= {int(i) for i in np.flatnonzero(inside[:comp.nc])}
+    return np.array(sorted(keep), dtype=np.int64)
+
+
+def check_memory(comp: Compiled, warm: int, method: str, keep, budget: float) -> float:
+    """Bytes the run will keep (hourly arrays), warning beyond ``budget`` [bytes]."""
+    from thermonet.errors import MemoryBudgetWarning
+
+    n = len(comp.index) + warm
+    k = comp.nf if keep is None else len(keep)
+    per_step = (2 * k + 3 * comp.nu) if method == "sparse" else (3 * comp.nc + 3 * comp.nu)
+    need = 8.0 * n * per_step
+    if need > budget:
+        warnings.warn(MemoryBudgetWarning(
+            f"this run keeps about {need / 1e9:.1f} GB of hourly results ({k} nodes × "
+            f"{n} steps), over the budget of {budget / 1e9:.1f} GB; keep only what you need "
+            "with simulate(..., outputs={'nodes': [...], 'balances': [[...]]}) or raise "
+            "memory_budget="), stacklevel=3)
+    return need
 
 
 def _check_options(method, kernel: str, sparse_tol, warmup_days) -> None:
@@ -211,7 +286,8 @@ def run_relinearised(net, comp: Compiled, w: int, kernel: str, freq: str) -> Tra
 
 def simulate(net, weather, *, step=None, method: str = "auto", warmup_days: float = 14.0,
              kernel: str = "auto", sparse_tol: float | None = None,
-             relinearise: str | None = None, interpolate=None) -> Results:
+             relinearise: str | None = None, interpolate=None, outputs=None,
+             memory_budget: float = MEMORY_BUDGET) -> Results:
     """Simulate a network over the weather's time axis.
 
     Parameters
@@ -253,6 +329,16 @@ def simulate(net, weather, *, step=None, method: str = "auto", warmup_days: floa
         input over its step (zero-order hold). Interval values (irradiance, gains) are always
         held. ``method="sparse"`` holds each step's mean of such an input.
 
+    outputs : list of str or dict, optional
+        Keep only some results, to steer memory on large networks: a list of node names, or
+        ``{"nodes": [...], "balances": [[...], ...]}`` — those nodes' temperatures plus what
+        the balance of each listed control volume needs. The tables then show the kept
+        nodes and the links between them; ``balance()`` works for the listed volumes.
+        Default: everything.
+    memory_budget : float, default 2e9
+        Bytes of hourly results above which a :class:`thermonet.errors.MemoryBudgetWarning`
+        is issued before the run.
+
     Notes
     -----
     Thermostats hold their node at the setpoint at the *end* of each step: the power is
@@ -274,8 +360,10 @@ def simulate(net, weather, *, step=None, method: str = "auto", warmup_days: floa
     if method == "auto":
         method = "exact" if comp.nc <= AUTO_DENSE_LIMIT else "sparse"
     _warn_ignored(method, kernel, sparse_tol)
+    keep = kept_nodes(comp, outputs)
     info = {"method": method, "steps": n, "warmup_steps": w, "step_s": comp.step_s,
-            "states": comp.n_states, "kernel": kernel}
+            "states": comp.n_states, "kernel": kernel,
+            "kept_bytes": check_memory(comp, w, method, keep, memory_budget)}
     if relinearise is not None:
         if method != "exact":
             raise ValueError("relinearise= works with method='exact'; pass method='exact'")
@@ -284,7 +372,11 @@ def simulate(net, weather, *, step=None, method: str = "auto", warmup_days: floa
     elif method == "exact":
         traj = ExactMethod().run(comp, w, kernel=kernel)
     else:
-        traj = SparseMethod().run(comp, w, tol=1e-6 if sparse_tol is None else sparse_tol)
+        traj = SparseMethod().run(comp, w, tol=1e-6 if sparse_tol is None else sparse_tol,
+                                  keep=keep)
+    if keep is not None and getattr(traj, "keep_mask", "x") is None:
+        traj.keep_mask = np.zeros(comp.nf, dtype=bool)
+        traj.keep_mask[keep] = True
     info.update({k: v for k, v in traj.info.items() if k != "kernel"})
     res = Results(net, comp, traj, info)
     info["seconds"] = time.perf_counter() - t0

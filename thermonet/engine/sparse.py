@@ -223,7 +223,7 @@ class SparseState:
 
 
 def _free_run_banded(st: SparseState, U: np.ndarray, D: np.ndarray, ramp: np.ndarray,
-                     T0: np.ndarray, h: float):
+                     T0: np.ndarray, h: float, out_col: np.ndarray):
     """Free-running single-state march in one compiled call (banded factors).
 
     Returns ``Tall`` (steps + 1, nf): the start state then the end-of-step temperatures,
@@ -237,7 +237,8 @@ def _free_run_banded(st: SparseState, U: np.ndarray, D: np.ndarray, ramp: np.nda
                            Ep.indptr.astype(np.int64), Ep.indices.astype(np.int64),
                            Ep.data.astype(float), np.ascontiguousarray(U, dtype=float),
                            np.ascontiguousarray(D, dtype=float), ramp.astype(np.bool_),
-                           np.ascontiguousarray(T0[perm]), perm.astype(np.int64), h)
+                           np.ascontiguousarray(T0[perm]), perm.astype(np.int64), h,
+                           out_col.astype(np.int64), int((out_col >= 0).sum()))
 
 
 def _start(comp: Compiled, st0: SparseState, u0, hsp0, csp0) -> np.ndarray:
@@ -268,11 +269,16 @@ def _responses(comp: Compiled, states: dict) -> dict:
     return resp
 
 
-def _march(comp, states, resp, T, U, D, sched, hsp, csp, sig):
-    """The general sparse loop (switches, thermostats): end temperatures, step-mean inputs,
-    states. ``U`` holds the inputs at the end of each step, ``D`` their rates [unit/s] over
-    it (first-order hold; zero for held inputs)."""
-    m, nb, nsrc, nf, nsw = comp.m, comp.nb, comp.nsrc, comp.nf, comp.nsw
+def _march(comp, states, resp, T, U, D, sched, hsp, csp, sig, keep):
+    """The general sparse loop (switches, thermostats).
+
+    ``U`` holds the inputs at the end of each step, ``D`` their rates [unit/s] over it
+    (first-order hold; zero for held inputs). Returns the end and step-mean temperatures
+    [°C] of the free nodes ``keep`` (steps × len(keep)), the step-mean inputs, the states and
+    the start state of every free node. Step means come from the integrated equation
+    ``L T̄ = E ū − C (T⁺ − T)/h`` (one more sparse solve per step).
+    """
+    m, nb, nsrc, nsw = comp.m, comp.nb, comp.nsrc, comp.nsw
     pcols = nb + nsrc + np.arange(m)
     n = U.shape[0]
     factor = comp.val.source_factor
@@ -280,7 +286,8 @@ def _march(comp, states, resp, T, U, D, sched, hsp, csp, sig):
     terms[:, 5] = comp.val.thresholds
     on = comp.val.sw_init.copy()
     ramp_any = bool(np.any(D))
-    Tend = np.zeros((n, nf))
+    Tend = np.zeros((n, len(keep)))
+    Tmean = np.zeros((n, len(keep)))
     Ue = np.zeros((n, comp.nu))
     S = np.zeros(n, dtype=np.int64)
     P = np.zeros(m)
@@ -306,15 +313,28 @@ def _march(comp, states, resp, T, U, D, sched, hsp, csp, sig):
                                    csp[k], comp.qh, comp.qc, P)
             T1 = T1 + R @ P
             u[pcols] = P
-        Tend[k] = T1
+        Tend[k] = T1[keep]
+        Tmean[k] = st.equilibrium(st.E @ u - (T1 - T) * st.c_full / comp.step_s)[keep]
         Ue[k] = u
         S[k] = s
         T = T1
-    return Tend, Ue, S
+    return Tend, Tmean, Ue, S
 
 
-def run_sparse(comp: Compiled, warmup_steps: int, tol: float = 1e-7) -> NodeTrajectory:
-    """Step a large network with :class:`SparseState`; returns its trajectory."""
+def run_sparse(comp: Compiled, warmup_steps: int, tol: float = 1e-7, keep=None
+               ) -> NodeTrajectory:
+    """Step a large network with :class:`SparseState`; returns its trajectory.
+
+    Parameters
+    ----------
+    comp : Compiled
+    warmup_steps : int
+        Steps run before the reported ones.
+    tol : float, default 1e-7
+        Accuracy target of the rational exponential (relative to each step's departure).
+    keep : array of int, optional
+        Free nodes whose end and mean temperatures are kept (default: all).
+    """
     t0 = time.perf_counter()
     # The error bound holds for the eigenvalues; in node temperatures it is amplified by at
     # most cond(C^{1/2}) = sqrt(C_max/C_min) (the modes are C-orthogonal).
@@ -350,22 +370,24 @@ def run_sparse(comp: Compiled, warmup_steps: int, tol: float = 1e-7) -> NodeTraj
         out[:, ramp] = U_raw[w:, ramp]
         return out
 
+    keep = np.arange(comp.nf) if keep is None else np.asarray(keep, dtype=np.int64)
     if comp.nsw == 0 and comp.m == 0 and len(states) == 1 and st0.banded:
-        Tall, Tmean = _free_run_banded(st0, U, D, ramp, T, comp.step_s)
+        cols = np.full(comp.nf, -1, dtype=np.int64)
+        cols[keep] = np.arange(len(keep))
+        Tall, Tmean = _free_run_banded(st0, U, D, ramp, T, comp.step_s, cols)
         Um = U[w:] - 0.5 * comp.step_s * D[w:]
-        return NodeTrajectory(Tall[w + 1:], Tmean[w:], Tall[w, :comp.nc],
-                              np.zeros(n - w, dtype=np.int64), Um, end_values(Um),
-                              comp.G_states, comp.nc, info)
-    Tend, Ue, S = _march(comp, states, resp, T, U, D, sched, hsp, csp, sig)
-    t_first = (Tend[w - 1] if w else T).copy()
-    Tend, Ue, S = Tend[w:], Ue[w:], S[w:]
-    Tstart = np.vstack([t_first[None, :], Tend[:-1]])
-    Tmean = np.empty_like(Tend)
-    h = comp.step_s
-    for s in np.unique(S):
-        rows = S == s
-        st = states[int(s)]
-        rhs = (st.E @ Ue[rows].T).T - (Tend[rows] - Tstart[rows]) * st.c_full / h
-        Tmean[rows] = st.solve_many(np.ascontiguousarray(rhs.T)).T
-    return NodeTrajectory(Tend, Tmean, t_first[:comp.nc], S, Ue, end_values(Ue), comp.G_states,
-                          comp.nc, info)
+        start = np.full(comp.nc, np.nan)
+        kc = keep[keep < comp.nc]
+        start[kc] = Tall[w, cols[kc]]
+        return NodeTrajectory(Tall[w + 1:], Tmean[w:], start, np.zeros(n - w, dtype=np.int64),
+                              Um, end_values(Um), comp.G_states, comp.nc, info, columns=cols,
+                              names=comp.free)
+    Tend, Tmean, Ue, S = _march(comp, states, resp, T, U, D, sched, hsp, csp, sig, keep)
+    x_first = Tend[w - 1] if w else T[keep]
+    cols = np.full(comp.nf, -1, dtype=np.int64)
+    cols[keep] = np.arange(len(keep))
+    start = np.full(comp.nc, np.nan)
+    kc = keep[keep < comp.nc]
+    start[kc] = x_first[cols[kc]]
+    return NodeTrajectory(Tend[w:], Tmean[w:], start, S[w:], Ue[w:], end_values(Ue[w:]),
+                          comp.G_states, comp.nc, info, columns=cols, names=comp.free)

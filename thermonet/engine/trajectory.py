@@ -53,6 +53,18 @@ class Trajectory(abc.ABC):
             return self.X.copy()
         return np.vstack([self.x_first[None, :], self.X[:-1]])
 
+    def kept(self, idx) -> np.ndarray:
+        """Which free nodes ``idx`` have their temperatures kept (all, unless the run was
+        asked to keep only some: ``simulate(..., outputs=...)``)."""
+        return np.ones(len(np.atleast_1d(idx)), dtype=bool)
+
+    def storage_w(self, cap) -> np.ndarray:
+        """Heat released by the capacitive nodes ``cap`` [W·s/J × J/K → per node change]:
+        end minus start temperature of each step (n, k) [K]."""
+        end = self.end(cap)
+        start = np.vstack([self.x_first[np.asarray(cap, dtype=np.int64)][None, :], end[:-1]])
+        return end - start
+
     @abc.abstractmethod
     def end(self, idx) -> np.ndarray:
         """End-of-step temperatures [°C] (n, k) of free nodes ``idx``."""
@@ -110,9 +122,14 @@ class ExactTrajectory(Trajectory):
         self.Yx, self.Yu, self.lam, self.Q, self.W, self.C, self.h = Yx, Yu, lam, Q, W, C, h
         self.dense = dense
         self.info = info
+        self.keep_mask = None          # free nodes the tables show (outputs=); None: all
         self.nc = X.shape[1]
         self.nf = self.nc + Yx.shape[1]
         self._xbar = None
+
+    def kept(self, idx):
+        idx = np.atleast_1d(np.asarray(idx, dtype=np.int64))
+        return np.ones(len(idx), bool) if self.keep_mask is None else self.keep_mask[idx]
 
     def _groups(self):
         for s in np.unique(self.S):
@@ -182,20 +199,49 @@ class ExactTrajectory(Trajectory):
 
 
 class NodeTrajectory(Trajectory):
-    """Trajectory that stores every free node's end and mean temperatures (sparse method)."""
+    """Trajectory that stores free nodes' end and mean temperatures (sparse method).
 
-    def __init__(self, T_end, T_mean, x_first, S, U, U_end, G, nc, info):
+    ``columns`` (nf,) maps each free node to its column of ``T_end``/``T_mean``, −1 for a
+    node whose temperatures were not kept (``simulate(..., outputs=...)``); None: all kept,
+    in node order.
+    """
+
+    def __init__(self, T_end, T_mean, x_first, S, U, U_end, G, nc, info, columns=None,
+                 names=None):
         self.T_end, self.T_mean = T_end, T_mean
         self.x_first, self.S, self.U, self.U_end, self.G = x_first, S, U, U_end, G
-        self.nc, self.nf = nc, T_end.shape[1]
-        self.X = T_end[:, :nc]
+        self.nc = nc
+        self.columns = columns
+        self.names = names
+        self.nf = T_end.shape[1] if columns is None else len(columns)
         self.info = info
 
+    @property
+    def X(self):
+        return self.end(np.arange(self.nc))
+
+    def kept(self, idx):
+        idx = np.atleast_1d(np.asarray(idx, dtype=np.int64))
+        return np.ones(len(idx), bool) if self.columns is None else self.columns[idx] >= 0
+
+    def _cols(self, idx):
+        idx = np.asarray(idx, dtype=np.int64)
+        if self.columns is None:
+            return idx
+        cols = self.columns[idx]
+        if (cols < 0).any():
+            lost = [self.names[i] if self.names else int(i) for i in idx[cols < 0]][:5]
+            from thermonet.errors import NetworkError
+
+            raise NetworkError(f"node(s) {lost} were not kept by this run; add them to "
+                               "simulate(..., outputs=...) (nodes=[...] or balances=[...])")
+        return cols
+
     def end(self, idx):
-        return self.T_end[:, np.asarray(idx, dtype=np.int64)]
+        return self.T_end[:, self._cols(idx)]
 
     def mean(self, idx):
-        return self.T_mean[:, np.asarray(idx, dtype=np.int64)]
+        return self.T_mean[:, self._cols(idx)]
 
     def conductances(self, cols):
         return self.G[:, cols][self.S]
