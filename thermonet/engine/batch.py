@@ -280,8 +280,10 @@ def _energy_columns(res, st, opts, Elink, Esrc, heat, cool, storage) -> None:
         cols[pre + "heating"] = heat[:, th_in].sum(axis=1) if st.m else np.zeros(V)
         cols[pre + "cooling"] = -cool[:, th_in].sum(axis=1) if st.m else np.zeros(V)
         cols[pre + "storage"] = storage[:, np.flatnonzero(inside[:st.nc])].sum(axis=1)
-        cols[pre + "residual"] = np.sum([np.broadcast_to(a, (V,)) for a in cols.values()],
-                                        axis=0)
+        residual = np.zeros(V)
+        for a in cols.values():      # term by term, in one order whatever the chunk size
+            residual = residual + a
+        cols[pre + "residual"] = residual
         res.update({k: np.broadcast_to(a, (V,)).copy() for k, a in cols.items()})
 
 
