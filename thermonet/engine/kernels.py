@@ -199,6 +199,9 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
         bc = bconst[v, 0]
         Ms = M[v, 0]
         Qs = Qx[v, 0]
+        zsv = zs_sum[v, 0]
+        usv = us_sum[v, 0]
+        upv = up_sum[v, 0]
         dn = False
         tmax = -np.inf
         tmin = np.inf
@@ -244,6 +247,10 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
                 Ms = M[v, s]
                 Qs = Qx[v, s]
                 dn = dense[v, s]
+                if not keep:
+                    zsv = zs_sum[v, s]
+                    usv = us_sum[v, s]
+                    upv = up_sum[v, s]
                 sv = s
             for j in range(nvar[v]):
                 u[vj[v, j]] = bank[k, vcol[v, j]]
@@ -325,12 +332,13 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
                         Ptr[v, kk, r] = P[r]
                 else:
                     for i in range(nc):
-                        zs_sum[v, s, i] += z[i]
+                        zsv[i] += z[i]
                     for q in range(nvar[v]):
-                        us_sum[v, s, vj[v, q]] += u[vj[v, q]]
-                        up_sum[v, s, vj[v, q]] += up[vj[v, q]]
+                        j = vj[v, q]
+                        usv[j] += u[j]
+                        upv[j] += up[j]
                     for r in range(m):
-                        us_sum[v, s, nin + r] += u[nin + r]
+                        usv[nin + r] += u[nin + r]
                     cnt[v, s] += 1.0
                     th_ = 0.0
                     tc_ = 0.0

@@ -181,8 +181,11 @@ def observed_nodes(st, comfort: int | None) -> tuple[list, np.ndarray, int]:
                 terms[t, icol] = st.m + nodes[st.m:].index(i)
     c = -1
     if comfort is not None:
-        nodes.append(int(comfort))
-        c = len(nodes) - 1
+        if int(comfort) in nodes:
+            c = nodes.index(int(comfort))
+        else:
+            nodes.append(int(comfort))
+            c = len(nodes) - 1
     return nodes, terms, c
 
 
