@@ -19,8 +19,6 @@ import thermonet
 KNOWN_GAPS = frozenset({
     "thermonet.engine.banded.to_band",
     "thermonet.engine.batch.structure_key",
-    "thermonet.engine.compile.Compiled",
-    "thermonet.engine.compile.Compiled.state_id",
     "thermonet.engine.simulate.run_relinearised",
     "thermonet.engine.sparse.SparseState",
     "thermonet.engine.sparse.SparseState.equilibrium",
