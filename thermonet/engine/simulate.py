@@ -54,6 +54,29 @@ def effective_inputs(comp: Compiled, F: np.ndarray, S: np.ndarray, P: np.ndarray
     powers ``P`` [W]. Start: the previous row's raw values (the last warm-up row, or
     ``u_before``/the first row, before the first reported step); used for the inputs that
     vary linearly over a step.
+
+    Parameters
+    ----------
+    comp : Compiled
+        The compiled network (its raw inputs ``comp.U`` (n, nu): boundary temperatures [°C],
+        source powers [W]).
+    F : ndarray (ns, nu)
+        Factor on each input in each state [-] (one variant of ``GroupRun.F``).
+    S : ndarray (n,) of int
+        State id of each reported step.
+    P : ndarray (n, m)
+        Thermostat powers [W] of each reported step.
+    warm : int
+        Warm-up steps run before the reported ones.
+    u_before : ndarray (nu,), optional
+        Raw inputs before the first row (where an earlier run ended); default the first
+        row's.
+
+    Returns
+    -------
+    U_end, U_prev : ndarray (n, nu)
+        Inputs at the end and at the start of each step ([°C] for boundaries, [W] for
+        powers).
     """
     U = comp.U
     U_end = U * (F[S[0]] if len(S) and (S == S[0]).all() else F[S])
@@ -65,7 +88,24 @@ def effective_inputs(comp: Compiled, F: np.ndarray, S: np.ndarray, P: np.ndarray
 
 def trajectory_of(comp: Compiled, run: GroupRun, U_end: np.ndarray, U_prev: np.ndarray,
                   info: dict) -> ExactTrajectory:
-    """The :class:`ExactTrajectory` of variant 0 of a :class:`GroupRun`."""
+    """The :class:`ExactTrajectory` of variant 0 of a :class:`GroupRun`.
+
+    Parameters
+    ----------
+    comp : Compiled
+        The compiled network that was run.
+    run : GroupRun
+        What stepping it gave (traces kept).
+    U_end, U_prev : ndarray (n, nu)
+        Effective inputs at the end and the start of each step ([°C], [W]), from
+        :func:`effective_inputs`.
+    info : dict
+        Counters for :meth:`thermonet.Results.diagnostics`; ``doubling_states`` is added.
+
+    Returns
+    -------
+    ExactTrajectory
+    """
     d = run.disc
     dense = {s: mats for (v, s), mats in d.dense_mats.items() if v == 0}
     info = dict(info, doubling_states=len(dense))
@@ -77,7 +117,19 @@ def trajectory_of(comp: Compiled, run: GroupRun, U_end: np.ndarray, U_prev: np.n
 
 
 def switch_state_after(comp: Compiled, state_id: int) -> np.ndarray:
-    """Switch positions (bool per switch) of a state id."""
+    """Switch positions (bool per switch) of a state id.
+
+    Parameters
+    ----------
+    comp : Compiled
+        The compiled network (its number of switches nsw).
+    state_id : int
+        State id ``sched · 2^nsw + switch bits``.
+
+    Returns
+    -------
+    ndarray (nsw,) of bool
+    """
     nsw = comp.nsw
     bits = int(state_id) % (1 << nsw)
     return np.array([(bits >> k) & 1 == 1 for k in range(nsw)], bool)
@@ -125,7 +177,22 @@ class SparseMethod:
     name = "sparse"
 
     def run(self, comp: Compiled, warm: int, *, tol: float = 1e-6) -> Trajectory:
-        """Step ``comp`` after ``warm`` warm-up steps to the accuracy ``tol``."""
+        """Step ``comp`` after ``warm`` warm-up steps to the accuracy ``tol``.
+
+        Parameters
+        ----------
+        comp : Compiled
+            The compiled network.
+        warm : int
+            Warm-up steps (the first ``warm`` inputs, run before the reported period).
+        tol : float, default 1e-6
+            Accuracy target of the rational exponential, relative to each step's departure
+            from equilibrium [-].
+
+        Returns
+        -------
+        Trajectory
+        """
         from thermonet.engine.sparse import run_sparse
 
         return run_sparse(comp, warm, tol=tol)
@@ -181,6 +248,24 @@ def run_relinearised(net, comp: Compiled, w: int, kernel: str, freq: str) -> Tra
     At the start of each period (pandas offset alias ``freq``) every radiation link's
     h_r = 4σT_m³ is recomputed from the mean of its two nodes' end temperatures (rounded to
     0.5 K); a warm-up runs first at the links' reference temperatures.
+
+    Parameters
+    ----------
+    net : Network
+        The network (its radiation links' parameters).
+    comp : Compiled
+        ``net`` compiled on the weather.
+    w : int
+        Warm-up steps, run first at the reference linearisation.
+    kernel : {"auto", "numba", "numpy"}
+        Stepping kernel of the exact method.
+    freq : str
+        Pandas offset alias of the periods (``"D"``, ``"W"``, ``"MS"``).
+
+    Returns
+    -------
+    JoinedTrajectory
+        The reported periods, joined.
     """
     links = list(net.links.values())
     rad = [i for i, l in enumerate(links) if l.kind == "radiation"]

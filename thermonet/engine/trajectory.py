@@ -55,20 +55,53 @@ class Trajectory(abc.ABC):
 
     @abc.abstractmethod
     def end(self, idx) -> np.ndarray:
-        """End-of-step temperatures [°C] (n, k) of free nodes ``idx``."""
+        """End-of-step temperatures [°C] (n, k) of free nodes ``idx``.
+
+        Parameters
+        ----------
+        idx : array_like of int (k,)
+            Free-node indices (capacitive nodes first, then massless).
+        """
 
     @abc.abstractmethod
     def mean(self, idx) -> np.ndarray:
-        """Step-mean temperatures [°C] (n, k) of free nodes ``idx``."""
+        """Step-mean temperatures [°C] (n, k) of free nodes ``idx``.
+
+        Parameters
+        ----------
+        idx : array_like of int (k,)
+            Free-node indices (capacitive nodes first, then massless).
+        """
 
     @abc.abstractmethod
     def conductances(self, cols) -> np.ndarray:
-        """Conductances [W/K] (n, k) of links ``cols`` in each step's state."""
+        """Conductances [W/K] (n, k) of links ``cols`` in each step's state.
+
+        Parameters
+        ----------
+        cols : array_like of int (k,)
+            Link indices (compile order).
+        """
 
 
 def step_means(U_end, U_prev, ramp):
     """Step-mean inputs: ``U_end`` with the first-order-hold columns ``ramp`` averaged with
-    their previous values ``U_prev``."""
+    their previous values ``U_prev``.
+
+    Parameters
+    ----------
+    U_end : ndarray (n, nu)
+        Inputs at the end of each step ([°C] for boundaries, [W] for powers).
+    U_prev : ndarray (n, nu)
+        Inputs at the start of each step.
+    ramp : ndarray (nu,) of bool
+        Inputs that vary linearly over each step (first-order hold).
+
+    Returns
+    -------
+    ndarray (n, nu)
+        Step means (``U_end`` itself when no input ramps).
+    """
     if not ramp.any():
         return U_end
     U = U_end.copy()
@@ -91,14 +124,15 @@ class ExactTrajectory(Trajectory):
         Inputs that vary linearly over each step (first-order hold).
     G : ndarray (ns, nl)
         Conductances of every state [W/K].
-    K, E, Yx, Yu, lam, Q, W : ndarray (ns, ...)
-        Reduced system and modal form of every state (:mod:`thermonet.engine.discretise`).
+    Yx, Yu, lam, Q, W : ndarray (ns, ...)
+        Massless-node maps and modal form of every state, rates ``lam`` [1/s]
+        (:mod:`thermonet.engine.discretise`).
     C : ndarray (nc,)
         Capacitances [J/K].
     h : float
         Step [s].
     dense : dict
-        State id → (Φ, Γ, Φ̄, Γ̄) for states stepped densely.
+        State id → (Φ, Γ, Φ̄, Γ̄, Γ₃) for states stepped densely.
     info : dict
     """
 
@@ -130,6 +164,13 @@ class ExactTrajectory(Trajectory):
         return idx, idx < self.nc
 
     def end(self, idx):
+        """End-of-step temperatures [°C] (n, k) of free nodes ``idx``.
+
+        Parameters
+        ----------
+        idx : array_like of int (k,)
+            Free-node indices (capacitive nodes first, then massless).
+        """
         idx, cap = self._split(idx)
         if cap.all() and len(idx) == self.nc and (idx == np.arange(self.nc)).all():
             return self.X
@@ -169,6 +210,13 @@ class ExactTrajectory(Trajectory):
         return self._xbar
 
     def mean(self, idx):
+        """Step-mean temperatures [°C] (n, k) of free nodes ``idx``.
+
+        Parameters
+        ----------
+        idx : array_like of int (k,)
+            Free-node indices (capacitive nodes first, then massless).
+        """
         idx, cap = self._split(idx)
         out = np.empty((len(self.S), len(idx)))
         xbar = self.x_mean
@@ -178,11 +226,38 @@ class ExactTrajectory(Trajectory):
         return out
 
     def conductances(self, cols):
+        """Conductances [W/K] (n, k) of links ``cols`` in each step's state.
+
+        Parameters
+        ----------
+        cols : array_like of int (k,)
+            Link indices (compile order).
+        """
         return self.G[:, cols][self.S]
 
 
 class NodeTrajectory(Trajectory):
-    """Trajectory that stores every free node's end and mean temperatures (sparse method)."""
+    """Trajectory that stores every free node's end and mean temperatures (sparse method).
+
+    Parameters
+    ----------
+    T_end : ndarray (n, nf)
+        End-of-step temperatures of every free node [°C] (capacitive first).
+    T_mean : ndarray (n, nf)
+        Step-mean temperatures of every free node [°C].
+    x_first : ndarray (nc,)
+        Capacitive temperatures at the start of the first step [°C].
+    S : ndarray (n,) of int
+        State id per step.
+    U, U_end : ndarray (n, nu)
+        Effective inputs, step means and end of step ([°C], [W]).
+    G : ndarray (ns, nl)
+        Conductances of every state [W/K].
+    nc : int
+        Number of capacitive nodes.
+    info : dict
+        Method-specific counters.
+    """
 
     def __init__(self, T_end, T_mean, x_first, S, U, U_end, G, nc, info):
         self.T_end, self.T_mean = T_end, T_mean
@@ -192,17 +267,46 @@ class NodeTrajectory(Trajectory):
         self.info = info
 
     def end(self, idx):
+        """End-of-step temperatures [°C] (n, k) of free nodes ``idx``.
+
+        Parameters
+        ----------
+        idx : array_like of int (k,)
+            Free-node indices (capacitive nodes first, then massless).
+        """
         return self.T_end[:, np.asarray(idx, dtype=np.int64)]
 
     def mean(self, idx):
+        """Step-mean temperatures [°C] (n, k) of free nodes ``idx``.
+
+        Parameters
+        ----------
+        idx : array_like of int (k,)
+            Free-node indices (capacitive nodes first, then massless).
+        """
         return self.T_mean[:, np.asarray(idx, dtype=np.int64)]
 
     def conductances(self, cols):
+        """Conductances [W/K] (n, k) of links ``cols`` in each step's state.
+
+        Parameters
+        ----------
+        cols : array_like of int (k,)
+            Link indices (compile order).
+        """
         return self.G[:, cols][self.S]
 
 
 class JoinedTrajectory(Trajectory):
-    """Consecutive trajectories of one network (e.g. periods of re-linearised radiation)."""
+    """Consecutive trajectories of one network (e.g. periods of re-linearised radiation).
+
+    Parameters
+    ----------
+    parts : list of Trajectory
+        Trajectories of consecutive periods, in time order, of the same network.
+    info : dict
+        Method-specific counters.
+    """
 
     def __init__(self, parts, info):
         self.parts = parts
@@ -215,10 +319,31 @@ class JoinedTrajectory(Trajectory):
         self.info = info
 
     def end(self, idx):
+        """End-of-step temperatures [°C] (n, k) of free nodes ``idx``.
+
+        Parameters
+        ----------
+        idx : array_like of int (k,)
+            Free-node indices (capacitive nodes first, then massless).
+        """
         return np.vstack([p.end(idx) for p in self.parts])
 
     def mean(self, idx):
+        """Step-mean temperatures [°C] (n, k) of free nodes ``idx``.
+
+        Parameters
+        ----------
+        idx : array_like of int (k,)
+            Free-node indices (capacitive nodes first, then massless).
+        """
         return np.vstack([p.mean(idx) for p in self.parts])
 
     def conductances(self, cols):
+        """Conductances [W/K] (n, k) of links ``cols`` in each step's state.
+
+        Parameters
+        ----------
+        cols : array_like of int (k,)
+            Link indices (compile order).
+        """
         return np.vstack([p.conductances(cols) for p in self.parts])
