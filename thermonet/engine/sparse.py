@@ -245,12 +245,13 @@ class SparseState:
         Parameters
         ----------
         R : ndarray (nf, k)
-            Right-hand sides: heat flows into the free nodes [W].
+            Right-hand sides: heat into the free nodes [W] (e.g. columns of ``E u``).
 
         Returns
         -------
         ndarray (nf, k)
-            Temperatures [K above the boundaries' reference] (``L`` in [W/K]).
+            Free-node temperatures [°C] (``L`` in [W/K]); for a column of unit powers, the
+            steady response [K/W].
         """
         if self.banded:
             X = np.empty_like(R)
