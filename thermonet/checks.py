@@ -268,6 +268,12 @@ def check_network_values(net) -> None:
     (``net.boundaries["b"].temperature.iloc[3] = nan``); this catches such edits before
     they reach the solver.
 
+    Parameters
+    ----------
+    net : Network
+        The network whose boundary temperatures [°C], link conductances [W/K], source
+        powers [W] and thermostat setpoints [°C] (numbers or Series) are checked.
+
     Raises
     ------
     NetworkError
@@ -290,6 +296,13 @@ def check_network_values(net) -> None:
 def check_setpoints(net, *, stacklevel: int = 2) -> None:
     """Setpoints: kelvin-like refused, outside :data:`SETPOINT_RANGE` warned (names each).
 
+    Parameters
+    ----------
+    net : Network
+        The network whose thermostats' heating and cooling setpoints [°C] are checked.
+    stacklevel : int, default 2
+        Stack level of the warnings, as in :func:`warnings.warn` (2: the caller's line).
+
     Raises
     ------
     NetworkError
@@ -308,6 +321,18 @@ def check_time_constants(net, *, stacklevel: int = 2) -> None:
 
     ΣG sums the mean conductances of the node's links [W/K]. A node with capacitance and
     no conductance at all is left to the compiler (it has no path to a boundary).
+
+    Parameters
+    ----------
+    net : Network
+        The network whose nodes' capacitances [J/K] and links' conductances [W/K] are read.
+    stacklevel : int, default 2
+        Stack level of the warnings, as in :func:`warnings.warn` (2: the caller's line).
+
+    Warns
+    -----
+    PlausibilityWarning
+        A node's time constant C/ΣG [s] exceeds :data:`TIME_CONSTANT_MAX_S`.
     """
     gsum = dict.fromkeys(net.nodes, 0.0)
     for lk in net.links.values():
@@ -342,6 +367,8 @@ def check_warmup(weather: pd.DataFrame, warmup_days: float, *, stacklevel: int =
         Requested lead-in [days]. The default :data:`DEFAULT_WARMUP_DAYS` is cut to the data
         length silently (short test runs use it); any other value longer than the data
         warns.
+    stacklevel : int, default 2
+        Stack level of the warnings, as in :func:`warnings.warn` (2: the caller's line).
 
     Warns
     -----

@@ -216,7 +216,21 @@ def bedroom_night(room: str, outdoor: str, *, threshold: float = TM59_OPENING_TH
 
 
 def outdoor_hotter(room: str, outdoor: str, by: float = 0.0) -> Condition:
-    """True while outdoors is warmer than the room by more than ``by`` [K] (close then)."""
+    """True while outdoors is warmer than the room by more than ``by`` [K] (close then).
+
+    Parameters
+    ----------
+    room : str
+        Name of the room's node.
+    outdoor : str
+        Name of the outdoor boundary (or node).
+    by : float, default 0.0
+        Required difference T_outdoor − T_room [K].
+
+    Returns
+    -------
+    Condition
+    """
     return warmer(outdoor, room, by=by)
 
 

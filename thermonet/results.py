@@ -23,7 +23,29 @@ from thermonet.errors import NetworkError
 
 
 class Results:
-    """What :func:`thermonet.simulate` computed. Tables are built on first access."""
+    """What :func:`thermonet.simulate` computed. Tables are built on first access.
+
+    Made by :func:`thermonet.simulate`; not meant to be constructed by hand.
+
+    Parameters
+    ----------
+    net : Network
+        The network simulated (node, boundary and link names; the node order of tables).
+    comp : Compiled
+        ``net`` compiled on the simulation index (:mod:`thermonet.engine.compile`).
+    traj : Trajectory
+        What the method computed (:class:`thermonet.engine.trajectory.Trajectory`).
+    info : dict
+        Method, steps, warm-up steps, step [s], states, kernel and the method's counters;
+        shown by :meth:`diagnostics`.
+
+    Attributes
+    ----------
+    info : dict
+        As given.
+    index : pandas.DatetimeIndex
+        The simulation index; row ``t`` describes the step ``(t − h, t]``.
+    """
 
     def __init__(self, net, comp, traj, info):
         self._net = net
@@ -167,7 +189,24 @@ class Results:
         return set(nodes)
 
     def balance_w(self, nodes) -> pd.DataFrame:
-        """Mean power [W] per step by path into the node set (see :meth:`balance`)."""
+        """Mean power [W] per step by path into the node set (see :meth:`balance`).
+
+        Parameters
+        ----------
+        nodes : str or list of str
+            The control volume (free nodes).
+
+        Returns
+        -------
+        pandas.DataFrame
+            The columns of :meth:`balance`, as step-mean powers [W] (positive = heat into
+            the set).
+
+        Raises
+        ------
+        NetworkError
+            No node, a boundary, or an unknown node name.
+        """
         c, t = self._c, self._t
         inside = np.zeros(c.nf + c.nb, dtype=bool)
         inside[[c.free.index(n) for n in self._node_set(nodes)]] = True

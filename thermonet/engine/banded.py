@@ -176,7 +176,21 @@ def march_free_band(Lbs, ds, weights, r_inf, c, Lb_real, d_real, E_ptr, E_idx, E
 
 
 def to_band(A, bandwidth):
-    """Lower band array of a scipy sparse symmetric matrix (already reordered)."""
+    """Lower band array of a scipy sparse symmetric matrix (already reordered).
+
+    Parameters
+    ----------
+    A : scipy.sparse matrix (n, n)
+        Symmetric matrix (real or complex; e.g. ``hL`` [J/K] or ``L`` [W/K]); only its
+        lower triangle is read.
+    bandwidth : int
+        Lower bandwidth b: no entry with ``i − j > b``.
+
+    Returns
+    -------
+    ndarray (b + 1, n)
+        ``band[k, i] = A[i, i − k]``, as :func:`ldl_band` takes it.
+    """
     coo = A.tocoo()
     keep = coo.row >= coo.col
     rows, cols, vals = coo.row[keep], coo.col[keep], coo.data[keep]

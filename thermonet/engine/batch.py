@@ -101,6 +101,16 @@ def structure_key(net) -> tuple:
     thresholds, initial temperatures) are *not* part of the key; names, connectivity, paths,
     which nodes are massless, which setpoints exist, the switch conditions' references and
     operators are. Signals in conditions are compared by content.
+
+    Parameters
+    ----------
+    net : Network
+        The network to describe.
+
+    Returns
+    -------
+    tuple
+        Equal for two networks exactly when they can share one compiled structure.
     """
     ordinals: dict = {}
     return (

@@ -40,7 +40,19 @@ MAX_STATES = 256
 
 # ====================================================================== time axis, columns
 def upsample(values: np.ndarray, factor: int) -> np.ndarray:
-    """Hold each interval's value over its ``factor`` sub-intervals (interval ending)."""
+    """Hold each interval's value over its ``factor`` sub-intervals (interval ending).
+
+    Parameters
+    ----------
+    values : ndarray (n, ...)
+        One value per weather interval (any unit), time on axis 0.
+    factor : int
+        Sub-steps per weather step (1: ``values`` returned as is).
+
+    Returns
+    -------
+    ndarray (n · factor, ...)
+    """
     return np.repeat(values, factor, axis=0) if factor > 1 else values
 
 
@@ -124,6 +136,9 @@ class ColumnStore:
         The simulation index (see :func:`sim_index`).
     step_s : float
         Simulation step [s].
+    instantaneous : collection of str, default empty
+        Weather columns that are instantaneous values: on sub-steps they are interpolated
+        linearly between labels, and inputs read from them follow a first-order hold.
     """
 
     def __init__(self, weather: pd.DataFrame, factor: int, index: pd.DatetimeIndex,
@@ -168,7 +183,17 @@ class ColumnStore:
         return len(self.index)
 
     def slice(self, rows) -> ColumnStore:
-        """A store of the rows ``rows`` of this one (same keys)."""
+        """A store of the rows ``rows`` of this one (same keys).
+
+        Parameters
+        ----------
+        rows : slice or array of int or bool
+            Rows of the simulation index to keep.
+
+        Returns
+        -------
+        ColumnStore
+        """
         out = ColumnStore(self.weather, self.factor, self.index[rows], self.step_s,
                           self.instantaneous)
         out.cols = {k: v[rows] for k, v in self.cols.items()}
@@ -180,6 +205,23 @@ class ColumnStore:
 
         An instantaneous column on sub-steps is interpolated linearly between the labels
         (the first label's value before it); others are held over their interval.
+
+        Parameters
+        ----------
+        name : str
+            Weather column name.
+        what : str
+            Names the input that uses it, in error messages (e.g. ``"boundary 'outdoor'"``).
+
+        Returns
+        -------
+        tuple
+            The key ``("weather", name)``.
+
+        Raises
+        ------
+        WeatherError
+            The column is missing or has NaN/inf values.
         """
         key = ("weather", name)
         if key not in self.cols:
@@ -195,11 +237,31 @@ class ColumnStore:
         return key
 
     def is_ramp(self, spec) -> bool:
-        """Whether a spec is an instantaneous weather column (first-order hold)."""
+        """Whether a spec is an instantaneous weather column (first-order hold).
+
+        Parameters
+        ----------
+        spec : float or tuple
+            A column spec (a constant or a key).
+        """
         return isinstance(spec, tuple) and spec[0] == "weather" and spec[1] in self.instantaneous
 
     def series_col(self, series: pd.Series, what: str):
-        """Key of a Series aligned to the weather (checked: same index, finite)."""
+        """Key of a Series aligned to the weather (checked: same index, finite).
+
+        Parameters
+        ----------
+        series : pandas.Series
+            Values on the weather's index (any SI unit: [°C], [W], [W/K] ...), held over
+            each sub-step.
+        what : str
+            Names the input in error messages.
+
+        Returns
+        -------
+        tuple
+            The key ``("series", id(series))``; the store keeps the Series alive.
+        """
         key = ("series", id(series))
         if key not in self.cols:
             self.cols[key] = series_or_constant(series, self.weather, self.factor, what)
@@ -207,7 +269,17 @@ class ColumnStore:
         return key
 
     def array_col(self, values: np.ndarray):
-        """A constant → float; otherwise a content-hashed key."""
+        """A constant → float; otherwise a content-hashed key.
+
+        Parameters
+        ----------
+        values : array_like (n,)
+            Values on the simulation index (any unit); all NaN gives NaN.
+
+        Returns
+        -------
+        float or tuple
+        """
         values = np.asarray(values, dtype=float)
         v0 = values[0]
         if np.isnan(v0) and np.isnan(values).all():
@@ -220,7 +292,22 @@ class ColumnStore:
         return key
 
     def spec(self, value, what: str, column_ok: bool = False):
-        """Spec of a number, a Series or (``column_ok``) a weather column name."""
+        """Spec of a number, a Series or (``column_ok``) a weather column name.
+
+        Parameters
+        ----------
+        value : float, pandas.Series or str
+            A constant, a Series on the weather's index, or a weather column name (SI
+            units of the input: [°C] temperatures, [W] powers).
+        what : str
+            Names the input in error messages.
+        column_ok : bool, default False
+            Whether a weather column name is allowed (boundaries only).
+
+        Returns
+        -------
+        float or tuple
+        """
         if isinstance(value, str):
             if not column_ok:
                 raise NetworkError(f"{what}: a column name is only allowed for boundaries")
@@ -230,11 +317,27 @@ class ColumnStore:
         return float(value)
 
     def value(self, spec) -> np.ndarray | float:
-        """The series of a key, or the float itself."""
+        """The series of a key, or the float itself.
+
+        Parameters
+        ----------
+        spec : float or tuple
+            A column spec.
+        """
         return spec if isinstance(spec, float) else self.cols[spec]
 
     def array(self, spec) -> np.ndarray:
-        """The spec as a full array on the simulation index."""
+        """The spec as a full array on the simulation index.
+
+        Parameters
+        ----------
+        spec : float or tuple
+            A column spec.
+
+        Returns
+        -------
+        ndarray (n,)
+        """
         v = self.value(spec)
         return np.full(len(self.index), v) if isinstance(v, float) else v
 
@@ -273,7 +376,18 @@ def connected_to_boundary(nf: int, a: np.ndarray, b: np.ndarray, g: np.ndarray
 
 
 def condition_terms(net):
-    """Every term of every switch condition, in compile order (on, then off, per switch)."""
+    """Every term of every switch condition, in compile order (on, then off, per switch).
+
+    Parameters
+    ----------
+    net : Network
+        The network whose switches are read.
+
+    Yields
+    ------
+    term
+        Each term (``a``, ``b``, ``op``, ``threshold``) of each clause.
+    """
     for s in net.switches.values():
         for cond in (s.on, s.off):
             if cond is None:
@@ -293,7 +407,9 @@ class Structure:
     step_s : float
         Step h [s].
     free : list of str
-        Free nodes, capacitive first; ``nc`` of them capacitive.
+        Free nodes, capacitive first.
+    nc : int
+        Number of capacitive free nodes (the first ``nc`` of ``free``).
     boundaries, link_names, link_paths, source_names, source_paths, thermostat_names,
     switch_names : list of str
     link_a, link_b : ndarray of int
@@ -486,6 +602,8 @@ class Values:
     ramp : ndarray (nb + nsrc,) of bool
         Inputs that are instantaneous values, interpolated linearly over each step
         (first-order hold); the others are held (zero-order hold).
+    own_columns : int
+        Columns this variant added to the store when it was compiled (for memory estimates).
     """
 
     C: np.ndarray
@@ -656,7 +774,21 @@ def compile_values(net, st: Structure, store: ColumnStore) -> Values:
 # ================================================================================ one network
 @dataclass
 class Compiled:
-    """A network compiled on a time axis: its structure, numbers and inputs as arrays (SI)."""
+    """A network compiled on a time axis: its structure, numbers and inputs as arrays (SI).
+
+    Structure fields (``free``, ``link_a``, ``nc`` ...) read through to ``st``.
+
+    Attributes
+    ----------
+    st : Structure
+        Names and connectivity.
+    val : Values
+        The network's numbers.
+    store : ColumnStore
+        The time series its column specs refer to.
+    initial : dict of str to float
+        Initial temperatures [°C] the nodes set themselves, by node name.
+    """
 
     st: Structure
     val: Values
@@ -721,6 +853,15 @@ class Compiled:
         return _stack(self.store, self.val.scols, len(self.st.index))
 
     def state_id(self, sched: int, bits: int) -> int:
+        """State id ``sched · 2^nsw + bits``.
+
+        Parameters
+        ----------
+        sched : int
+            Scheduled-conductance row.
+        bits : int
+            Switch bit pattern (bit w set when switch w is on).
+        """
         return sched * (1 << self.st.nsw) + bits
 
 

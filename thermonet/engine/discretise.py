@@ -114,7 +114,22 @@ def phi3(x):
 # ================================================================================ Laplacian
 def laplacian_coo(st, g: np.ndarray):
     """Rows, columns and values of the Laplacian of conductances ``g`` [W/K] (duplicates summed
-    by the consumer), over the points ``free + boundaries`` of structure ``st``."""
+    by the consumer), over the points ``free + boundaries`` of structure ``st``.
+
+    Parameters
+    ----------
+    st : Structure
+        The structure (link ends ``link_a``, ``link_b`` index ``free + boundaries``).
+    g : ndarray (nl,) or (..., nl)
+        Link conductances [W/K]; leading axes are concatenated along the last one.
+
+    Returns
+    -------
+    rows, cols : ndarray of int (4·nl,)
+        Point indices of each entry.
+    vals : ndarray (..., 4·nl)
+        Entry values [W/K] (``+g`` on the diagonal, ``−g`` off it).
+    """
     a, b = st.link_a, st.link_b
     rows = np.concatenate([a, b, a, b])
     cols = np.concatenate([a, b, b, a])
@@ -127,6 +142,18 @@ def laplacian_dense(st, G: np.ndarray) -> np.ndarray:
 
     Entries are summed in link order (as :func:`numpy.add.at` would), for every stacked row
     at once.
+
+    Parameters
+    ----------
+    st : Structure
+        The structure (npts = nf + nb points: free nodes, then boundaries).
+    G : ndarray (..., nl)
+        Link conductances [W/K], any leading axes (e.g. (V, ns, nl)).
+
+    Returns
+    -------
+    ndarray (..., npts, npts)
+        Laplacians [W/K].
     """
     npts = st.nf + st.nb
     lead = G.shape[:-1]
@@ -141,7 +168,22 @@ def laplacian_dense(st, G: np.ndarray) -> np.ndarray:
 
 
 def laplacian_sparse(st, g: np.ndarray):
-    """Sparse ``L_ff`` (CSC) and dense ``L_fb`` of the free nodes for conductances ``g``."""
+    """Sparse ``L_ff`` (CSC) and dense ``L_fb`` of the free nodes for conductances ``g``.
+
+    Parameters
+    ----------
+    st : Structure
+        The structure (nf free nodes, nb boundaries).
+    g : ndarray (nl,)
+        Link conductances of one state [W/K].
+
+    Returns
+    -------
+    L_ff : scipy.sparse.csc_matrix (nf, nf)
+        Free–free block of the Laplacian [W/K].
+    L_fb : ndarray (nf, nb)
+        Free–boundary block [W/K].
+    """
     nf, nb = st.nf, st.nb
     rows, cols, vals = laplacian_coo(st, g)
     L = sp.coo_matrix((vals, (rows, cols)), shape=(nf + nb, nf + nb)).tocsc()
@@ -149,7 +191,21 @@ def laplacian_sparse(st, g: np.ndarray):
 
 
 def input_matrix(st, L_fb: np.ndarray) -> np.ndarray:
-    """``E`` (..., nf, nu): heat into free nodes per unit input (−L_fb for boundary temps)."""
+    """``E`` (..., nf, nu): heat into free nodes per unit input (−L_fb for boundary temps).
+
+    Parameters
+    ----------
+    st : Structure
+        The structure (boundaries, sources and thermostats give the nu input columns).
+    L_fb : ndarray (..., nf, nb)
+        Free–boundary block of the Laplacian [W/K].
+
+    Returns
+    -------
+    ndarray (..., nf, nu)
+        Boundary columns [W/K] (heat per kelvin of boundary temperature); source and
+        thermostat columns are 1 at their node (heat per watt, dimensionless).
+    """
     lead = L_fb.shape[:-2]
     E = np.zeros(lead + (st.nf, st.nu))
     E[..., :st.nb] = -L_fb
@@ -364,6 +420,8 @@ class Discretised:
     ----------
     h : float
         Step [s].
+    nb : int
+        Number of boundaries (the first ``nb`` input columns are boundary temperatures).
     C : ndarray (V, nc)
         Capacitances [J/K].
     K, E, Yx, Yu : ndarray
@@ -393,7 +451,22 @@ class Discretised:
     errors: list = field(default_factory=list)
 
     def matrices(self, v: int, s: int):
-        """Dense (Φ, Γ, Φ̄, Γ̄, Γ₃) of variant v, state s (from the modal form if needed)."""
+        """Dense (Φ, Γ, Φ̄, Γ̄, Γ₃) of variant v, state s (from the modal form if needed).
+
+        Parameters
+        ----------
+        v : int
+            Variant index (axis 0).
+        s : int
+            State id (axis 1).
+
+        Returns
+        -------
+        Phi, Gam, Phibar, Gambar, Gam3 : ndarray (nc, nc), (nc, nu), (nc, nc), (nc, nu),
+            (nc, nu)
+            End-of-step and step-mean maps of the state and the inputs (see the module
+            docstring); ``Γ₃`` is the step mean of an input rising linearly from 0 to 1.
+        """
         if self.dense[v, s]:
             return self.dense_mats[(v, s)]
         x = self.lam[v, s] * self.h

@@ -126,7 +126,34 @@ def control_powers(T0, M, hsp, csp, qh, qc, P):
 
 
 def switch_bits(on, has_off, terms, term_clause, clause_cond, temps, sig):
-    """Update switch positions ``on`` (in place) and return their bit pattern."""
+    """Update switch positions ``on`` (in place) and return their bit pattern.
+
+    A switch that is on and has an ``off`` condition stays on until that condition holds
+    (hysteresis); otherwise it is on exactly while its ``on`` condition holds.
+
+    Parameters
+    ----------
+    on : ndarray (nsw,) of bool
+        Switch positions after the previous step; updated in place.
+    has_off : ndarray (nsw,) of bool
+        Whether each switch has an ``off`` condition.
+    terms : ndarray (n_terms, 6)
+        ``kind_a, idx_a, kind_b, idx_b, op, threshold`` of every condition term (see
+        :func:`eval_condition`).
+    term_clause : ndarray (n_terms,) of int
+        Clause of each term.
+    clause_cond : ndarray (n_clauses,) of int
+        Condition of each clause (2·switch + 0 for ``on``, 1 for ``off``).
+    temps : ndarray
+        Temperatures [°C] the terms of kind 0 index (end of the previous step).
+    sig : ndarray (nsig,)
+        This step's signal values (in each signal's unit).
+
+    Returns
+    -------
+    int
+        Bit w set when switch w is on.
+    """
     bits = 0
     for w in range(on.shape[0]):
         if on[w] and has_off[w]:
@@ -151,19 +178,120 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
                x_first, x_last):  # pragma: no cover - compiled
     """Step every variant over every row of ``bank`` in modal coordinates (see module doc).
 
-    Shapes (V variants, ns states, nc capacitive nodes, nu inputs, m thermostats, nobs
-    observed points, n steps):
-    a (V, ns, nc) e^{−λh}; Ad (V, ns, nc, nc) Φ of dense states; dense (V, ns);
-    BT (V, ns, nu, nc) input operator rows (source factors folded) on this step's input and
-    BTp on the previous step's (first-order hold: ``rampv`` marks those varying inputs;
-    ``uprev0`` (V, nu) the inputs before the first row); Qx, Pz (V, ns, nc, nc)
-    with x = Qx z, z = Pz x; Ox (V, ns, nobs, nc), Ou (V, ns, nobs, nu); M (V, ns, m, m);
-    bconst (V, ns, nc), oconst (V, ns, nobs) the constant inputs' part; nvar (V,), vj, vcol
-    (V, k) the varying inputs and their bank columns; z0, x0 (V, nc), s0 (V,), obs0
-    (V, nobs) start; schedules, setpoints and signals as bank column or constant per
-    variant. ``keep``: write Ztr (V, n − warm, nc) end coordinates (node temperatures
-    ``x = Qx z`` if ``to_nodes``), Str state ids, Ptr powers; else only the sums over the
-    reported steps ``k ≥ warm``.
+    Shapes: V variants, ns states, nc capacitive nodes, nu inputs (nin = nb + nsrc
+    boundaries and sources, then m thermostats), nobs observed points, n rows (``warm``
+    warm-up rows, then the reported ones), k the most varying inputs of a variant, nsig
+    signals. A state is stepped in modal coordinates ``z = Qᵀ C x``, or, where ``dense``,
+    in node coordinates ``z = x`` [°C]. ``keep``: write the traces ``Ztr``, ``Str``,
+    ``Ptr``; else only the sums over the reported steps ``k ≥ warm``. Outputs are written
+    in place.
+
+    Parameters
+    ----------
+    a : ndarray (V, ns, nc)
+        Modal decay over a step ``e^{−λh}`` [-].
+    Ad : ndarray (V, ns, nc, nc)
+        Φ of the dense states [-] (may be (V, ns, 0, 0) when none is dense).
+    dense : ndarray (V, ns) of bool
+        States stepped densely in node coordinates.
+    BT, BTp : ndarray (V, ns, nu, nc)
+        Input operator rows (source factors folded in) on this step's input and on the
+        previous step's (first-order hold inputs only).
+    Qx, Pz : ndarray (V, ns, nc, nc)
+        ``x = Qx z``, ``z = Pz x``.
+    Ox, Ou : ndarray (V, ns, nobs, nc), ndarray (V, ns, nobs, nu)
+        Observed temperatures [°C] as ``Ox z + Ou u``.
+    M : ndarray (V, ns, m, m)
+        Thermostat nodes' end-of-step response to 1 W held over the step [K/W].
+    bconst : ndarray (V, ns, nc)
+        Constant inputs' contribution to the end-of-step coordinates.
+    oconst : ndarray (V, ns, nobs)
+        Constant inputs' part of the observed temperatures [°C].
+    nvar : ndarray (V,) of int
+        Number of varying inputs per variant.
+    vj, vcol : ndarray (V, k) of int
+        Input index of each varying input and its column in ``bank``.
+    rampv : ndarray (V, k) of bool
+        Varying inputs interpolated linearly over the step (first-order hold).
+    uprev0 : ndarray (V, nu)
+        Inputs before the first row (boundary temperatures [°C], powers [W]).
+    bank : ndarray (n, ncols)
+        Time series of the group (:attr:`thermonet.engine.run.Bank.data`) [SI].
+    z0 : ndarray (V, nc)
+        Start coordinates (``Pz[s0] x0``).
+    x0 : ndarray (V, nc)
+        Start temperatures of the capacitive nodes [°C].
+    s0 : ndarray (V,) of int
+        Start state id.
+    obs0 : ndarray (V, nobs)
+        Observed temperatures before the first step [°C].
+    schcol, schconst : ndarray (V,) of int, ndarray (V,)
+        Scheduled-state id: ``bank`` column (−1: the constant).
+    hcol, hconst : ndarray (V, m) of int, ndarray (V, m)
+        Heating setpoints [°C] (NaN = none): column or constant.
+    ccol, cconst : ndarray (V, m) of int, ndarray (V, m)
+        Cooling setpoints [°C] (NaN = none): column or constant.
+    scol, sconst : ndarray (V, nsig) of int, ndarray (V, nsig)
+        Condition signals: column or constant.
+    qh, qc : ndarray (V, m)
+        Heating and cooling capacities [W].
+    sw_init : ndarray (V, nsw) of bool
+        Initial switch positions.
+    has_off : ndarray (nsw,) of bool
+        Whether each switch has an ``off`` condition.
+    terms : ndarray (V, n_terms, 6)
+        Condition terms per variant (kind 0 indexes observed points), thresholds [°C or the
+        signal's unit] in column 5 (see :func:`eval_condition`).
+    term_clause : ndarray (n_terms,) of int
+        Clause of each term.
+    clause_cond : ndarray (n_clauses,) of int
+        Condition of each clause.
+    nin : int
+        Number of boundary and source inputs (thermostat powers follow them).
+    nsw : int
+        Number of switches.
+    warm : int
+        Warm-up rows before the reported ones.
+    th_obs : ndarray (m,) of int
+        Observed point of each thermostat node.
+    c_obs : int
+        Observed point of the comfort node (−1: none).
+    thr_h : ndarray (nth,)
+        Thresholds [°C] for counting steps with the comfort node above.
+    thr_d : ndarray (ndh,)
+        Thresholds [°C] for the comfort node's degree-steps above.
+    keep : bool
+        Write traces (else sums).
+    to_nodes : bool
+        Write ``Ztr`` as node temperatures ``x = Qx z`` [°C] instead of coordinates.
+    Ztr : ndarray (V, n − warm, nc)
+        Output: end-of-step coordinates (or temperatures [°C]), with ``keep``.
+    Str : ndarray (V, n − warm) of int
+        Output: state id of each reported step, with ``keep``.
+    Ptr : ndarray (V, n − warm, m)
+        Output: thermostat powers [W], heating > 0, cooling < 0, with ``keep``.
+    heat, cool : ndarray (V, m)
+        Output: sums of each thermostat's heating and cooling power [W·steps].
+    peak_h, peak_c : ndarray (V,)
+        Output: peaks of the total heating and cooling power [W].
+    hrs : ndarray (V, nth)
+        Output: reported steps with the comfort node above each ``thr_h``.
+    dgh : ndarray (V, ndh)
+        Output: sum of the comfort node's excess over each ``thr_d`` [K·steps].
+    tstat : ndarray (V, 3)
+        Output: maximum, minimum and sum of the comfort node's temperature [°C].
+    zs_sum : ndarray (V, ns, nc)
+        Output: sum of the start-of-step coordinates per state.
+    us_sum : ndarray (V, ns, nu)
+        Output: sum of each step's varying inputs and thermostat powers per state.
+    up_sum : ndarray (V, ns, nu)
+        Output: sum of the previous step's varying inputs per state.
+    cnt : ndarray (V, ns)
+        Output: number of reported steps in each state.
+    x_first : ndarray (V, nc)
+        Output: temperatures at the start of the first reported step [°C].
+    x_last : ndarray (V, nc)
+        Output: temperatures at the end of the last step [°C].
     """
     V = z0.shape[0]
     n = bank.shape[0]
@@ -395,14 +523,18 @@ def step_reference(mats, Rx, Ru, Yx, Yu, factor, x0, s0, U, sched, hsp, csp, sig
     factor : ndarray (ns, nsrc)
         Source factor per state.
     x0 : ndarray (nc,)
-        Start state [°C]; ``s0`` its state id (unused but for symmetry with the kernel).
+        Start state [°C].
+    s0 : int
+        Its state id (unused but for symmetry with the kernel).
     U : ndarray (n, nu)
-        Raw inputs per step (thermostat columns ignored).
+        Raw inputs per step: boundary temperatures [°C], source powers [W] before the
+        switches' factors (thermostat columns ignored).
     sched : ndarray (n,) of int
         Scheduled-state id per step.
     hsp, csp : ndarray (n, m)
         Setpoints [°C] (NaN = none).
     signals : ndarray (n, nsig)
+        Condition signal values per step (in each signal's unit).
     qh, qc : ndarray (m,)
         Capacities [W].
     sw_init, has_off, terms, term_clause, clause_cond
@@ -411,6 +543,10 @@ def step_reference(mats, Rx, Ru, Yx, Yu, factor, x0, s0, U, sched, hsp, csp, sig
         Numbers of boundaries and sources.
     warm : int
         Steps before the reported ones.
+    ramp : ndarray (nb + nsrc,) of bool
+        Inputs interpolated linearly over each step (first-order hold).
+    u_before : ndarray (nu,)
+        Raw inputs before the first row (boundary temperatures [°C], source powers [W]).
 
     Returns
     -------

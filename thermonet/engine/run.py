@@ -44,6 +44,23 @@ class Bank:
 
     ``col`` arrays hold a column of ``data`` per variant and input (−1: the constant in the
     matching ``const`` array is used).
+
+    Attributes
+    ----------
+    data : ndarray (warm + n, ncols)
+        Every distinct time series of the group once, one column each (SI units: [°C] for
+        temperatures and setpoints, [W] for powers); the first ``warm`` rows repeat the first
+        ``warm`` reported rows (warm-up).
+    ucol, uconst : ndarray (V, nb + nsrc) of int, ndarray (V, nb + nsrc)
+        Boundary temperatures [°C] and source powers [W]: column or constant.
+    hcol, hconst : ndarray (V, m) of int, ndarray (V, m)
+        Heating setpoints [°C] (NaN = none): column or constant.
+    ccol, cconst : ndarray (V, m) of int, ndarray (V, m)
+        Cooling setpoints [°C] (NaN = none): column or constant.
+    scol, sconst : ndarray (V, nsig) of int, ndarray (V, nsig)
+        Condition signals (in the signal's unit): column or constant.
+    schcol, schconst : ndarray (V,) of int, ndarray (V,)
+        Scheduled-state id per step (a float holding an integer): column or constant.
     """
 
     data: np.ndarray
@@ -59,11 +76,34 @@ class Bank:
     schconst: np.ndarray
 
     def first(self, cols: np.ndarray, const: np.ndarray) -> np.ndarray:
-        """Values of the first row for (V, k) column specs."""
+        """Values of the first row for (V, k) column specs.
+
+        Parameters
+        ----------
+        cols : ndarray (V, k) of int
+            Column of ``data`` per variant and input (−1: use ``const``).
+        const : ndarray (V, k)
+            Constants used where ``cols`` is −1 (same unit as the input).
+
+        Returns
+        -------
+        ndarray (V, k)
+        """
         return np.where(cols >= 0, self.data[0, np.maximum(cols, 0)], const)
 
     def column_sums(self, warm: int) -> np.ndarray:
-        """Sum of each data column over the reported rows."""
+        """Sum of each data column over the reported rows.
+
+        Parameters
+        ----------
+        warm : int
+            Warm-up rows at the top of ``data``, left out of the sums.
+
+        Returns
+        -------
+        ndarray (ncols,)
+            Column sums over the reported rows (unit of the column × steps).
+        """
         return self.data[warm:].sum(axis=0)
 
 
@@ -81,7 +121,23 @@ def _columns(specs_per_variant, k, index_of):
 
 
 def make_bank(st, vals: list, store, warm: int) -> Bank:
-    """Stack the group's time series once (see :class:`Bank`)."""
+    """Stack the group's time series once (see :class:`Bank`).
+
+    Parameters
+    ----------
+    st : Structure
+        The group's structure.
+    vals : list of Values
+        The V variants; their column specs index ``store``.
+    store : ColumnStore
+        The time series [SI] the specs refer to (n rows).
+    warm : int
+        Warm-up steps: the first ``warm`` rows are repeated in front of the series.
+
+    Returns
+    -------
+    Bank
+    """
     keys: dict = {}
 
     def index_of(spec):
@@ -107,7 +163,21 @@ def make_bank(st, vals: list, store, warm: int) -> Bank:
 
 # ==================================================================================== start
 def input_factors(st, vals: list) -> np.ndarray:
-    """(V, ns, nu) factor on each input in each state (sources: the switches' factors)."""
+    """(V, ns, nu) factor on each input in each state (sources: the switches' factors).
+
+    Parameters
+    ----------
+    st : Structure
+        The group's structure.
+    vals : list of Values
+        The V variants (same number of states ns).
+
+    Returns
+    -------
+    ndarray (V, ns, nu)
+        Dimensionless factors: 1 for boundaries and thermostats, the product of the
+        switches' factors for sources.
+    """
     F = np.ones((len(vals), vals[0].n_states, st.nu))
     for v, p in enumerate(vals):
         F[v, :, st.nb:st.nb + st.nsrc] = p.source_factor
@@ -115,7 +185,34 @@ def input_factors(st, vals: list) -> np.ndarray:
 
 
 def start_states(st, vals: list, disc: Discretised, bank: Bank, ok: np.ndarray):
-    """Start state ``x0`` (V, nc) [°C], its state id ``s0`` (V,) and raw first inputs ``u0``."""
+    """Start state ``x0`` (V, nc) [°C], its state id ``s0`` (V,) and raw first inputs ``u0``.
+
+    The start is the steady state under the first row's inputs with the thermostats acting
+    (:func:`thermonet.engine.start.steady_start`), then the nodes' own initial temperatures.
+
+    Parameters
+    ----------
+    st : Structure
+        The group's structure.
+    vals : list of Values
+        The V variants.
+    disc : Discretised
+        Their discretisation (``K``, ``E``, ``Yx``, ``Yu`` per variant and state).
+    bank : Bank
+        Their inputs (the first row is used).
+    ok : ndarray (V,) of bool
+        Variants to start; the others keep ``x0`` = 0.
+
+    Returns
+    -------
+    x0 : ndarray (V, nc)
+        Start temperatures of the capacitive nodes [°C].
+    s0 : ndarray (V,) of int
+        State id of the first row (``sched · 2^nsw + switch bits``).
+    u0 : ndarray (V, nu)
+        First row's boundary temperatures [°C] and source powers [W] (unscaled by switch
+        factors); thermostat columns zero.
+    """
     V, nc, nsw = len(vals), st.nc, st.nsw
     sw = np.array([p.sw_init for p in vals], dtype=bool).reshape(V, nsw)
     bits0 = (sw * (1 << np.arange(nsw))[None, :]).sum(axis=1).astype(np.int64)
@@ -143,7 +240,45 @@ def start_states(st, vals: list, disc: Discretised, bank: Bank, ok: np.ndarray):
 # ================================================================================ operators
 @dataclass
 class Operators:
-    """Arrays of :func:`thermonet.engine.kernels.step_modal` (see its docstring)."""
+    """Arrays of :func:`thermonet.engine.kernels.step_modal` (see its docstring).
+
+    Shapes: V variants, ns states, nc capacitive nodes, nu inputs, m thermostats, nobs
+    observed points, k the most varying inputs of a variant. A state is stepped in modal
+    coordinates ``z = Qᵀ C x`` or, if ``dense``, in node coordinates ``z = x`` [°C].
+
+    Attributes
+    ----------
+    a : ndarray (V, ns, nc)
+        Modal decay over a step ``e^{−λh}`` [-].
+    Ad : ndarray (V, ns, nc, nc), or (V, ns, 0, 0) when no state is dense
+        Φ of the dense states [-].
+    dense : ndarray (V, ns) of bool
+        States stepped densely in node coordinates.
+    BT, BTp : ndarray (V, ns, nu, nc)
+        Input operators, transposed (one row per input, source factors folded in), on this
+        step's input and on the previous step's (the latter non-zero only for first-order
+        hold inputs); per unit input: [K/K] for boundary temperatures, [K/W] for powers
+        (in node coordinates).
+    Qx, Pz : ndarray (V, ns, nc, nc)
+        ``x = Qx z`` and ``z = Pz x`` (identities for dense states).
+    Ox, Ou : ndarray (V, ns, nobs, nc), ndarray (V, ns, nobs, nu)
+        Observed temperatures [°C] as ``Ox z + Ou u`` (``Ou`` non-zero for massless nodes).
+    M : ndarray (V, ns, m, m)
+        Thermostat nodes' end-of-step temperature response to 1 W held over the step [K/W].
+    bconst : ndarray (V, ns, nc)
+        The variant's constant inputs' contribution to the end-of-step coordinates.
+    oconst : ndarray (V, ns, nobs)
+        The constant inputs' part of the observed temperatures [°C].
+    nvar : ndarray (V,) of int
+        Number of inputs that vary in time (boundary temperatures, source powers).
+    vj, vcol : ndarray (V, k) of int
+        Input index of each varying input and its column in ``Bank.data``.
+    rampv : ndarray (V, k) of bool
+        Varying inputs interpolated linearly over the step (first-order hold).
+    obs_nodes : list of int
+        Free-node index of each observed point (thermostat nodes first, then condition
+        nodes, then the comfort node).
+    """
 
     a: np.ndarray
     Ad: np.ndarray
@@ -166,6 +301,13 @@ class Operators:
 
 def observed_nodes(st, comfort: int | None) -> tuple[list, np.ndarray, int]:
     """Free nodes the loop observes: thermostat nodes, condition nodes, the comfort node.
+
+    Parameters
+    ----------
+    st : Structure
+        The group's structure (thermostat nodes, condition terms).
+    comfort : int or None
+        Free-node index of the comfort node, or None.
 
     Returns the node list, the terms remapped to observed positions, and the comfort
     node's position (−1: none).
@@ -213,6 +355,27 @@ def operators(st, disc: Discretised, F: np.ndarray, bank: Bank, nodes: list,
     Inputs marked in ``ramp`` (V, nin) vary linearly over the step from the previous value:
     their weights are ``hφ₂(λh)W`` on this step's value and ``h(φ₁ − φ₂)W`` on the previous
     (``Γ̄`` and ``Γ − Γ̄`` in node coordinates).
+
+    Parameters
+    ----------
+    st : Structure
+        The group's structure.
+    disc : Discretised
+        Discretisation of the V variants × ns states.
+    F : ndarray (V, ns, nu)
+        Factor on each input in each state [-] (:func:`input_factors`).
+    bank : Bank
+        The group's inputs (which are constant, which vary and in which column).
+    nodes : list of int
+        Free-node index of each observed point (:func:`observed_nodes`).
+    ramp : ndarray (V, nb + nsrc) of bool
+        Inputs interpolated linearly over each step (first-order hold).
+    node_coords : bool, default False
+        Step every state densely in node coordinates.
+
+    Returns
+    -------
+    Operators
     """
     V, ns = disc.K.shape[:2]
     nc, m, h = st.nc, st.m, disc.h
@@ -263,7 +426,18 @@ def operators(st, disc: Discretised, F: np.ndarray, bank: Bank, nodes: list,
 
 
 def thermostat_errors(st, ops: Operators, errors: list) -> None:
-    """Mark variants whose thermostat node does not respond to heating within a step."""
+    """Mark variants whose thermostat node does not respond to heating within a step.
+
+    Parameters
+    ----------
+    st : Structure
+        The group's structure (thermostat names).
+    ops : Operators
+        The kernel's arrays; a diagonal entry of ``M`` [K/W] that is not > 0 marks the variant.
+    errors : list
+        Per variant: None or an error; filled in place with a NetworkError naming the
+        thermostat (an existing error is kept).
+    """
     if not st.m:
         return
     d = np.diagonal(ops.M, axis1=-2, axis2=-1)          # (V, ns, m)
@@ -276,7 +450,26 @@ def thermostat_errors(st, ops: Operators, errors: list) -> None:
 
 
 def observed_start(st, disc: Discretised, x0: np.ndarray, u0: np.ndarray, nodes: list):
-    """Observed temperatures before the first step (state 0's massless maps, raw inputs)."""
+    """Observed temperatures before the first step (state 0's massless maps, raw inputs).
+
+    Parameters
+    ----------
+    st : Structure
+        The group's structure.
+    disc : Discretised
+        Discretisation (massless-node maps ``Yx``, ``Yu``).
+    x0 : ndarray (V, nc)
+        Start temperatures of the capacitive nodes [°C].
+    u0 : ndarray (V, nu)
+        First row's raw inputs (boundary temperatures [°C], source powers [W]).
+    nodes : list of int
+        Free-node index of each observed point.
+
+    Returns
+    -------
+    ndarray (V, nobs)
+        Observed temperatures [°C].
+    """
     V = x0.shape[0]
     obs = np.zeros((V, len(nodes)))
     for o, i in enumerate(nodes):
@@ -300,6 +493,30 @@ class GroupRun:
     ``hrs``, ``dgh`` (V, thresholds), ``tstat`` (V, 3) max/min/sum [°C], ``zs_sum`` (V, ns,
     nc) start coordinates, ``us_sum`` (V, ns, nu) raw inputs, ``cnt`` (V, ns) steps per
     state.
+
+    Attributes
+    ----------
+    X : ndarray (V, n, nc) or None
+        End-of-step capacitive temperatures [°C] (with ``keep``).
+    S : ndarray (V, n) of int or None
+        State id of each step (with ``keep``).
+    P : ndarray (V, n, m) or None
+        Thermostat powers [W], heating > 0, cooling < 0 (with ``keep``).
+    x_first : ndarray (V, nc)
+        Capacitive temperatures at the start of the first reported step [°C].
+    x_last : ndarray (V, nc)
+        Capacitive temperatures at the end of the last step [°C].
+    sums : dict of str to ndarray
+        The sums named in :data:`SUMS` (without ``keep``; empty with it), see
+        :func:`thermonet.engine.kernels.step_modal`.
+    disc : Discretised
+        The discretisation used.
+    ops : Operators or None
+        The kernel's arrays (None for the numpy reference kernel).
+    F : ndarray (V, ns, nu)
+        Factor on each input in each state [-].
+    errors : list
+        Per variant: None, or the error that made it unusable (its results are zeros).
     """
 
     X: np.ndarray | None
@@ -315,7 +532,18 @@ class GroupRun:
 
 
 def resolve_kernel(kernel: str) -> str:
-    """``"numba"`` or ``"numpy"`` for a ``kernel=`` option (validated)."""
+    """``"numba"`` or ``"numpy"`` for a ``kernel=`` option (validated).
+
+    Parameters
+    ----------
+    kernel : {"auto", "numba", "numpy"}
+        ``"auto"`` is numba when it is installed, else numpy.
+
+    Raises
+    ------
+    ValueError
+        Another value.
+    """
     if kernel not in KERNELS:
         raise ValueError(f"kernel must be one of {KERNELS}, got {kernel!r}")
     if kernel == "auto":
@@ -470,6 +698,10 @@ def step_group(st, vals: list, store, warm: int, *, keep: bool, kernel: str = "a
     comfort : int, optional
         Free-node index whose end temperature is summed (hours and degree-hours above
         ``thr_h``/``thr_d`` [°C], max/min/mean) — without ``keep``.
+    thr_h : sequence of float
+        Thresholds [°C] for the hours (steps) the comfort node spends above each.
+    thr_d : sequence of float
+        Thresholds [°C] for the comfort node's degree-hours (K·steps) above each.
     u_before : ndarray (V, nu), optional
         Inputs before the first row (first-order-hold inputs start from them); default the
         first row's (an input constant before the run).

@@ -55,6 +55,29 @@ def effective_inputs(comp: Compiled, F: np.ndarray, S: np.ndarray, P: np.ndarray
     powers ``P`` [W]. Start: the previous row's raw values (the last warm-up row, or
     ``u_before``/the first row, before the first reported step); used for the inputs that
     vary linearly over a step.
+
+    Parameters
+    ----------
+    comp : Compiled
+        The compiled network (its raw inputs ``comp.U`` (n, nu): boundary temperatures [°C],
+        source powers [W]).
+    F : ndarray (ns, nu)
+        Factor on each input in each state [-] (one variant of ``GroupRun.F``).
+    S : ndarray (n,) of int
+        State id of each reported step.
+    P : ndarray (n, m)
+        Thermostat powers [W] of each reported step.
+    warm : int
+        Warm-up steps run before the reported ones.
+    u_before : ndarray (nu,), optional
+        Raw inputs before the first row (where an earlier run ended); default the first
+        row's.
+
+    Returns
+    -------
+    U_end, U_prev : ndarray (n, nu)
+        Inputs at the end and at the start of each step ([°C] for boundaries, [W] for
+        powers).
     """
     U = comp.U
     U_end = U * (F[S[0]] if len(S) and (S == S[0]).all() else F[S])
@@ -66,7 +89,24 @@ def effective_inputs(comp: Compiled, F: np.ndarray, S: np.ndarray, P: np.ndarray
 
 def trajectory_of(comp: Compiled, run: GroupRun, U_end: np.ndarray, U_prev: np.ndarray,
                   info: dict) -> ExactTrajectory:
-    """The :class:`ExactTrajectory` of variant 0 of a :class:`GroupRun`."""
+    """The :class:`ExactTrajectory` of variant 0 of a :class:`GroupRun`.
+
+    Parameters
+    ----------
+    comp : Compiled
+        The compiled network that was run.
+    run : GroupRun
+        What stepping it gave (traces kept).
+    U_end, U_prev : ndarray (n, nu)
+        Effective inputs at the end and the start of each step ([°C], [W]), from
+        :func:`effective_inputs`.
+    info : dict
+        Counters for :meth:`thermonet.Results.diagnostics`; ``doubling_states`` is added.
+
+    Returns
+    -------
+    ExactTrajectory
+    """
     d = run.disc
     dense = {s: mats for (v, s), mats in d.dense_mats.items() if v == 0}
     info = dict(info, doubling_states=len(dense))
@@ -78,7 +118,19 @@ def trajectory_of(comp: Compiled, run: GroupRun, U_end: np.ndarray, U_prev: np.n
 
 
 def switch_state_after(comp: Compiled, state_id: int) -> np.ndarray:
-    """Switch positions (bool per switch) of a state id."""
+    """Switch positions (bool per switch) of a state id.
+
+    Parameters
+    ----------
+    comp : Compiled
+        The compiled network (its number of switches nsw).
+    state_id : int
+        State id ``sched · 2^nsw + switch bits``.
+
+    Returns
+    -------
+    ndarray (nsw,) of bool
+    """
     nsw = comp.nsw
     bits = int(state_id) % (1 << nsw)
     return np.array([(bits >> k) & 1 == 1 for k in range(nsw)], bool)
@@ -131,12 +183,18 @@ class SparseMethod:
         Parameters
         ----------
         comp : Compiled
+            The compiled network.
         warm : int
-            Warm-up steps.
+            Warm-up steps (the first ``warm`` inputs, run before the reported period).
         tol : float, default 1e-6
-            Accuracy target of the rational exponential.
+            Accuracy target of the rational exponential, relative to each step's departure
+            from equilibrium [-].
         keep : array of int, optional
             Free nodes whose temperatures are kept (default: all).
+
+        Returns
+        -------
+        Trajectory
         """
         from thermonet.engine.sparse import run_sparse
 
@@ -195,7 +253,25 @@ def kept_nodes(comp: Compiled, outputs) -> np.ndarray | None:
 
 
 def check_memory(comp: Compiled, warm: int, method: str, keep, budget: float) -> float:
-    """Bytes the run will keep (hourly arrays), warning beyond ``budget`` [bytes]."""
+    """Bytes the run will keep (hourly arrays), warning beyond ``budget`` [bytes].
+
+    Parameters
+    ----------
+    comp : Compiled
+    warm : int
+        Warm-up steps.
+    method : {"exact", "sparse"}
+        The method that will run.
+    keep : array of int or None
+        Free nodes kept (None: all).
+    budget : float
+        Memory budget [bytes].
+
+    Returns
+    -------
+    float
+        Estimated bytes of the hourly arrays the run keeps.
+    """
     from thermonet.errors import MemoryBudgetWarning
 
     n = len(comp.index) + warm
@@ -257,6 +333,24 @@ def run_relinearised(net, comp: Compiled, w: int, kernel: str, freq: str) -> Tra
     At the start of each period (pandas offset alias ``freq``) every radiation link's
     h_r = 4σT_m³ is recomputed from the mean of its two nodes' end temperatures (rounded to
     0.5 K); a warm-up runs first at the links' reference temperatures.
+
+    Parameters
+    ----------
+    net : Network
+        The network (its radiation links' parameters).
+    comp : Compiled
+        ``net`` compiled on the weather.
+    w : int
+        Warm-up steps, run first at the reference linearisation.
+    kernel : {"auto", "numba", "numpy"}
+        Stepping kernel of the exact method.
+    freq : str
+        Pandas offset alias of the periods (``"D"``, ``"W"``, ``"MS"``).
+
+    Returns
+    -------
+    JoinedTrajectory
+        The reported periods, joined.
     """
     links = list(net.links.values())
     rad = [i for i, l in enumerate(links) if l.kind == "radiation"]

@@ -132,7 +132,17 @@ def rational_exp(n: int):
 
 
 def degree_for(tol: float) -> int:
-    """Smallest degree of :data:`DEGREES` whose error bound is ≤ tol (else the largest)."""
+    """Smallest degree of :data:`DEGREES` whose error bound is ≤ tol (else the largest).
+
+    Parameters
+    ----------
+    tol : float
+        Largest accepted error bound of the rational approximation of e^s on s ≤ 0 [-].
+
+    Returns
+    -------
+    int
+    """
     for n in DEGREES:
         if rational_exp(n)[3] <= tol:
             return n
@@ -140,7 +150,21 @@ def degree_for(tol: float) -> int:
 
 
 class SparseState:
-    """Factorisations for one state: L (real) and z_k C + hL (complex), per pole."""
+    """Factorisations for one state: L (real) and z_k C + hL (complex), per pole.
+
+    Banded LDLᵀ factors after reverse Cuthill–McKee ordering when the bandwidth is at most
+    :data:`MAX_BANDWIDTH` and the factorisation reproduces a test solve; SuperLU otherwise.
+
+    Parameters
+    ----------
+    comp : Compiled
+        The compiled network (structure, capacitances [J/K], step [s]).
+    g : ndarray (nl,)
+        Link conductances of this state [W/K].
+    degree : int
+        Degree n of the CF approximation, one of :data:`DEGREES` (n/2 complex
+        factorisations).
+    """
 
     def __init__(self, comp: Compiled, g: np.ndarray, degree: int):
         self.Lff, Lfb = laplacian_sparse(comp.st, g)
@@ -195,7 +219,18 @@ class SparseState:
         return self.r_inf * v + out
 
     def expm_apply(self, v: np.ndarray) -> np.ndarray:
-        """``e^{−hC⁻¹L} v`` (v of length nf) to the bound of :func:`rational_exp`."""
+        """``e^{−hC⁻¹L} v`` (v of length nf) to the bound of :func:`rational_exp`.
+
+        Parameters
+        ----------
+        v : ndarray (nf,)
+            Free-node temperatures or temperature differences [°C or K].
+
+        Returns
+        -------
+        ndarray (nf,)
+            ``v`` after one step of free decay (massless nodes included) [same unit].
+        """
         if self.banded:
             return self._expm_band(v)
         cv = self.c_full * v
@@ -205,7 +240,19 @@ class SparseState:
         return self.r_inf * v + 2.0 * acc.real
 
     def solve_many(self, R: np.ndarray) -> np.ndarray:
-        """Solve ``L X = R`` for the columns of R (nf × k)."""
+        """Solve ``L X = R`` for the columns of R (nf × k).
+
+        Parameters
+        ----------
+        R : ndarray (nf, k)
+            Right-hand sides: heat into the free nodes [W] (e.g. columns of ``E u``).
+
+        Returns
+        -------
+        ndarray (nf, k)
+            Free-node temperatures [°C] (``L`` in [W/K]); for a column of unit powers, the
+            steady response [K/W].
+        """
         if self.banded:
             X = np.empty_like(R)
             X[self.perm] = solve_band_many(self.Lb_real, self.d_real,
@@ -214,7 +261,18 @@ class SparseState:
         return self.lu_L.solve(R)
 
     def equilibrium(self, Eu: np.ndarray) -> np.ndarray:
-        """Solve ``L T_eq = E u`` [°C]."""
+        """Solve ``L T_eq = E u`` [°C].
+
+        Parameters
+        ----------
+        Eu : ndarray (nf,)
+            Heat into the free nodes from the inputs, ``E u`` [W].
+
+        Returns
+        -------
+        ndarray (nf,)
+            Equilibrium temperatures of the free nodes [°C].
+        """
         if self.banded:
             out = np.empty_like(Eu)
             out[self.perm] = solve_band(self.Lb_real, self.d_real, Eu[self.perm])
@@ -328,12 +386,21 @@ def run_sparse(comp: Compiled, warmup_steps: int, tol: float = 1e-7, keep=None
     Parameters
     ----------
     comp : Compiled
+        The compiled network.
     warmup_steps : int
-        Steps run before the reported ones.
+        Warm-up steps: the first ``warmup_steps`` rows are run first and not reported.
     tol : float, default 1e-7
-        Accuracy target of the rational exponential (relative to each step's departure).
+        Accuracy target of the rational exponential, relative to each step's departure from
+        equilibrium [-]; the degree is chosen for ``tol / sqrt(C_max/C_min)``. A target that
+        cannot be met warns (AccuracyWarning).
     keep : array of int, optional
         Free nodes whose end and mean temperatures are kept (default: all).
+
+    Returns
+    -------
+    NodeTrajectory
+        The kept free nodes' end-of-step and step-mean temperatures [°C] over the reported
+        steps; ``info`` holds the degree, the error bound and the factorisation time [s].
     """
     t0 = time.perf_counter()
     # The error bound holds for the eigenvalues; in node temperatures it is amplified by at

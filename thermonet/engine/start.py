@@ -78,7 +78,20 @@ def steady_start(st, solve, E: np.ndarray, Rx: np.ndarray, Ru: np.ndarray, u0: n
 
 
 def apply_initial(x0: np.ndarray, initial) -> np.ndarray:
-    """Replace start temperatures by the user's ``initial`` values [(index, °C)] (in place)."""
+    """Replace start temperatures by the user's ``initial`` values [(index, °C)] (in place).
+
+    Parameters
+    ----------
+    x0 : ndarray (nc,)
+        Start temperatures of the capacitive nodes [°C]; changed in place.
+    initial : iterable of (int, float)
+        Capacitive node index and its initial temperature [°C].
+
+    Returns
+    -------
+    ndarray (nc,)
+        ``x0``.
+    """
     for i, val in initial:
         x0[i] = val
     return x0

@@ -55,32 +55,77 @@ class Trajectory(abc.ABC):
 
     def kept(self, idx) -> np.ndarray:
         """Which free nodes ``idx`` have their temperatures kept (all, unless the run was
-        asked to keep only some: ``simulate(..., outputs=...)``)."""
+        asked to keep only some: ``simulate(..., outputs=...)``).
+
+        Parameters
+        ----------
+        idx : array_like of int (k,)
+            Free-node indices.
+        """
         return np.ones(len(np.atleast_1d(idx)), dtype=bool)
 
     def storage_w(self, cap) -> np.ndarray:
-        """Heat released by the capacitive nodes ``cap`` [W·s/J × J/K → per node change]:
-        end minus start temperature of each step (n, k) [K]."""
+        """Temperature change [K] (n, k) of the capacitive nodes ``cap`` over each step (end
+        minus start); times C/h it is the power stored [W].
+
+        Parameters
+        ----------
+        cap : array_like of int (k,)
+            Capacitive-node indices.
+        """
         end = self.end(cap)
         start = np.vstack([self.x_first[np.asarray(cap, dtype=np.int64)][None, :], end[:-1]])
         return end - start
 
     @abc.abstractmethod
     def end(self, idx) -> np.ndarray:
-        """End-of-step temperatures [°C] (n, k) of free nodes ``idx``."""
+        """End-of-step temperatures [°C] (n, k) of free nodes ``idx``.
+
+        Parameters
+        ----------
+        idx : array_like of int (k,)
+            Free-node indices (capacitive nodes first, then massless).
+        """
 
     @abc.abstractmethod
     def mean(self, idx) -> np.ndarray:
-        """Step-mean temperatures [°C] (n, k) of free nodes ``idx``."""
+        """Step-mean temperatures [°C] (n, k) of free nodes ``idx``.
+
+        Parameters
+        ----------
+        idx : array_like of int (k,)
+            Free-node indices (capacitive nodes first, then massless).
+        """
 
     @abc.abstractmethod
     def conductances(self, cols) -> np.ndarray:
-        """Conductances [W/K] (n, k) of links ``cols`` in each step's state."""
+        """Conductances [W/K] (n, k) of links ``cols`` in each step's state.
+
+        Parameters
+        ----------
+        cols : array_like of int (k,)
+            Link indices (compile order).
+        """
 
 
 def step_means(U_end, U_prev, ramp):
     """Step-mean inputs: ``U_end`` with the first-order-hold columns ``ramp`` averaged with
-    their previous values ``U_prev``."""
+    their previous values ``U_prev``.
+
+    Parameters
+    ----------
+    U_end : ndarray (n, nu)
+        Inputs at the end of each step ([°C] for boundaries, [W] for powers).
+    U_prev : ndarray (n, nu)
+        Inputs at the start of each step.
+    ramp : ndarray (nu,) of bool
+        Inputs that vary linearly over each step (first-order hold).
+
+    Returns
+    -------
+    ndarray (n, nu)
+        Step means (``U_end`` itself when no input ramps).
+    """
     if not ramp.any():
         return U_end
     U = U_end.copy()
@@ -103,14 +148,15 @@ class ExactTrajectory(Trajectory):
         Inputs that vary linearly over each step (first-order hold).
     G : ndarray (ns, nl)
         Conductances of every state [W/K].
-    K, E, Yx, Yu, lam, Q, W : ndarray (ns, ...)
-        Reduced system and modal form of every state (:mod:`thermonet.engine.discretise`).
+    Yx, Yu, lam, Q, W : ndarray (ns, ...)
+        Massless-node maps and modal form of every state, rates ``lam`` [1/s]
+        (:mod:`thermonet.engine.discretise`).
     C : ndarray (nc,)
         Capacitances [J/K].
     h : float
         Step [s].
     dense : dict
-        State id → (Φ, Γ, Φ̄, Γ̄) for states stepped densely.
+        State id → (Φ, Γ, Φ̄, Γ̄, Γ₃) for states stepped densely.
     info : dict
     """
 
@@ -128,6 +174,13 @@ class ExactTrajectory(Trajectory):
         self._xbar = None
 
     def kept(self, idx):
+        """Which free nodes ``idx`` the tables show (see :meth:`Trajectory.kept`).
+
+        Parameters
+        ----------
+        idx : array_like of int (k,)
+            Free-node indices.
+        """
         idx = np.atleast_1d(np.asarray(idx, dtype=np.int64))
         return np.ones(len(idx), bool) if self.keep_mask is None else self.keep_mask[idx]
 
@@ -147,6 +200,13 @@ class ExactTrajectory(Trajectory):
         return idx, idx < self.nc
 
     def end(self, idx):
+        """End-of-step temperatures [°C] (n, k) of free nodes ``idx``.
+
+        Parameters
+        ----------
+        idx : array_like of int (k,)
+            Free-node indices (capacitive nodes first, then massless).
+        """
         idx, cap = self._split(idx)
         if cap.all() and len(idx) == self.nc and (idx == np.arange(self.nc)).all():
             return self.X
@@ -186,6 +246,13 @@ class ExactTrajectory(Trajectory):
         return self._xbar
 
     def mean(self, idx):
+        """Step-mean temperatures [°C] (n, k) of free nodes ``idx``.
+
+        Parameters
+        ----------
+        idx : array_like of int (k,)
+            Free-node indices (capacitive nodes first, then massless).
+        """
         idx, cap = self._split(idx)
         out = np.empty((len(self.S), len(idx)))
         xbar = self.x_mean
@@ -195,15 +262,42 @@ class ExactTrajectory(Trajectory):
         return out
 
     def conductances(self, cols):
+        """Conductances [W/K] (n, k) of links ``cols`` in each step's state.
+
+        Parameters
+        ----------
+        cols : array_like of int (k,)
+            Link indices (compile order).
+        """
         return self.G[:, cols][self.S]
 
 
 class NodeTrajectory(Trajectory):
     """Trajectory that stores free nodes' end and mean temperatures (sparse method).
 
-    ``columns`` (nf,) maps each free node to its column of ``T_end``/``T_mean``, −1 for a
-    node whose temperatures were not kept (``simulate(..., outputs=...)``); None: all kept,
-    in node order.
+    Parameters
+    ----------
+    T_end : ndarray (n, k)
+        End-of-step temperatures of the kept free nodes [°C].
+    T_mean : ndarray (n, k)
+        Step-mean temperatures of the kept free nodes [°C].
+    x_first : ndarray (nc,)
+        Capacitive temperatures at the start of the first step [°C] (NaN where not kept).
+    S : ndarray (n,) of int
+        State id per step.
+    U, U_end : ndarray (n, nu)
+        Effective inputs, step means and end of step ([°C], [W]).
+    G : ndarray (ns, nl)
+        Conductances of every state [W/K].
+    nc : int
+        Number of capacitive nodes.
+    info : dict
+        Method-specific counters.
+    columns : ndarray (nf,) of int, optional
+        Column of each free node in ``T_end``/``T_mean``, −1 if not kept; None: all, in
+        node order.
+    names : list of str, optional
+        Free-node names (for messages).
     """
 
     def __init__(self, T_end, T_mean, x_first, S, U, U_end, G, nc, info, columns=None,
@@ -221,6 +315,13 @@ class NodeTrajectory(Trajectory):
         return self.end(np.arange(self.nc))
 
     def kept(self, idx):
+        """Which free nodes ``idx`` were kept (see :meth:`Trajectory.kept`).
+
+        Parameters
+        ----------
+        idx : array_like of int (k,)
+            Free-node indices.
+        """
         idx = np.atleast_1d(np.asarray(idx, dtype=np.int64))
         return np.ones(len(idx), bool) if self.columns is None else self.columns[idx] >= 0
 
@@ -238,17 +339,46 @@ class NodeTrajectory(Trajectory):
         return cols
 
     def end(self, idx):
+        """End-of-step temperatures [°C] (n, k) of free nodes ``idx``.
+
+        Parameters
+        ----------
+        idx : array_like of int (k,)
+            Free-node indices (capacitive nodes first, then massless).
+        """
         return self.T_end[:, self._cols(idx)]
 
     def mean(self, idx):
+        """Step-mean temperatures [°C] (n, k) of free nodes ``idx``.
+
+        Parameters
+        ----------
+        idx : array_like of int (k,)
+            Free-node indices (capacitive nodes first, then massless).
+        """
         return self.T_mean[:, self._cols(idx)]
 
     def conductances(self, cols):
+        """Conductances [W/K] (n, k) of links ``cols`` in each step's state.
+
+        Parameters
+        ----------
+        cols : array_like of int (k,)
+            Link indices (compile order).
+        """
         return self.G[:, cols][self.S]
 
 
 class JoinedTrajectory(Trajectory):
-    """Consecutive trajectories of one network (e.g. periods of re-linearised radiation)."""
+    """Consecutive trajectories of one network (e.g. periods of re-linearised radiation).
+
+    Parameters
+    ----------
+    parts : list of Trajectory
+        Trajectories of consecutive periods, in time order, of the same network.
+    info : dict
+        Method-specific counters.
+    """
 
     def __init__(self, parts, info):
         self.parts = parts
@@ -261,10 +391,31 @@ class JoinedTrajectory(Trajectory):
         self.info = info
 
     def end(self, idx):
+        """End-of-step temperatures [°C] (n, k) of free nodes ``idx``.
+
+        Parameters
+        ----------
+        idx : array_like of int (k,)
+            Free-node indices (capacitive nodes first, then massless).
+        """
         return np.vstack([p.end(idx) for p in self.parts])
 
     def mean(self, idx):
+        """Step-mean temperatures [°C] (n, k) of free nodes ``idx``.
+
+        Parameters
+        ----------
+        idx : array_like of int (k,)
+            Free-node indices (capacitive nodes first, then massless).
+        """
         return np.vstack([p.mean(idx) for p in self.parts])
 
     def conductances(self, cols):
+        """Conductances [W/K] (n, k) of links ``cols`` in each step's state.
+
+        Parameters
+        ----------
+        cols : array_like of int (k,)
+            Link indices (compile order).
+        """
         return np.vstack([p.conductances(cols) for p in self.parts])

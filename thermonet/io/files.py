@@ -77,7 +77,13 @@ def current_umask() -> int:
 
 
 def fsync_folder(folder) -> None:
-    """Flush a folder's entries (renames, new files) to disk; a no-op where unsupported."""
+    """Flush a folder's entries (renames, new files) to disk; a no-op where unsupported.
+
+    Parameters
+    ----------
+    folder : str or path-like
+        The folder to flush.
+    """
     try:
         fd = os.open(folder, os.O_RDONLY)
     except OSError:
@@ -139,7 +145,18 @@ def write_file_atomic(path, writer, *, mode: int | None = None) -> Path:
 
 
 def sync_file(path) -> None:
-    """``fsync`` one file by path."""
+    """``fsync`` one file by path.
+
+    Parameters
+    ----------
+    path : str or path-like
+        An existing file.
+
+    Raises
+    ------
+    OSError
+        The file cannot be opened or flushed.
+    """
     fd = os.open(path, os.O_RDONLY)
     try:
         os.fsync(fd)
@@ -158,7 +175,13 @@ class _quiet:
 
 
 def is_thermonet_folder(folder) -> bool:
-    """Whether ``folder`` holds a ``provenance.json`` written by thermonet."""
+    """Whether ``folder`` holds a ``provenance.json`` written by thermonet.
+
+    Parameters
+    ----------
+    folder : str or path-like
+        The folder to look in (it need not exist).
+    """
     p = Path(folder) / _PROVENANCE
     try:
         rec = json.loads(p.read_text(encoding="utf-8"))
@@ -168,13 +191,29 @@ def is_thermonet_folder(folder) -> bool:
 
 
 def lock_path(target) -> Path:
-    """The lock file of a result folder: ``.<name>.lock`` beside it."""
+    """The lock file of a result folder: ``.<name>.lock`` beside it.
+
+    Parameters
+    ----------
+    target : str or path-like
+        The result folder.
+
+    Returns
+    -------
+    pathlib.Path
+    """
     target = Path(target)
     return target.parent / f".{target.name}.lock"
 
 
 def pid_alive(pid: int) -> bool:
-    """Whether a process of this id runs on this machine (zombies count as running)."""
+    """Whether a process of this id runs on this machine (zombies count as running).
+
+    Parameters
+    ----------
+    pid : int
+        Process id (≤ 0: never running).
+    """
     if pid <= 0:
         return False
     try:

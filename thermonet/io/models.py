@@ -1103,6 +1103,9 @@ def load_model(path, *, max_bytes: float = MAX_MODEL_BYTES) -> Network:
     Parameters
     ----------
     path : str or os.PathLike
+        The model file.
+    max_bytes : float, default :data:`MAX_MODEL_BYTES` (64 MiB)
+        Largest file size accepted [bytes]; larger files are refused before they are read.
 
     Returns
     -------

@@ -154,6 +154,9 @@ class RiskRun:
     default_temperature : str or callable
         The study's ``temperature=``, used by :meth:`temperature` when a criterion names
         none.
+    _cache : dict
+        Internal: judged temperatures already formed by :meth:`temperature`, by spec
+        (leave it to its default).
     """
 
     results: object
@@ -276,11 +279,32 @@ class Criterion:
                             f"float), got {type(self.function).__name__}")
 
     def evaluate(self, run: RiskRun) -> float:
-        """The criterion's value for one run, a finite float [unit]."""
+        """The criterion's value for one run, a finite float [unit].
+
+        Parameters
+        ----------
+        run : RiskRun
+            The run to judge.
+
+        Raises
+        ------
+        StudyError
+            The function returned NaN/inf or a non-number (see :func:`finite_value`).
+        """
         return finite_value(self.function(run), f"criterion {self.key!r}")
 
     def fails(self, value) -> np.ndarray:
-        """Whether value(s) fail: ``value > limit`` beyond :data:`TOLERANCE`."""
+        """Whether value(s) fail: ``value > limit`` beyond :data:`TOLERANCE`.
+
+        Parameters
+        ----------
+        value : float or array_like
+            Criterion value(s) [unit].
+
+        Returns
+        -------
+        ndarray of bool
+        """
         return np.asarray(value, dtype=float) > self.limit + TOLERANCE
 
 
