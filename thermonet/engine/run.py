@@ -27,6 +27,13 @@ from thermonet.errors import NetworkError
 
 KERNELS = ("auto", "numba", "numpy")
 
+#: Capacitive nodes up to which a single run that finds the compiled kernel not yet built in
+#: this process (a fresh install: numba compiles it, ~15–20 s) is stepped by the numpy
+#: reference instead while the kernel compiles in a background thread.
+WARM_START_NODES = 300
+
+_COMPILING: list = []     # the background compile thread, once started
+
 #: Sums the kernel accumulates over the reported steps (see :class:`GroupRun`).
 SUMS = ("heat", "cool", "peak_h", "peak_c", "hrs", "dgh", "tstat", "zs_sum", "us_sum",
         "up_sum", "cnt")
@@ -517,6 +524,8 @@ class GroupRun:
         Factor on each input in each state [-].
     errors : list
         Per variant: None, or the error that made it unusable (its results are zeros).
+    kernel : str
+        The kernel that stepped the group: ``"numba"`` or ``"numpy"``.
     """
 
     X: np.ndarray | None
@@ -529,6 +538,30 @@ class GroupRun:
     ops: Operators | None
     F: np.ndarray
     errors: list
+    kernel: str = "numba"
+
+
+def kernel_ready() -> bool:
+    """Whether the compiled kernel is built (or loaded from the on-disk cache) here."""
+    return bool(kernels.HAVE_NUMBA and kernels.step_modal_nb.signatures)
+
+
+def compile_in_background(job) -> None:
+    """Run ``job`` (a call of the compiled kernel) once in a daemon thread: numba builds the
+    kernel there while the caller goes on with the numpy reference.
+
+    Parameters
+    ----------
+    job : callable
+        No arguments; calls the compiled kernel on a copy of a run's arrays.
+    """
+    import threading
+
+    if _COMPILING and (_COMPILING[0].is_alive() or kernel_ready()):
+        return
+    t = threading.Thread(target=job, name="thermonet-kernel-compile", daemon=True)
+    _COMPILING[:] = [t]
+    t.start()
 
 
 def resolve_kernel(kernel: str) -> str:
@@ -710,6 +743,7 @@ def step_group(st, vals: list, store, warm: int, *, keep: bool, kernel: str = "a
     -------
     GroupRun
     """
+    auto = kernel == "auto"
     kernel = resolve_kernel(kernel)
     V = len(vals)
     C = np.array([p.C for p in vals]).reshape(V, st.nc)
@@ -724,12 +758,20 @@ def step_group(st, vals: list, store, warm: int, *, keep: bool, kernel: str = "a
     if u_before is None:
         u_before = u0
     u_before = np.ascontiguousarray(u_before, dtype=float)
+    if (auto and kernel == "numba" and keep and V == 1 and st.nc <= WARM_START_NODES
+            and not kernel_ready()):
+        # first run in a fresh process: build the compiled kernel in the background (same
+        # argument types) and step this run with the numpy reference (same numbers to ~1e-12)
+        args = (st, vals, disc, F, bank, x0.copy(), s0.copy(), u0.copy(), warm, keep, comfort,
+                thr_h, thr_d, list(errors), ramp, u_before.copy())
+        compile_in_background(lambda: _step_numba(*args))
+        kernel = "numpy"
     if kernel == "numpy":
         if not keep:
             raise ValueError("the numpy reference kernel keeps traces only (keep=True)")
         X, S, P, xf, xl = _step_numpy(st, vals, disc, F, bank, x0, s0, u0, warm, errors, ramp,
                                       u_before)
-        return GroupRun(X, S, P, xf, xl, {}, disc, None, F, errors)
+        return GroupRun(X, S, P, xf, xl, {}, disc, None, F, errors, kernel="numpy")
     X, S, P, xf, xl, sums, ops = _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep,
                                              comfort, thr_h, thr_d, errors, ramp, u_before)
     if keep:

@@ -169,7 +169,8 @@ class ExactMethod:
         if run.errors[0] is not None:
             raise run.errors[0]
         U_end, U_prev = effective_inputs(comp, run.F[0], run.S[0], run.P[0], warm, u_before)
-        return trajectory_of(comp, run, U_end, U_prev, {"kernel": kernel})
+        return trajectory_of(comp, run, U_end, U_prev, {"kernel": kernel,
+                                                        "kernel_used": run.kernel})
 
 
 class SparseMethod:
