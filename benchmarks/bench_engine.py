@@ -156,8 +156,10 @@ def numba_loop():
 def case_room(args):
     w = networks.weather()
     net = room()
-    tn.simulate(net, w, warmup_days=0)                      # compile (or load) the kernel
-    t_tn, res = min_time(lambda: tn.simulate(net, w, warmup_days=0).temperatures, args.runs)
+    # the baselines hold every input over its step: so does thermonet here (interpolate=())
+    tn.simulate(net, w, warmup_days=0, kernel="numba")      # compile (or load) the kernel
+    t_tn, res = min_time(lambda: tn.simulate(net, w, warmup_days=0, interpolate=()
+                                             ).temperatures, args.runs)
     K, E, C, U, order = networks.matrices(net, w)          # inputs + one thermostat column
     Phi, Gam = zoh(K, E, C, 3600.0)
     node = order.index("air")
@@ -252,8 +254,9 @@ def case_large(args):
     w = networks.weather()
     rooms = 60 if args.quick else 118
     for therm in (False, True):
-        net = networks.many_rooms(rooms, layers=8, thermostat=therm, every=rooms // 5)
-        t_tn, res = min_time(lambda net=net: tn.simulate(net, w, warmup_days=0).temperatures,
+        net = networks.many_rooms(rooms, layers=8, thermostat=therm, every=rooms // 5 + 1)
+        t_tn, res = min_time(lambda net=net: tn.simulate(net, w, warmup_days=0, kernel="numba",
+                                                         interpolate=()).temperatures,
                              1 if args.quick else 3)
         K, E, C, U, order = networks.matrices(net, w)
         nodes = [order.index(t_node) for t_node in networks.thermostat_nodes(net)]
@@ -293,15 +296,17 @@ def case_sparse(args):
     hours = 24 * 30 if args.quick else 8760
     wy = w.iloc[:hours]
     week = w.iloc[:168]
-    ref = tn.simulate(huge, week, method="sparse", warmup_days=0,
+    ref = tn.simulate(huge, week, method="sparse", warmup_days=0, interpolate=(),
                       sparse_tol=1e-11).temperatures.to_numpy()
     K, E, C, U, _ = networks.matrices(huge, w.iloc[:8], sparse=True)
     t_bdf = bdf(K, E, C, U, 6)
     for tol in (None, 1e-4):
         t_sp, res = min_time(lambda tol=tol: tn.simulate(huge, wy, method="sparse",
-                                                         warmup_days=0, sparse_tol=tol), 1)
+                                                         warmup_days=0, sparse_tol=tol,
+                                                         interpolate=()), 1)
         t_year = t_sp * 8760 / hours
-        a = tn.simulate(huge, week, method="sparse", warmup_days=0, sparse_tol=tol)
+        a = tn.simulate(huge, week, method="sparse", warmup_days=0, sparse_tol=tol,
+                        interpolate=())
         err = np.abs(a.temperatures.to_numpy() - ref).max()
         label = "default sparse_tol" if tol is None else f"sparse_tol={tol:g}"
         print(f"case 4: {len(huge.nodes)}-node year, method='sparse', {label}\n  thermonet "
