@@ -655,7 +655,7 @@ def _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep, comfort, thr_h,
                 f[sel] = part
     X = None
     if keep:
-        X = Ztr if in_nodes else np.zeros_like(Ztr)
+        X = Ztr if in_nodes else np.empty_like(Ztr)
         for v in sel if not in_nodes else ():
             X[v] = _modal_to_nodes(Ztr[v], Str[v], ops.Qx[v])
     return X, Str, Ptr, x_first, x_last, sums, ops
