@@ -33,7 +33,18 @@ from dataclasses import asdict, dataclass, field
 import pandas as pd
 
 from thermonet import solar as _solar
-from thermonet.builders import room as _b
+from thermonet.builders.common import (
+    META_KEY,
+    check_num,
+    check_orientation,
+    meta_section,
+    outdoor_boundary,
+    resolve_construction,
+    site_solar_position,
+)
+from thermonet.builders.elements import Element
+from thermonet.builders.surfaces import heat_flow_direction
+from thermonet.builders.windows import check_window, window_solar_gain
 from thermonet.constructions import dynamic_characteristics, surface_resistances
 from thermonet.errors import NetworkError, WeatherError
 from thermonet.network import Network
@@ -154,9 +165,9 @@ def iso13790_parameters(floor_area, h_tr_op, h_tr_w, *, mass_class="medium", a_m
     ISO 13790:2008, Energy performance of buildings — Calculation of energy use for space
     heating and cooling, Annex C (simple hourly method), 12.2 and 12.3 (mass classes).
     """
-    af = _b.check_num(floor_area, "floor_area [m²]", low=0.0, low_open=True)
-    hop = _b.check_num(h_tr_op, "h_tr_op [W/K]", low=0.0)
-    hw = _b.check_num(h_tr_w, "h_tr_w [W/K]", low=0.0)
+    af = check_num(floor_area, "floor_area [m²]", low=0.0, low_open=True)
+    hop = check_num(h_tr_op, "h_tr_op [W/K]", low=0.0)
+    hw = check_num(h_tr_w, "h_tr_w [W/K]", low=0.0)
     if (a_m is None) != (c_m is None):
         raise NetworkError("give both a_m [m²] and c_m [J/K], or neither (mass_class)")
     if a_m is None:
@@ -166,8 +177,8 @@ def iso13790_parameters(floor_area, h_tr_op, h_tr_w, *, mass_class="medium", a_m
         am_per, cm_per = MASS_CLASSES[mass_class]
         am, cm = am_per * af, cm_per * af
     else:
-        am = _b.check_num(a_m, "a_m [m²]", low=0.0, low_open=True)
-        cm = _b.check_num(c_m, "c_m [J/K]", low=0.0, low_open=True)
+        am = check_num(a_m, "a_m [m²]", low=0.0, low_open=True)
+        cm = check_num(c_m, "c_m [J/K]", low=0.0, low_open=True)
     at = LAMBDA_AT * af
     hms = H_MS * am
     if hop >= hms:
@@ -219,7 +230,7 @@ class Iso13790Zone:
 def _check_gain(value, what):
     if isinstance(value, pd.Series):
         return value.astype(float).rename(None)
-    return _b.check_num(value, what, low=-math.inf)
+    return check_num(value, what, low=-math.inf)
 
 
 def add_iso13790_zone(net: Network, name: str, *, floor_area: float, h_tr_op: float,
@@ -258,8 +269,8 @@ def add_iso13790_zone(net: Network, name: str, *, floor_area: float, h_tr_op: fl
     q_int = _check_gain(internal_gains, "internal_gains [W]")
     q_sol = _check_gain(solar_gains, "solar_gains [W]")
     if volume is not None:
-        volume = _b.check_num(volume, "volume [m³]", low=0.0, low_open=True)
-    out = _b.outdoor_boundary(net, outdoor, outdoor_temperature, "air", f"zone {name!r}")
+        volume = check_num(volume, "volume [m³]", low=0.0, low_open=True)
+    out = outdoor_boundary(net, outdoor, outdoor_temperature, "air", f"zone {name!r}")
     z = Iso13790Zone(name, name, f"{name}.star", f"{name}.mass", out, volume, p.floor_area, p)
     net.add_node(z.air, kind="air", capacitance=0.0, volume=volume)
     net.add_node(z.star, kind="surface", capacitance=0.0)
@@ -296,7 +307,7 @@ def _keep_zone(net: Network, z: Iso13790Zone) -> None:
     """Record ``z`` in ``net.meta`` (plain JSON, lists shared with the zone)."""
     rec = {k: getattr(z, k) for k in _ZONE_FIELDS}
     rec["parameters"] = asdict(z.parameters)
-    _b.meta_section(net, "iso13790_zones")[z.name] = rec
+    meta_section(net, "iso13790_zones")[z.name] = rec
 
 
 def iso13790_zones(net: Network) -> dict[str, Iso13790Zone]:
@@ -316,10 +327,10 @@ def iso13790_zones(net: Network) -> dict[str, Iso13790Zone]:
     NetworkError
         If a record is malformed or names nodes the network does not have.
     """
-    section = (getattr(net, "meta", None) or {}).get(_b.META_KEY, {}).get("iso13790_zones", {})
+    section = (getattr(net, "meta", None) or {}).get(META_KEY, {}).get("iso13790_zones", {})
     out = {}
     for name, d in section.items():
-        where = f"net.meta['{_b.META_KEY}']['iso13790_zones'][{name!r}]"
+        where = f"net.meta['{META_KEY}']['iso13790_zones'][{name!r}]"
         if not isinstance(d, dict) or any(k not in d for k in (*_ZONE_FIELDS, "parameters")):
             raise NetworkError(f"{where} must be an object with keys "
                                f"{[*_ZONE_FIELDS, 'parameters']}; rebuild the zone")
@@ -401,8 +412,8 @@ def iso13790_from_room(net: Network, name: str, *, floor_area: float, height: fl
     for key in ("ground_temperature", "soil"):
         if ignored.get(key) is not None:
             raise NetworkError(f"the ISO 13790 template has no ground model; drop {key}=")
-    h = _b.check_num(height, "height [m]", low=0.0, low_open=True)
-    af = _b.check_num(floor_area, "floor_area [m²]", low=0.0, low_open=True)
+    h = check_num(height, "height [m]", low=0.0, low_open=True)
+    af = check_num(floor_area, "floor_area [m²]", low=0.0, low_open=True)
     h_op = h_w = 0.0
     kappa_a = kappa2_a = 0.0
     phi_sol = 0.0
@@ -413,20 +424,20 @@ def iso13790_from_room(net: Network, name: str, *, floor_area: float, height: fl
                            "add it with thermonet.weather.add_sky_temperature(df), or pass "
                            "sky=None")
     for elem in elements:
-        if not isinstance(elem, _b.Element):
+        if not isinstance(elem, Element):
             raise TypeError(f"elements must be Element, got {type(elem).__name__}")
         ew = f"element {elem.name!r}"
         if not (isinstance(elem.boundary, str) and elem.boundary == "outdoor"):
             raise NetworkError(f"{ew}: the ISO 13790 template helper supports elements to "
                                f"'outdoor' only, got {elem.boundary!r}")
-        tilt, az = _b.check_orientation(elem.tilt, elem.azimuth, ew)
-        area = _b.check_num(elem.area, f"{ew}: area [m²]", low=0.0, low_open=True)
-        cons = _b.resolve_construction(elem, constructions)
-        direction = _b.heat_flow_direction(tilt)
+        tilt, az = check_orientation(elem.tilt, elem.azimuth, ew)
+        area = check_num(elem.area, f"{ew}: area [m²]", low=0.0, low_open=True)
+        cons = resolve_construction(elem, constructions)
+        direction = heat_flow_direction(tilt)
         sr = surface_resistances(direction)
         a_win = 0.0
         for win in elem.windows:
-            _b.check_window(win, elem.name)
+            check_window(win, elem.name)
             a_win += float(win.area)
         if a_win > area * (1 + 1e-12):
             raise NetworkError(f"{ew}: its windows and doors ({a_win:g} m²) are larger than the "
@@ -443,7 +454,7 @@ def iso13790_from_room(net: Network, name: str, *, floor_area: float, height: fl
             (float(w.u_value), float(w.area), float(elem.emissivity)) for w in elem.windows]
         if weather is not None:
             if solpos is None:
-                solpos = _b.site_solar_position(weather, latitude, longitude)
+                solpos = site_solar_position(weather, latitude, longitude)
             irr = _solar.surface_irradiance(weather, tilt, az, model=sky_model,
                                             solpos=solpos)["total"]
             phi_sol = phi_sol + float(elem.solar_absorptance) * sr.rse * u * a_op * irr
@@ -452,7 +463,7 @@ def iso13790_from_room(net: Network, name: str, *, floor_area: float, height: fl
                     raise NetworkError(f"window {win.name!r}: temperature-controlled shading is "
                                        "not supported by the ISO 13790 template")
                 if win.g_value > 0:
-                    phi_sol = phi_sol + _b.window_solar_gain(weather, win, tilt, az,
+                    phi_sol = phi_sol + window_solar_gain(weather, win, tilt, az,
                                                              solpos=solpos, sky_model=sky_model)
             if use_sky:
                 dth = weather["temp_air"] - weather[sky_temperature]
