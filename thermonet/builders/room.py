@@ -402,23 +402,7 @@ def room_solar_shares(rec: Room, receivers, floors, distribution) -> dict:
         ``solar_distribution`` of :func:`add_room`.
     """
     if isinstance(distribution, Mapping):
-        shares = {}
-        for key, v in distribution.items():
-            if key == "air":
-                node = rec.air
-            elif key in rec.surfaces and rec.surfaces[key] in receivers:
-                node = rec.surfaces[key]
-            else:
-                known = sorted(k for k, n in rec.surfaces.items() if n in receivers)
-                raise NetworkError(f"room {rec.name!r}: solar_distribution names {key!r}, which "
-                                   f"is neither 'air' nor an opaque element of the room "
-                                   f"({known})")
-            shares[node] = check_num(v, f"solar share of {key!r}", low=0.0, high=1.0)
-        total = math.fsum(shares.values())
-        if abs(total - 1.0) > 1e-9:
-            raise NetworkError(f"room {rec.name!r}: solar_distribution shares sum to {total:.6g}, "
-                               "need 1")
-        return shares
+        return mapped_solar_shares(rec, receivers, distribution)
     if distribution not in ("floor", "area"):
         raise NetworkError(f"solar_distribution must be 'floor', 'area' or a mapping, got "
                            f"{distribution!r}")
@@ -435,6 +419,36 @@ def room_solar_shares(rec: Room, receivers, floors, distribution) -> dict:
     fshare = base.pop(key)
     base.update({n: fshare * receivers[n] / a_floor for n in floors})
     return base
+
+
+def mapped_solar_shares(rec: Room, receivers, distribution: Mapping) -> dict:
+    """Node -> share of the transmitted solar from element name / ``"air"`` -> share.
+
+    Parameters
+    ----------
+    rec : Room
+    receivers : dict
+        Inside opaque surface node -> area [m²].
+    distribution : mapping of str to float
+        Element name or ``"air"`` -> share [-], summing to 1 (within 1e-9).
+    """
+    shares = {}
+    for key, v in distribution.items():
+        if key == "air":
+            node = rec.air
+        elif key in rec.surfaces and rec.surfaces[key] in receivers:
+            node = rec.surfaces[key]
+        else:
+            known = sorted(k for k, n in rec.surfaces.items() if n in receivers)
+            raise NetworkError(f"room {rec.name!r}: solar_distribution names {key!r}, which "
+                               f"is neither 'air' nor an opaque element of the room "
+                               f"({known})")
+        shares[node] = check_num(v, f"solar share of {key!r}", low=0.0, high=1.0)
+    total = math.fsum(shares.values())
+    if abs(total - 1.0) > 1e-9:
+        raise NetworkError(f"room {rec.name!r}: solar_distribution shares sum to {total:.6g}, "
+                           "need 1")
+    return shares
 
 
 def add_buffer(net: Network, name: str, **kwargs) -> Room:

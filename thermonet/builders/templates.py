@@ -414,62 +414,17 @@ def iso13790_from_room(net: Network, name: str, *, floor_area: float, height: fl
             raise NetworkError(f"the ISO 13790 template has no ground model; drop {key}=")
     h = check_num(height, "height [m]", low=0.0, low_open=True)
     af = check_num(floor_area, "floor_area [m²]", low=0.0, low_open=True)
-    h_op = h_w = 0.0
-    kappa_a = kappa2_a = 0.0
-    phi_sol = 0.0
-    solpos = None
     use_sky = weather is not None and sky is not None
     if use_sky and sky_temperature not in weather.columns:
         raise WeatherError(f"the weather has no column {sky_temperature!r} for the sky term; "
                            "add it with thermonet.weather.add_sky_temperature(df), or pass "
                            "sky=None")
+    s = Iso13790Sums()
     for elem in elements:
-        if not isinstance(elem, Element):
-            raise TypeError(f"elements must be Element, got {type(elem).__name__}")
-        ew = f"element {elem.name!r}"
-        if not (isinstance(elem.boundary, str) and elem.boundary == "outdoor"):
-            raise NetworkError(f"{ew}: the ISO 13790 template helper supports elements to "
-                               f"'outdoor' only, got {elem.boundary!r}")
-        tilt, az = check_orientation(elem.tilt, elem.azimuth, ew)
-        area = check_num(elem.area, f"{ew}: area [m²]", low=0.0, low_open=True)
-        cons = resolve_construction(elem, constructions)
-        direction = heat_flow_direction(tilt)
-        sr = surface_resistances(direction)
-        a_win = 0.0
-        for win in elem.windows:
-            check_window(win, elem.name)
-            a_win += float(win.area)
-        if a_win > area * (1 + 1e-12):
-            raise NetworkError(f"{ew}: its windows and doors ({a_win:g} m²) are larger than the "
-                               f"element ({area:g} m²)")
-        a_op = area - a_win
-        u = 1.0 / (sr.rsi + cons.thermal_resistance + sr.rse)
-        h_op += u * a_op
-        if a_op > 0:
-            k1 = dynamic_characteristics(cons, direction=direction).kappa1
-            kappa_a += k1 * a_op
-            kappa2_a += k1 * k1 * a_op
-        f_r = 0.5 * (1.0 + math.cos(math.radians(tilt)))
-        parts = [(u, a_op, float(elem.emissivity))] + [
-            (float(w.u_value), float(w.area), float(elem.emissivity)) for w in elem.windows]
-        if weather is not None:
-            if solpos is None:
-                solpos = site_solar_position(weather, latitude, longitude)
-            irr = _solar.surface_irradiance(weather, tilt, az, model=sky_model,
-                                            solpos=solpos)["total"]
-            phi_sol = phi_sol + float(elem.solar_absorptance) * sr.rse * u * a_op * irr
-            for win in elem.windows:
-                if win.shading is not None and win.shading.control == "temperature":
-                    raise NetworkError(f"window {win.name!r}: temperature-controlled shading is "
-                                       "not supported by the ISO 13790 template")
-                if win.g_value > 0:
-                    phi_sol = phi_sol + window_solar_gain(weather, win, tilt, az,
-                                                             solpos=solpos, sky_model=sky_model)
-            if use_sky:
-                dth = weather["temp_air"] - weather[sky_temperature]
-                for uu, aa, eps in parts:
-                    phi_sol = phi_sol - f_r * sr.rse * uu * aa * _ISO13790_HR_PER_EPS * eps * dth
-        h_w += sum(float(w.u_value) * float(w.area) for w in elem.windows)
+        add_element_to_sums(s, elem, constructions, weather, sky_model=sky_model,
+                            latitude=latitude, longitude=longitude,
+                            sky_temperature=sky_temperature if use_sky else None)
+    h_op, h_w, kappa_a, kappa2_a, phi_sol = s.h_tr_op, s.h_tr_w, s.kappa_a, s.kappa2_a, s.phi_sol
     if mass_class is None:
         if kappa_a <= 0:
             raise NetworkError("no opaque element to derive the mass from; give mass_class=")
@@ -483,3 +438,124 @@ def iso13790_from_room(net: Network, name: str, *, floor_area: float, height: fl
                              internal_gains=internal_gains, solar_gains=phi_sol,
                              volume=af * h, outdoor=outdoor,
                              outdoor_temperature=outdoor_temperature, **kw)
+
+
+@dataclass
+class Iso13790Sums:
+    """Running sums over the elements of a room description (see
+    :func:`iso13790_from_room`).
+
+    Attributes
+    ----------
+    h_tr_op, h_tr_w : float
+        Σ U A of opaque parts and of windows and doors [W/K].
+    kappa_a, kappa2_a : float
+        Σ κ1 A [J/K] and Σ κ1² A [J²/(m²K²)] of opaque parts.
+    phi_sol : float or pandas.Series
+        Φ_sol [W].
+    solpos : pandas.DataFrame or None
+        Solar position, computed on first need.
+    """
+
+    h_tr_op: float = 0.0
+    h_tr_w: float = 0.0
+    kappa_a: float = 0.0
+    kappa2_a: float = 0.0
+    phi_sol: object = 0.0
+    solpos: pd.DataFrame | None = None
+
+
+def add_element_to_sums(s: Iso13790Sums, elem, constructions, weather, *, sky_model: str,
+                        latitude, longitude, sky_temperature: str | None) -> None:
+    """Add one element (opaque part, windows, sun and sky) to the 5R1C sums ``s``.
+
+    Parameters
+    ----------
+    s : Iso13790Sums
+    elem : Element
+        Facing ``"outdoor"``.
+    constructions : mapping, optional
+        Name -> Construction.
+    weather : pandas.DataFrame or None
+        For Φ_sol; None: no solar or sky terms.
+    sky_model : str
+    latitude, longitude : float or None
+        Site [°].
+    sky_temperature : str or None
+        Weather column of θ_sky [°C]; None: no sky term.
+    """
+    if not isinstance(elem, Element):
+        raise TypeError(f"elements must be Element, got {type(elem).__name__}")
+    ew = f"element {elem.name!r}"
+    if not (isinstance(elem.boundary, str) and elem.boundary == "outdoor"):
+        raise NetworkError(f"{ew}: the ISO 13790 template helper supports elements to "
+                           f"'outdoor' only, got {elem.boundary!r}")
+    tilt, az = check_orientation(elem.tilt, elem.azimuth, ew)
+    area = check_num(elem.area, f"{ew}: area [m²]", low=0.0, low_open=True)
+    cons = resolve_construction(elem, constructions)
+    direction = heat_flow_direction(tilt)
+    sr = surface_resistances(direction)
+    a_win = 0.0
+    for win in elem.windows:
+        check_window(win, elem.name)
+        a_win += float(win.area)
+    if a_win > area * (1 + 1e-12):
+        raise NetworkError(f"{ew}: its windows and doors ({a_win:g} m²) are larger than the "
+                           f"element ({area:g} m²)")
+    a_op = area - a_win
+    u = 1.0 / (sr.rsi + cons.thermal_resistance + sr.rse)
+    s.h_tr_op += u * a_op
+    if a_op > 0:
+        k1 = dynamic_characteristics(cons, direction=direction).kappa1
+        s.kappa_a += k1 * a_op
+        s.kappa2_a += k1 * k1 * a_op
+    if weather is not None:
+        add_element_solar(s, elem, weather, tilt, az, u, a_op, sr.rse, sky_model=sky_model,
+                          latitude=latitude, longitude=longitude,
+                          sky_temperature=sky_temperature)
+    s.h_tr_w += sum(float(w.u_value) * float(w.area) for w in elem.windows)
+
+
+def add_element_solar(s: Iso13790Sums, elem, weather, tilt: float, azimuth: float, u: float,
+                      a_op: float, rse: float, *, sky_model: str, latitude, longitude,
+                      sky_temperature: str | None) -> None:
+    """Add an element's Φ_sol terms to ``s.phi_sol`` (ISO 13790:2008 11.3.4–11.3.5).
+
+    Parameters
+    ----------
+    s : Iso13790Sums
+    elem : Element
+    weather : pandas.DataFrame
+    tilt, azimuth : float
+        [°].
+    u : float
+        U of the opaque part [W/(m²K)].
+    a_op : float
+        Opaque area [m²].
+    rse : float
+        R_se [m²K/W].
+    sky_model : str
+    latitude, longitude : float or None
+        Site [°].
+    sky_temperature : str or None
+        Weather column of θ_sky [°C]; None: no sky term.
+    """
+    f_r = 0.5 * (1.0 + math.cos(math.radians(tilt)))
+    parts = [(u, a_op, float(elem.emissivity))] + [
+        (float(w.u_value), float(w.area), float(elem.emissivity)) for w in elem.windows]
+    if s.solpos is None:
+        s.solpos = site_solar_position(weather, latitude, longitude)
+    irr = _solar.surface_irradiance(weather, tilt, azimuth, model=sky_model,
+                                    solpos=s.solpos)["total"]
+    s.phi_sol = s.phi_sol + float(elem.solar_absorptance) * rse * u * a_op * irr
+    for win in elem.windows:
+        if win.shading is not None and win.shading.control == "temperature":
+            raise NetworkError(f"window {win.name!r}: temperature-controlled shading is "
+                               "not supported by the ISO 13790 template")
+        if win.g_value > 0:
+            s.phi_sol = s.phi_sol + window_solar_gain(weather, win, tilt, azimuth,
+                                                      solpos=s.solpos, sky_model=sky_model)
+    if sky_temperature is not None:
+        dth = weather["temp_air"] - weather[sky_temperature]
+        for uu, aa, eps in parts:
+            s.phi_sol = s.phi_sol - f_r * rse * uu * aa * _ISO13790_HR_PER_EPS * eps * dth
