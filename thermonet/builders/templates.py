@@ -33,7 +33,18 @@ from dataclasses import asdict, dataclass, field
 import pandas as pd
 
 from thermonet import solar as _solar
-from thermonet.builders import room as _b
+from thermonet.builders.common import (
+    META_KEY,
+    check_num,
+    check_orientation,
+    meta_section,
+    outdoor_boundary,
+    resolve_construction,
+    site_solar_position,
+)
+from thermonet.builders.elements import Element
+from thermonet.builders.surfaces import heat_flow_direction
+from thermonet.builders.windows import check_window, window_solar_gain
 from thermonet.constructions import dynamic_characteristics, surface_resistances
 from thermonet.errors import NetworkError, WeatherError
 from thermonet.network import Network
@@ -154,9 +165,9 @@ def iso13790_parameters(floor_area, h_tr_op, h_tr_w, *, mass_class="medium", a_m
     ISO 13790:2008, Energy performance of buildings — Calculation of energy use for space
     heating and cooling, Annex C (simple hourly method), 12.2 and 12.3 (mass classes).
     """
-    af = _b.check_num(floor_area, "floor_area [m²]", low=0.0, low_open=True)
-    hop = _b.check_num(h_tr_op, "h_tr_op [W/K]", low=0.0)
-    hw = _b.check_num(h_tr_w, "h_tr_w [W/K]", low=0.0)
+    af = check_num(floor_area, "floor_area [m²]", low=0.0, low_open=True)
+    hop = check_num(h_tr_op, "h_tr_op [W/K]", low=0.0)
+    hw = check_num(h_tr_w, "h_tr_w [W/K]", low=0.0)
     if (a_m is None) != (c_m is None):
         raise NetworkError("give both a_m [m²] and c_m [J/K], or neither (mass_class)")
     if a_m is None:
@@ -166,8 +177,8 @@ def iso13790_parameters(floor_area, h_tr_op, h_tr_w, *, mass_class="medium", a_m
         am_per, cm_per = MASS_CLASSES[mass_class]
         am, cm = am_per * af, cm_per * af
     else:
-        am = _b.check_num(a_m, "a_m [m²]", low=0.0, low_open=True)
-        cm = _b.check_num(c_m, "c_m [J/K]", low=0.0, low_open=True)
+        am = check_num(a_m, "a_m [m²]", low=0.0, low_open=True)
+        cm = check_num(c_m, "c_m [J/K]", low=0.0, low_open=True)
     at = LAMBDA_AT * af
     hms = H_MS * am
     if hop >= hms:
@@ -219,7 +230,7 @@ class Iso13790Zone:
 def _check_gain(value, what):
     if isinstance(value, pd.Series):
         return value.astype(float).rename(None)
-    return _b.check_num(value, what, low=-math.inf)
+    return check_num(value, what, low=-math.inf)
 
 
 def add_iso13790_zone(net: Network, name: str, *, floor_area: float, h_tr_op: float,
@@ -258,8 +269,8 @@ def add_iso13790_zone(net: Network, name: str, *, floor_area: float, h_tr_op: fl
     q_int = _check_gain(internal_gains, "internal_gains [W]")
     q_sol = _check_gain(solar_gains, "solar_gains [W]")
     if volume is not None:
-        volume = _b.check_num(volume, "volume [m³]", low=0.0, low_open=True)
-    out = _b.outdoor_boundary(net, outdoor, outdoor_temperature, "air", f"zone {name!r}")
+        volume = check_num(volume, "volume [m³]", low=0.0, low_open=True)
+    out = outdoor_boundary(net, outdoor, outdoor_temperature, "air", f"zone {name!r}")
     z = Iso13790Zone(name, name, f"{name}.star", f"{name}.mass", out, volume, p.floor_area, p)
     net.add_node(z.air, kind="air", capacitance=0.0, volume=volume)
     net.add_node(z.star, kind="surface", capacitance=0.0)
@@ -296,7 +307,7 @@ def _keep_zone(net: Network, z: Iso13790Zone) -> None:
     """Record ``z`` in ``net.meta`` (plain JSON, lists shared with the zone)."""
     rec = {k: getattr(z, k) for k in _ZONE_FIELDS}
     rec["parameters"] = asdict(z.parameters)
-    _b.meta_section(net, "iso13790_zones")[z.name] = rec
+    meta_section(net, "iso13790_zones")[z.name] = rec
 
 
 def iso13790_zones(net: Network) -> dict[str, Iso13790Zone]:
@@ -316,10 +327,10 @@ def iso13790_zones(net: Network) -> dict[str, Iso13790Zone]:
     NetworkError
         If a record is malformed or names nodes the network does not have.
     """
-    section = (getattr(net, "meta", None) or {}).get(_b.META_KEY, {}).get("iso13790_zones", {})
+    section = (getattr(net, "meta", None) or {}).get(META_KEY, {}).get("iso13790_zones", {})
     out = {}
     for name, d in section.items():
-        where = f"net.meta['{_b.META_KEY}']['iso13790_zones'][{name!r}]"
+        where = f"net.meta['{META_KEY}']['iso13790_zones'][{name!r}]"
         if not isinstance(d, dict) or any(k not in d for k in (*_ZONE_FIELDS, "parameters")):
             raise NetworkError(f"{where} must be an object with keys "
                                f"{[*_ZONE_FIELDS, 'parameters']}; rebuild the zone")
@@ -401,64 +412,19 @@ def iso13790_from_room(net: Network, name: str, *, floor_area: float, height: fl
     for key in ("ground_temperature", "soil"):
         if ignored.get(key) is not None:
             raise NetworkError(f"the ISO 13790 template has no ground model; drop {key}=")
-    h = _b.check_num(height, "height [m]", low=0.0, low_open=True)
-    af = _b.check_num(floor_area, "floor_area [m²]", low=0.0, low_open=True)
-    h_op = h_w = 0.0
-    kappa_a = kappa2_a = 0.0
-    phi_sol = 0.0
-    solpos = None
+    h = check_num(height, "height [m]", low=0.0, low_open=True)
+    af = check_num(floor_area, "floor_area [m²]", low=0.0, low_open=True)
     use_sky = weather is not None and sky is not None
     if use_sky and sky_temperature not in weather.columns:
         raise WeatherError(f"the weather has no column {sky_temperature!r} for the sky term; "
                            "add it with thermonet.weather.add_sky_temperature(df), or pass "
                            "sky=None")
+    s = Iso13790Sums()
     for elem in elements:
-        if not isinstance(elem, _b.Element):
-            raise TypeError(f"elements must be Element, got {type(elem).__name__}")
-        ew = f"element {elem.name!r}"
-        if not (isinstance(elem.boundary, str) and elem.boundary == "outdoor"):
-            raise NetworkError(f"{ew}: the ISO 13790 template helper supports elements to "
-                               f"'outdoor' only, got {elem.boundary!r}")
-        tilt, az = _b.check_orientation(elem.tilt, elem.azimuth, ew)
-        area = _b.check_num(elem.area, f"{ew}: area [m²]", low=0.0, low_open=True)
-        cons = _b.resolve_construction(elem, constructions)
-        direction = _b.heat_flow_direction(tilt)
-        sr = surface_resistances(direction)
-        a_win = 0.0
-        for win in elem.windows:
-            _b.check_window(win, elem.name)
-            a_win += float(win.area)
-        if a_win > area * (1 + 1e-12):
-            raise NetworkError(f"{ew}: its windows and doors ({a_win:g} m²) are larger than the "
-                               f"element ({area:g} m²)")
-        a_op = area - a_win
-        u = 1.0 / (sr.rsi + cons.thermal_resistance + sr.rse)
-        h_op += u * a_op
-        if a_op > 0:
-            k1 = dynamic_characteristics(cons, direction=direction).kappa1
-            kappa_a += k1 * a_op
-            kappa2_a += k1 * k1 * a_op
-        f_r = 0.5 * (1.0 + math.cos(math.radians(tilt)))
-        parts = [(u, a_op, float(elem.emissivity))] + [
-            (float(w.u_value), float(w.area), float(elem.emissivity)) for w in elem.windows]
-        if weather is not None:
-            if solpos is None:
-                solpos = _b.site_solar_position(weather, latitude, longitude)
-            irr = _solar.surface_irradiance(weather, tilt, az, model=sky_model,
-                                            solpos=solpos)["total"]
-            phi_sol = phi_sol + float(elem.solar_absorptance) * sr.rse * u * a_op * irr
-            for win in elem.windows:
-                if win.shading is not None and win.shading.control == "temperature":
-                    raise NetworkError(f"window {win.name!r}: temperature-controlled shading is "
-                                       "not supported by the ISO 13790 template")
-                if win.g_value > 0:
-                    phi_sol = phi_sol + _b.window_solar_gain(weather, win, tilt, az,
-                                                             solpos=solpos, sky_model=sky_model)
-            if use_sky:
-                dth = weather["temp_air"] - weather[sky_temperature]
-                for uu, aa, eps in parts:
-                    phi_sol = phi_sol - f_r * sr.rse * uu * aa * _ISO13790_HR_PER_EPS * eps * dth
-        h_w += sum(float(w.u_value) * float(w.area) for w in elem.windows)
+        add_element_to_sums(s, elem, constructions, weather, sky_model=sky_model,
+                            latitude=latitude, longitude=longitude,
+                            sky_temperature=sky_temperature if use_sky else None)
+    h_op, h_w, kappa_a, kappa2_a, phi_sol = s.h_tr_op, s.h_tr_w, s.kappa_a, s.kappa2_a, s.phi_sol
     if mass_class is None:
         if kappa_a <= 0:
             raise NetworkError("no opaque element to derive the mass from; give mass_class=")
@@ -472,3 +438,124 @@ def iso13790_from_room(net: Network, name: str, *, floor_area: float, height: fl
                              internal_gains=internal_gains, solar_gains=phi_sol,
                              volume=af * h, outdoor=outdoor,
                              outdoor_temperature=outdoor_temperature, **kw)
+
+
+@dataclass
+class Iso13790Sums:
+    """Running sums over the elements of a room description (see
+    :func:`iso13790_from_room`).
+
+    Attributes
+    ----------
+    h_tr_op, h_tr_w : float
+        Σ U A of opaque parts and of windows and doors [W/K].
+    kappa_a, kappa2_a : float
+        Σ κ1 A [J/K] and Σ κ1² A [J²/(m²K²)] of opaque parts.
+    phi_sol : float or pandas.Series
+        Φ_sol [W].
+    solpos : pandas.DataFrame or None
+        Solar position, computed on first need.
+    """
+
+    h_tr_op: float = 0.0
+    h_tr_w: float = 0.0
+    kappa_a: float = 0.0
+    kappa2_a: float = 0.0
+    phi_sol: object = 0.0
+    solpos: pd.DataFrame | None = None
+
+
+def add_element_to_sums(s: Iso13790Sums, elem, constructions, weather, *, sky_model: str,
+                        latitude, longitude, sky_temperature: str | None) -> None:
+    """Add one element (opaque part, windows, sun and sky) to the 5R1C sums ``s``.
+
+    Parameters
+    ----------
+    s : Iso13790Sums
+    elem : Element
+        Facing ``"outdoor"``.
+    constructions : mapping, optional
+        Name -> Construction.
+    weather : pandas.DataFrame or None
+        For Φ_sol; None: no solar or sky terms.
+    sky_model : str
+    latitude, longitude : float or None
+        Site [°].
+    sky_temperature : str or None
+        Weather column of θ_sky [°C]; None: no sky term.
+    """
+    if not isinstance(elem, Element):
+        raise TypeError(f"elements must be Element, got {type(elem).__name__}")
+    ew = f"element {elem.name!r}"
+    if not (isinstance(elem.boundary, str) and elem.boundary == "outdoor"):
+        raise NetworkError(f"{ew}: the ISO 13790 template helper supports elements to "
+                           f"'outdoor' only, got {elem.boundary!r}")
+    tilt, az = check_orientation(elem.tilt, elem.azimuth, ew)
+    area = check_num(elem.area, f"{ew}: area [m²]", low=0.0, low_open=True)
+    cons = resolve_construction(elem, constructions)
+    direction = heat_flow_direction(tilt)
+    sr = surface_resistances(direction)
+    a_win = 0.0
+    for win in elem.windows:
+        check_window(win, elem.name)
+        a_win += float(win.area)
+    if a_win > area * (1 + 1e-12):
+        raise NetworkError(f"{ew}: its windows and doors ({a_win:g} m²) are larger than the "
+                           f"element ({area:g} m²)")
+    a_op = area - a_win
+    u = 1.0 / (sr.rsi + cons.thermal_resistance + sr.rse)
+    s.h_tr_op += u * a_op
+    if a_op > 0:
+        k1 = dynamic_characteristics(cons, direction=direction).kappa1
+        s.kappa_a += k1 * a_op
+        s.kappa2_a += k1 * k1 * a_op
+    if weather is not None:
+        add_element_solar(s, elem, weather, tilt, az, u, a_op, sr.rse, sky_model=sky_model,
+                          latitude=latitude, longitude=longitude,
+                          sky_temperature=sky_temperature)
+    s.h_tr_w += sum(float(w.u_value) * float(w.area) for w in elem.windows)
+
+
+def add_element_solar(s: Iso13790Sums, elem, weather, tilt: float, azimuth: float, u: float,
+                      a_op: float, rse: float, *, sky_model: str, latitude, longitude,
+                      sky_temperature: str | None) -> None:
+    """Add an element's Φ_sol terms to ``s.phi_sol`` (ISO 13790:2008 11.3.4–11.3.5).
+
+    Parameters
+    ----------
+    s : Iso13790Sums
+    elem : Element
+    weather : pandas.DataFrame
+    tilt, azimuth : float
+        [°].
+    u : float
+        U of the opaque part [W/(m²K)].
+    a_op : float
+        Opaque area [m²].
+    rse : float
+        R_se [m²K/W].
+    sky_model : str
+    latitude, longitude : float or None
+        Site [°].
+    sky_temperature : str or None
+        Weather column of θ_sky [°C]; None: no sky term.
+    """
+    f_r = 0.5 * (1.0 + math.cos(math.radians(tilt)))
+    parts = [(u, a_op, float(elem.emissivity))] + [
+        (float(w.u_value), float(w.area), float(elem.emissivity)) for w in elem.windows]
+    if s.solpos is None:
+        s.solpos = site_solar_position(weather, latitude, longitude)
+    irr = _solar.surface_irradiance(weather, tilt, azimuth, model=sky_model,
+                                    solpos=s.solpos)["total"]
+    s.phi_sol = s.phi_sol + float(elem.solar_absorptance) * rse * u * a_op * irr
+    for win in elem.windows:
+        if win.shading is not None and win.shading.control == "temperature":
+            raise NetworkError(f"window {win.name!r}: temperature-controlled shading is "
+                               "not supported by the ISO 13790 template")
+        if win.g_value > 0:
+            s.phi_sol = s.phi_sol + window_solar_gain(weather, win, tilt, azimuth,
+                                                      solpos=s.solpos, sky_model=sky_model)
+    if sky_temperature is not None:
+        dth = weather["temp_air"] - weather[sky_temperature]
+        for uu, aa, eps in parts:
+            s.phi_sol = s.phi_sol - f_r * rse * uu * aa * _ISO13790_HR_PER_EPS * eps * dth
