@@ -100,8 +100,11 @@ def _radiation_net():
     return net
 
 
+HOLD: dict = {}   # {"interpolate": ()} with --hold: inputs held over each step, as before
+
+
 def _sim(out: dict, key: str, net, weather, **kw) -> None:
-    res = tn.simulate(net, weather, **kw)
+    res = tn.simulate(net, weather, **HOLD, **kw)
     out[f"{key}/T"] = res.temperatures.to_numpy()
     out[f"{key}/Tmean"] = res.mean_temperatures.to_numpy()
     out[f"{key}/flows"] = res.flows.to_numpy()
@@ -142,7 +145,7 @@ def run(path: str) -> None:
     params = pd.DataFrame({"ua": np.linspace(20, 80, 7), "cap": np.linspace(2e6, 1e7, 7),
                            "gain": np.linspace(100, 400, 7)})
     tab = studies.run_variants(_readme_net, params, w, comfort_node="room",
-                               balance_nodes=["room", "slab"], progress=False)
+                               balance_nodes=["room", "slab"], progress=False, **HOLD)
     out["study/readme"] = tab.select_dtypes("number").to_numpy()
 
     def build_sw(ua, limit):
@@ -150,7 +153,7 @@ def run(path: str) -> None:
 
     params = pd.DataFrame({"ua": [15.0, 25.0, 35.0], "limit": [800.0, 1500.0, 3000.0]})
     tab = studies.run_variants(build_sw, params, w2, comfort_node="air",
-                               balance_nodes=["air", "surf", "wall"], progress=False)
+                               balance_nodes=["air", "surf", "wall"], progress=False, **HOLD)
     out["study/switched"] = tab.select_dtypes("number").to_numpy()
     np.savez_compressed(path, **out)
     print(f"wrote {len(out)} arrays to {path}")
@@ -190,7 +193,12 @@ def main() -> int:
     p = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     p.add_argument("--out", default="regression.npz")
     p.add_argument("--compare", nargs=2, metavar=("BEFORE", "AFTER"))
+    p.add_argument("--hold", action="store_true",
+                   help="hold every input over its step (interpolate=()), the timing of "
+                        "versions before the first-order hold of instantaneous weather values")
     args = p.parse_args()
+    if args.hold:
+        HOLD["interpolate"] = ()
     if args.compare:
         return compare(*args.compare)
     run(args.out)

@@ -581,11 +581,14 @@ def _chunks(positions: list[int], size: int) -> list[list[int]]:
 
 
 def _sim_options(comfort_node, hours_above, degree_hours_above, balance_nodes, link_energy,
-                 warmup_days, step, max_bytes) -> dict:
-    return dict(comfort_node=comfort_node, hours_above=tuple(hours_above),
-                degree_hours_above=tuple(degree_hours_above), balance_nodes=balance_nodes,
-                link_energy=bool(link_energy), warmup_days=warmup_days, step=step,
-                max_bytes=max_bytes)
+                 warmup_days, step, max_bytes, interpolate=None) -> dict:
+    out = dict(comfort_node=comfort_node, hours_above=tuple(hours_above),
+               degree_hours_above=tuple(degree_hours_above), balance_nodes=balance_nodes,
+               link_energy=bool(link_energy), warmup_days=warmup_days, step=step,
+               max_bytes=max_bytes)
+    if interpolate is not None:     # (absent by default: study folders keep their fingerprint)
+        out["interpolate"] = tuple(interpolate)
+    return out
 
 
 def _warn_failed(table: pd.DataFrame, stacklevel: int):
@@ -605,7 +608,8 @@ def run_variants(build, params: pd.DataFrame, weather: pd.DataFrame | None = Non
                  degree_hours_above=(), balance_nodes=None, link_energy: bool = False,
                  warmup_days: float = 14.0, step=None, executor=None,
                  chunk_size: int | None = None, max_bytes: float = DEFAULT_MAX_BYTES,
-                 progress="auto", out=None, errors: str = "collect") -> pd.DataFrame:
+                 progress="auto", out=None, errors: str = "collect",
+                 interpolate=None) -> pd.DataFrame:
     """Simulate one network per row of a parameter table; one row of annual results each.
 
     Parameters
@@ -638,6 +642,9 @@ def run_variants(build, params: pd.DataFrame, weather: pd.DataFrame | None = Non
         Lead-in [days] before the reported period.
     step : str or Timedelta, optional
         Time step (default: the weather's).
+    interpolate : collection of str, optional
+        Instantaneous weather columns, as for :func:`thermonet.simulate` (``()`` holds every
+        input over its step).
     executor : None, concurrent.futures.Executor or dask.distributed.Client
         Where chunks run (see the module docstring).
     chunk_size : int, optional
@@ -679,7 +686,7 @@ def run_variants(build, params: pd.DataFrame, weather: pd.DataFrame | None = Non
                                    or chunk_size < 1):
         raise ValueError(f"chunk_size must be a positive integer [variants], got {chunk_size!r}")
     sim = _sim_options(comfort_node, hours_above, degree_hours_above, balance_nodes,
-                       link_energy, warmup_days, step, max_bytes)
+                       link_energy, warmup_days, step, max_bytes, interpolate)
     N = len(params)
     done: dict[int, pd.DataFrame] = {}
     store = None
