@@ -75,7 +75,7 @@ UNIT_SUFFIXES: tuple[tuple[str, str], ...] = (
     ("_mwh", "MWh"),
     ("_kw", "kW"),
     ("_w", "W"),
-    ("_kh", "K·h"),
+    ("_kelvin_hours", "K·h"),
     ("_h", "h"),
     ("_pct", "%"),
     ("_c", "°C"),

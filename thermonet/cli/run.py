@@ -782,8 +782,8 @@ def comfort_table(res, net) -> pd.DataFrame:
     """Comfort metrics of every air node from its step-mean temperature.
 
     Columns: ``hours_above_25_h``, ``hours_above_26_h``, ``hours_above_28_h`` [h],
-    ``degree_hours_above_26_kh`` [K·h], ``overheating_frequency_25`` [-] (share of all hours
-    above 25 °C, the very-low-energy criterion of :func:`thermonet.comfort.overheating_frequency`),
+    ``degree_hours_above_26_kelvin_hours`` [K·h], ``overheating_frequency_25`` [-] (share of all
+    hours above 25 °C, the very-low-energy criterion of :func:`thermonet.comfort.overheating_frequency`),
     ``max_c`` and ``mean_c`` [°C]. One row per node of kind ``air``.
 
     Parameters
@@ -800,13 +800,13 @@ def comfort_table(res, net) -> pd.DataFrame:
             continue
         t = tm[name]
         row = {f"hours_above_{th:g}_h": comfort.hours_above(t, th) for th in COMFORT_THRESHOLDS}
-        row["degree_hours_above_26_kh"] = comfort.degree_hours_above(t, 26.0)
+        row["degree_hours_above_26_kelvin_hours"] = comfort.degree_hours_above(t, 26.0)
         row["overheating_frequency_25"] = comfort.overheating_frequency(t, 25.0)
         row["max_c"] = float(t.max())
         row["mean_c"] = float(t.mean())
         rows[name] = row
     cols = [f"hours_above_{th:g}_h" for th in COMFORT_THRESHOLDS] + [
-        "degree_hours_above_26_kh", "overheating_frequency_25", "max_c", "mean_c"]
+        "degree_hours_above_26_kelvin_hours", "overheating_frequency_25", "max_c", "mean_c"]
     out = pd.DataFrame.from_dict(rows, orient="index", columns=cols)
     out.index.name = "node"
     return out

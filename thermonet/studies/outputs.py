@@ -18,8 +18,8 @@ node's step-mean temperature) or a function of the Results.
 
 Column names
 ------------
-Names carry their unit as a suffix (``_h`` hours, ``_kh`` K·h, ``_pct`` percent, ``_c`` °C,
-``_k`` K, ``_kwh`` kWh, ``_w`` W, ``_kwh_m2`` kWh/m², ``_w_m2`` W/m²; ``_ok`` a verdict) and
+Names carry their unit as a suffix (``_h`` hours, ``_kelvin_hours`` K·h, ``_pct`` percent,
+``_c`` °C, ``_k`` K, ``_kwh`` kWh, ``_w`` W, ``_kwh_m2`` kWh/m², ``_w_m2`` W/m²; ``_ok`` a verdict) and
 are listed with their meaning in ``docs/glossary.md`` ("Study outputs per variant"). They
 are the names of the demo (:mod:`thermonet.scenarios.sunny_room`), e.g.
 ``hours_above_26_h``, ``tm52_ok``, ``heating_kwh``.
@@ -117,7 +117,7 @@ def _fixed_thresholds(t_op, mask, hours_above, degree_hours_above) -> dict:
     for th in hours_above:
         out[f"hours_above_{_label(th)}_h"] = comfort.hours_above(t_op, float(th), mask)
     for th in degree_hours_above:
-        out[f"degree_hours_above_{_label(th)}_kh"] = comfort.degree_hours_above(
+        out[f"degree_hours_above_{_label(th)}_kelvin_hours"] = comfort.degree_hours_above(
             t_op, float(th), mask)
     return out
 
@@ -127,7 +127,7 @@ def _adaptive(t_op, outdoor, mask, category, init) -> dict:
     row = ad.table.loc[ad.category]
     key = f"adaptive_{ad.category.lower()}"
     return {f"{key}_hours_above_h": float(row["hours_above_upper"]),
-            f"{key}_degree_hours_above_kh": float(row["degree_hours_above_upper"]),
+            f"{key}_degree_hours_above_kelvin_hours": float(row["degree_hours_above_upper"]),
             f"{key}_share_in_category_pct": 100.0 * float(row["share_in_category"])}
 
 
@@ -139,7 +139,7 @@ def _season_occupied(t_op: pd.Series, mask) -> bool:
     return bool((season & occ).any())
 
 
-_TM52_KEYS = ("tm52_c1_exceedance_pct", "tm52_c2_worst_we_kh", "tm52_c3_max_dt_k")
+_TM52_KEYS = ("tm52_c1_exceedance_pct", "tm52_c2_worst_we_kelvin_hours", "tm52_c3_max_dt_k")
 
 
 def _tm52(t_op, outdoor, mask, category, init) -> dict:
@@ -206,7 +206,7 @@ def comfort_outputs(t_op: pd.Series, temp_air_outdoor: pd.Series | None = None, 
     hours_above : sequence of float, default (25, 26, 28)
         Thresholds [°C] for ``hours_above_<T>_h`` [h]: occupied hours with θop > T.
     degree_hours_above : sequence of float, default (25, 26)
-        Thresholds [°C] for ``degree_hours_above_<T>_kh`` [K·h] over occupied hours.
+        Thresholds [°C] for ``degree_hours_above_<T>_kelvin_hours`` [K·h] over occupied hours.
     adaptive_category : {"I", "II", "III"} or None, default "II"
         EN 16798-1 category of ``adaptive_<cat>_*``; None leaves them out.
     tm52_category : {"I", "II", "III"} or None, default "II"
@@ -227,10 +227,10 @@ def comfort_outputs(t_op: pd.Series, temp_air_outdoor: pd.Series | None = None, 
     -------
     dict
         ``occupied_hours_h`` [h], ``max_operative_c`` [°C] (over every row, as the demo),
-        ``hours_above_<T>_h`` [h], ``degree_hours_above_<T>_kh`` [K·h];
-        ``adaptive_<cat>_hours_above_h`` [h], ``adaptive_<cat>_degree_hours_above_kh``
+        ``hours_above_<T>_h`` [h], ``degree_hours_above_<T>_kelvin_hours`` [K·h];
+        ``adaptive_<cat>_hours_above_h`` [h], ``adaptive_<cat>_degree_hours_above_kelvin_hours``
         [K·h], ``adaptive_<cat>_share_in_category_pct`` [%];
-        ``tm52_c1_exceedance_pct`` [%], ``tm52_c2_worst_we_kh`` [K·h],
+        ``tm52_c1_exceedance_pct`` [%], ``tm52_c2_worst_we_kelvin_hours`` [K·h],
         ``tm52_c3_max_dt_k`` [K], ``tm52_c1_ok`` … ``tm52_c3_ok``,
         ``tm52_failed_criteria`` [–], ``tm52_ok``; TM59 natural: ``tm59_a_pct`` [%],
         ``tm59_a_ok``, bedrooms also ``tm59_b_night_hours_above_26_h`` [h],

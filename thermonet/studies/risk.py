@@ -406,15 +406,15 @@ def hours_above_criterion(threshold: float = 26.0, *, max_hours: float | None = 
                      ComfortValue(f"hours_above_{name}_h", opts, temperature), "user limit")
 
 
-def degree_hours_criterion(threshold: float = 26.0, max_kh: float = 0.0, *, occupied=None,
+def degree_hours_criterion(threshold: float = 26.0, max_kelvin_hours: float = 0.0, *, occupied=None,
                            temperature=None) -> Criterion:
-    """Fails when the occupied degree-hours above ``threshold`` exceed ``max_kh``.
+    """Fails when the occupied degree-hours above ``threshold`` exceed ``max_kelvin_hours``.
 
     Parameters
     ----------
     threshold : float, default 26
         Temperature [°C].
-    max_kh : float
+    max_kelvin_hours : float
         Largest Σ max(θ − threshold, 0)·Δt over occupied hours that passes [K·h].
     occupied, temperature
         As for :func:`hours_above_criterion`.
@@ -422,13 +422,14 @@ def degree_hours_criterion(threshold: float = 26.0, max_kh: float = 0.0, *, occu
     Returns
     -------
     Criterion
-        Key ``degree_hours_above_<T>_kh``.
+        Key ``degree_hours_above_<T>_kelvin_hours``.
     """
     th = finite_value(threshold, "degree_hours_criterion: threshold")
     opts = dict(_NO_OUTDOOR, degree_hours_above=(th,), occupied=occupied)
-    key = f"degree_hours_above_{th:g}_kh"
-    return Criterion(key, f"more than {max_kh:g} K·h above {th:g} °C", float(max_kh), "K·h",
-                     ComfortValue(key, opts, temperature), "user limit")
+    key = f"degree_hours_above_{th:g}_kelvin_hours"
+    return Criterion(key, f"more than {max_kelvin_hours:g} K·h above {th:g} °C",
+                     float(max_kelvin_hours), "K·h", ComfortValue(key, opts, temperature),
+                     "user limit")
 
 
 def adaptive_criterion(category: str = "II", max_hours: float = 0.0, *, occupied=None,
