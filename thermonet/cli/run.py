@@ -784,7 +784,8 @@ def comfort_table(res, net) -> pd.DataFrame:
     Columns: ``hours_above_25_h``, ``hours_above_26_h``, ``hours_above_28_h`` [h],
     ``degree_hours_above_26_kelvin_hours`` [K·h], ``overheating_frequency_25`` [-] (share of all
     hours above 25 °C, the very-low-energy criterion of
-    :func:`thermonet.comfort.overheating_frequency`), ``max_c`` and ``mean_c`` [°C]. One row per node of kind ``air``.
+    :func:`thermonet.comfort.overheating_frequency`), ``max_c`` and ``mean_c`` [°C]. One row
+    per node of kind ``air``.
 
     Parameters
     ----------

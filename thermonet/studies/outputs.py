@@ -20,7 +20,8 @@ Column names
 ------------
 Names carry their unit as a suffix (``_h`` hours, ``_kelvin_hours`` K·h, ``_pct`` percent,
 ``_c`` °C, ``_k`` K, ``_kwh`` kWh, ``_w`` W, ``_kwh_m2`` kWh/m², ``_w_m2`` W/m²; ``_ok`` a
-verdict) and are listed with their meaning in ``docs/glossary.md`` ("Study outputs per variant"). They
+verdict) and are listed with their meaning in ``docs/glossary.md`` ("Study outputs per
+variant"). They
 are the names of the demo (:mod:`thermonet.scenarios.sunny_room`), e.g.
 ``hours_above_26_h``, ``tm52_ok``, ``heating_kwh``.
 
