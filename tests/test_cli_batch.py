@@ -1,4 +1,4 @@
-"""``thermonet run`` and ``thermonet check`` (thermonet.cli_batch), end to end in tmp folders.
+"""``thermonet run`` and ``thermonet check`` (thermonet.cli.run), end to end in tmp folders.
 
 The handlers are called through an argparse parser built here with ``add_batch_commands``,
 and once each through the real entry point (``thermonet.cli.main``) and a fresh

@@ -583,7 +583,7 @@ def test_extreme_inputs_match_radau(case, step, wstep):
 # A surface-like node of tiny capacitance tightly coupled between two massive nodes that are
 # weakly coupled to the outside: stiffness ratio λ_max/λ_min ≈ 1e13. Found by this test file.
 STIFF = ([1e6, 1e-3, 1e4], [("b0", "n0", 0.01), ("n0", "n1", 1e5), ("n1", "n2", 100.0)])
-# Before the conservative doubling fallback (solvers.zoh_doubling) the symmetric
+# Before the conservative doubling fallback (engine.discretise.zoh_doubling) the symmetric
 # eigensolver lost this network's slow rate: |T − T_Radau| = 1.6e-3 K after 8 steps and an
 # isothermal network drifted 4 K in a year. These two tests keep it fixed.
 

@@ -51,7 +51,7 @@ __all__ = [
 ]
 
 #: Night window of the CIBSE TM59 (2017) bedroom criterion, 22:00–07:00 (local clock of the
-#: interval mid-points; REFERENCES §5.4, confirmed in the literature quoted there).
+#: interval mid-points; docs/references.md §5.4, confirmed in the literature quoted there).
 TM59_NIGHT = ("22:00", "07:00")
 
 #: Sleeping hours of the CIBSE TM59 (2017) bedroom occupancy profile, 23:00–08:00 (from memory).
