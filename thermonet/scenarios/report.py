@@ -26,8 +26,8 @@ import pandas as pd
 from thermonet import __version__, comfort, plots
 from thermonet.constants import CAUTION
 from thermonet.labels import LABELS, label
+from thermonet.scenarios.criteria import CRITERION_SETS
 from thermonet.scenarios.fernhollow import BUILDING, INVENTED_NOTE
-from thermonet.scenarios.sunny_room import CRITERION_SETS
 
 __all__ = ["CSV_FILES", "FIGURES", "INVENTED_NOTE", "OPTION_PALETTE", "REPORT_FILES",
            "check_folder", "option_colors", "path_change_sentences", "write_report"]
