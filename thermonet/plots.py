@@ -277,12 +277,12 @@ def _unit_factor(unit: str, floor_area) -> tuple[float, str]:
 
 
 def _fmt(v: float, signed: bool = True, scale: float = 0.0) -> str:
-    """A value for a label: thousands separated, 3 significant digits below 100, "≈ 0" for
-    rounding noise (below 1e-9 × ``scale``), a true minus sign."""
+    """A value for a label: thousands separated, 3 significant digits below 100 (whole numbers
+    as they are), "≈ 0" for rounding noise (below 1e-9 × ``scale``), a true minus sign."""
     a = abs(v)
     if 0 < a < 1e-9 * scale:
         return "\u2248 0"
-    if a >= 100 or a == 0:
+    if a >= 100 or a == 0 or float(v).is_integer():   # whole numbers (hours) without ".0"
         s = f"{v:+,.0f}" if signed else f"{v:,.0f}"
     elif a >= 1:
         s = f"{v:+.1f}" if signed else f"{v:.1f}"
