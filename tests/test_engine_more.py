@@ -56,9 +56,10 @@ def test_random_networks_close_their_balance(seed, n_nodes, data):
         scale = b.drop(columns="residual").abs().to_numpy().max()
         # relative to the largest term, with an absolute floor of 1e-9 kWh for sets whose
         # terms are themselves rounding noise (e.g. a massless node in a quiet corner).
-        # Measured over 960 of these networks (seeds 0 … 10 000): worst 7.2e-9 of the largest
-        # term (seed 55, 12 nodes, daily sums); 1e-7 leaves a margin of ~14
-        assert np.abs(b["residual"].to_numpy()).max() <= 1e-7 * scale + 1e-9
+        # Measured over 400 of these networks (seeds 0 … 10 000, 1–12 nodes): worst 7.6e-10
+        # of the largest term (seed 5037, 3 nodes, per step), with modal forms accepted up to
+        # an isothermal defect of 1e-12 (7e-12 had given 3e-9 on seed 55); 1e-8 leaves ~13
+        assert np.abs(b["residual"].to_numpy()).max() <= 1e-8 * scale + 1e-9
 
 
 @settings(max_examples=15, deadline=None)

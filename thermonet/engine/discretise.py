@@ -45,7 +45,7 @@ from thermonet.errors import NetworkError
 
 #: Largest isothermal defect max|Φ·1 + Γ_b·1 − 1| accepted from the modal form; beyond it
 #: the state is recomputed by :func:`zoh_doubling`.
-MODAL_DEFECT_LIMIT = 1e-11
+MODAL_DEFECT_LIMIT = 1e-12
 
 
 def phi1(x):
