@@ -226,11 +226,10 @@ class ColumnStore:
         key = ("weather", name)
         if key not in self.cols:
             col = series_or_constant(name, self.weather, 1, what, column_ok=True)
-            if self.factor > 1 and name in self.instantaneous:
-                t = np.asarray(self.index.asi8, dtype=float)
+            if self.factor > 1 and name in self.instantaneous and len(col):
                 tw = np.asarray(self.weather.index.as_unit("ns").asi8, dtype=float)
-                col = np.interp(np.asarray(self.index.as_unit("ns").asi8, dtype=float), tw,
-                                col) if len(t) else col
+                ts = np.asarray(self.index.as_unit("ns").asi8, dtype=float)
+                col = np.interp(ts, tw, col)        # sub-steps between labels, linearly
             else:
                 col = upsample(col, self.factor)
             self.cols[key] = col
