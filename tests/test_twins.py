@@ -140,3 +140,21 @@ def test_sparse_method_equals_exact(case, superlu, monkeypatch):
     np.testing.assert_allclose(sp.heating, exact.heating, rtol=0, atol=1e-3)
     close_balance(sp, list(net.nodes))
     close_balance(sp, ["a", "wall"])
+
+
+def test_first_run_steps_with_the_reference_while_the_kernel_compiles(monkeypatch):
+    """In a fresh process (compiled kernel not built yet) a single small run is stepped by
+    the numpy reference and the compiled kernel is built in the background; the numbers are
+    those of the compiled kernel to rounding."""
+    from thermonet.engine import run as engine_run
+
+    jobs = []
+    monkeypatch.setattr(engine_run, "kernel_ready", lambda: False)
+    monkeypatch.setattr(engine_run, "compile_in_background", jobs.append)
+    net = network("switched")
+    first = tn.simulate(net, WEATHER, warmup_days=2)
+    assert first.info["kernel_used"] == "numpy" and len(jobs) == 1
+    compiled = tn.simulate(net, WEATHER, warmup_days=2, kernel="numba")
+    assert compiled.info["kernel_used"] == "numba"
+    np.testing.assert_allclose(first.temperatures, compiled.temperatures, rtol=0, atol=1e-9)
+    jobs[0]()          # the background job itself runs the compiled kernel on a copy
