@@ -173,7 +173,7 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
                rampv, uprev0, bank, z0, x0, s0, obs0, schcol, schconst, hcol, hconst, ccol,
                cconst, scol, sconst,
                qh, qc, sw_init, has_off, terms, term_clause, clause_cond, nin, nsw, warm,
-               th_obs, c_obs, thr_h, thr_d, keep, to_nodes, Ztr, Str, Ptr,
+               th_obs, c_obs, thr_h, thr_d, keep, Ztr, Str, Ptr,
                heat, cool, peak_h, peak_c, hrs, dgh, tstat, zs_sum, us_sum, up_sum, cnt,
                x_first, x_last):  # pragma: no cover - compiled
     """Step every variant over every row of ``bank`` in modal coordinates (see module doc).
@@ -262,10 +262,9 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
         Thresholds [°C] for the comfort node's degree-steps above.
     keep : bool
         Write traces (else sums).
-    to_nodes : bool
-        Write ``Ztr`` as node temperatures ``x = Qx z`` [°C] instead of coordinates.
     Ztr : ndarray (V, n − warm, nc)
-        Output: end-of-step coordinates (or temperatures [°C]), with ``keep``.
+        Output: end-of-step coordinates (node temperatures [°C] for states stepped in node
+        coordinates), with ``keep``.
     Str : ndarray (V, n − warm) of int
         Output: state id of each reported step, with ``keep``.
     Ptr : ndarray (V, n − warm, m)
@@ -326,7 +325,6 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
         a_s = a[v, 0]
         bc = bconst[v, 0]
         Ms = M[v, 0]
-        Qs = Qx[v, 0]
         zsv = zs_sum[v, 0]
         usv = us_sum[v, 0]
         upv = up_sum[v, 0]
@@ -373,7 +371,6 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
                 a_s = a[v, s]
                 bc = bconst[v, s]
                 Ms = M[v, s]
-                Qs = Qx[v, s]
                 dn = dense[v, s]
                 if not keep:
                     zsv = zs_sum[v, s]
@@ -446,15 +443,8 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
             if k >= warm:
                 kk = k - warm
                 if keep:
-                    if to_nodes:
-                        for i in range(nc):
-                            acc = 0.0
-                            for j in range(nc):
-                                acc += Qs[i, j] * z1[j]
-                            Ztr[v, kk, i] = acc
-                    else:
-                        for i in range(nc):
-                            Ztr[v, kk, i] = z1[i]
+                    for i in range(nc):
+                        Ztr[v, kk, i] = z1[i]
                     Str[v, kk] = s
                     for r in range(m):
                         Ptr[v, kk, r] = P[r]

@@ -618,7 +618,6 @@ def _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep, comfort, thr_h,
             "up_sum": np.zeros((V, ns, st.nu)), "cnt": np.zeros((V, ns))}
     x_first = np.zeros((V, nc))
     x_last = np.zeros((V, nc))
-    to_nodes = False   # node coordinates (in_nodes) or a product after the loop
     tv = np.broadcast_to(terms, (V,) + terms.shape).copy()
     for v, p in enumerate(vals):
         tv[v, :, 5] = p.thresholds
@@ -646,7 +645,7 @@ def _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep, comfort, thr_h,
                 st.has_off.astype(np.bool_), pick(tv), st.term_clause, st.clause_cond,
                 int(st.nb + st.nsrc), int(st.nsw), int(warm), np.arange(m, dtype=np.int64),
                 int(c_obs), np.asarray(thr_h, dtype=float), np.asarray(thr_d, dtype=float),
-                bool(keep), to_nodes, *outs)
+                bool(keep), *outs)
         finally:
             numba.set_num_threads(threads)
         if sel.size < V:
