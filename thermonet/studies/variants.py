@@ -136,6 +136,11 @@ __all__ = [
 #: Largest number of variants per chunk when ``chunk_size`` is not given.
 DEFAULT_CHUNK = 4096
 
+#: Work [variants × steps] beyond which ``progress="auto"`` shows a progress bar (a few
+#: seconds: ~2,300 variant-years of hourly steps) and an in-process study is cut into about
+#: ten chunks so that the bar moves.
+PROGRESS_WORK = 2e7
+
 ERROR = "error"
 _KEY = "_row_key"
 _STUDY_FILE = "study.json"
@@ -653,7 +658,8 @@ def run_variants(build, params: pd.DataFrame, weather: pd.DataFrame | None = Non
     max_bytes : float, default 200e6
         Memory budget [bytes] of one kernel call inside a chunk.
     progress : bool or "auto"
-        A tqdm progress bar over variants; "auto" shows it when there is more than one chunk.
+        A tqdm progress bar over variants; "auto" shows it when there is more than one chunk
+        or more than a few seconds of work (:data:`PROGRESS_WORK` variant-steps).
     out : str or path, optional
         Folder for Parquet part files written as chunks finish; a rerun with the same
         folder skips finished rows (see the module docstring).
@@ -710,10 +716,14 @@ def run_variants(build, params: pd.DataFrame, weather: pd.DataFrame | None = Non
     finished = set() if not done else set(params.index.get_indexer(done[-1].index))
     todo = [p for p in range(N) if p not in finished]
     workers = _n_workers(executor)
+    steps = len(weather.index) if weather is not None else 1   # (a build that simulates itself)
+    big = len(todo) * steps >= PROGRESS_WORK
     size = chunk_size or max(1, min(DEFAULT_CHUNK, -(-len(todo) // (4 * workers))
                                     if executor is not None else DEFAULT_CHUNK))
+    if chunk_size is None and executor is None and big and progress is not False:
+        size = min(DEFAULT_CHUNK, max(64, -(-len(todo) // 10)))   # ~10 updates of the bar
     chunks = _chunks(todo, int(size))
-    show = (len(chunks) > 1) if progress == "auto" else bool(progress)
+    show = (len(chunks) > 1 or big) if progress == "auto" else bool(progress)
     from tqdm import tqdm
 
     bar = tqdm(total=N, initial=N - len(todo), unit="variant", disable=not show,
