@@ -627,3 +627,11 @@ def test_network_errors_in_calibration_name_the_parameters():
         studies.calibrate(_calib_room, {"ua": -1.0}, WEATHER, meas, sigma={"room": 0.1},
                           warmup_days=WARMUP)
     assert isinstance(e.value.__cause__, NetworkError)
+
+
+def test_batch_checks_the_weather_like_simulate():
+    """Plausibility on every path: weather in kelvin is refused by the batch path too,
+    naming the column (as thermonet.simulate does)."""
+    hot = WEATHER.assign(temp_air=WEATHER["temp_air"] + 273.15)
+    with pytest.raises(tn.errors.WeatherError, match="temp_air.*kelvin"):
+        run_batch([room()], hot, warmup_days=WARMUP)

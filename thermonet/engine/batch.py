@@ -44,6 +44,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
+from thermonet.checks import check_weather_frame
 from thermonet.constants import J_PER_KWH
 from thermonet.controls import HourWindow, Signal
 from thermonet.engine.compile import (
@@ -475,6 +476,7 @@ def run_batch(nets, weather: pd.DataFrame, *, step=None, warmup_days: float = 14
             and warmup_days >= 0):
         raise ValueError(f"warmup_days must be a finite number ≥ 0 [days], got {warmup_days!r}")
     store = ColumnStore.for_weather(weather, step, interpolate)
+    check_weather_frame(weather, stacklevel=3)   # the weather once for every variant
     n = len(store.index)
     warm = min(int(round(warmup_days * 86400.0 / store.step_s)), n)
     opts = dict(comfort_node=comfort_node, hours_above=tuple(hours_above),
