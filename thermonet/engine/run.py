@@ -98,21 +98,6 @@ class Bank:
         """
         return np.where(cols >= 0, self.data[0, np.maximum(cols, 0)], const)
 
-    def column_sums(self, warm: int) -> np.ndarray:
-        """Sum of each data column over the reported rows.
-
-        Parameters
-        ----------
-        warm : int
-            Warm-up rows at the top of ``data``, left out of the sums.
-
-        Returns
-        -------
-        ndarray (ncols,)
-            Column sums over the reported rows (unit of the column × steps).
-        """
-        return self.data[warm:].sum(axis=0)
-
 
 def _columns(specs_per_variant, k, index_of):
     V = len(specs_per_variant)
