@@ -57,10 +57,13 @@ __all__ = [
     "STANDARD_PRESSURE",
     "TERRAIN_WIND_FACTORS",
     "air_density",
+    "FLOW_LAWS",
     "cross_flow_wind",
     "flow_conductance",
+    "flow_law_coefficients",
     "from_m3h",
     "hinged_free_area",
+    "law_flow",
     "opening_angle_factor_en16798_7",
     "orifice_flow",
     "restricted_opening_angle",
@@ -812,3 +815,175 @@ def restricted_opening_angle(depth, gap):
                            " m, the gap of a sash opened 90°; give a smaller gap")
     return _wrap(np.degrees(2.0 * np.arcsin(np.minimum(s / (2.0 * d), np.sqrt(0.5)))), index,
                  "angle")
+
+
+# --------------------------------------------------------------------------------------------
+# flow laws stepped by the engine: one scalar form for every method above
+# --------------------------------------------------------------------------------------------
+#: Names of the flow laws a window link can follow (:func:`flow_law_coefficients`).
+FLOW_LAWS = ("de_gids_phaff", "en16798_7", "bs5925_single", "stack_two_openings",
+             "cross_wind")
+
+#: Length of a flow law's coefficient vector ``(k, w, s, c, p, mode, density)``.
+LAW_SIZE = 7
+
+
+def _law_required(law: str, given: dict, required: tuple, optional: dict) -> dict:
+    unknown = sorted(set(given) - set(required) - set(optional))
+    missing = [k for k in required if k not in given]
+    if unknown or missing:
+        raise AirflowError(
+            f"flow law {law!r} takes {', '.join(required)} (required) and "
+            f"{', '.join(optional) or 'nothing else'} (optional); "
+            + (f"missing {', '.join(missing)}" if missing else "")
+            + ("; " if missing and unknown else "")
+            + (f"unknown {', '.join(unknown)}" if unknown else ""))
+    out = dict(optional)
+    out.update(given)
+    return out
+
+
+def _scalar(x, name, **kw) -> float:
+    a = _array(x, name, **kw)
+    if a.ndim:
+        raise AirflowError(f"{name} of a flow law must be a single number, got an array of "
+                           f"shape {a.shape}; use one window link per distinct opening")
+    return float(a)
+
+
+def flow_law_coefficients(law: str, **params) -> np.ndarray:
+    """Coefficients of a flow law in the one scalar form the engine steps.
+
+    Every method of this module that depends on the indoor temperature, the outdoor
+    temperature and the wind speed can be written
+
+    .. math::
+
+        \\dot V = k \\, \\sqrt{D}\\, \\rho_r, \\qquad
+        D = \\begin{cases} w U^2 + s |\\Delta T| / \\bar T^{\\,p} + c & (\\text{mode } 0)\\\\
+                           \\max(w U^2,\\; s |\\Delta T| / \\bar T^{\\,p}) + c
+                           & (\\text{mode } 1)\\end{cases}
+
+    with U the meteorological wind speed [m/s], ΔT = T_i − T_e [K], T̄ the mean absolute
+    temperature of the two sides [K] and ρ_r = (T_e + 273.15)/(20 + 273.15) when ``density``
+    is 1 (else 1). :func:`law_flow` evaluates it; the tests check it against the named
+    functions on random inputs.
+
+    Parameters
+    ----------
+    law : {"de_gids_phaff", "en16798_7", "bs5925_single", "stack_two_openings", "cross_wind"}
+        The method:
+
+        * ``"de_gids_phaff"`` — :func:`single_sided_de_gids_phaff`; ``area`` [m²],
+          ``height`` [m], optional ``c1`` [-], ``c2`` [m/(s²K)], ``c3`` [m²/s²];
+        * ``"en16798_7"`` — :func:`single_sided_en16798_7`; ``area`` [m²], ``height`` [m],
+          optional ``c_wind`` [-], ``c_stack`` [m/(s²K)], ``density_ratio`` (bool);
+        * ``"bs5925_single"`` — :func:`single_opening_stack_bs5925`; ``area`` [m²],
+          ``height`` [m], optional ``discharge_coefficient`` [-];
+        * ``"stack_two_openings"`` — :func:`stack_flow`; ``area_1``, ``area_2`` [m²],
+          ``height_difference`` [m], optional ``discharge_coefficient`` [-];
+        * ``"cross_wind"`` — :func:`cross_flow_wind`; ``area_1``, ``area_2`` [m²], ``cp_1``,
+          ``cp_2`` [-], optional ``discharge_coefficient`` [-] and ``wind_factor`` [-], the
+          ratio of the wind speed at the openings' reference height to the meteorological
+          one (e.g. ``wind_speed_at_height(1.0, z, terrain)``).
+    **params
+        The law's parameters, as listed.
+
+    Returns
+    -------
+    ndarray (7,)
+        ``k`` [m²], ``w`` [-], ``s`` [m²/(s²K)·K^p], ``c`` [m²/s²], ``p`` [-], ``mode``,
+        ``density``.
+
+    Raises
+    ------
+    AirflowError
+        An unknown law, a missing or unknown parameter, a value out of range.
+
+    References
+    ----------
+    The methods' own references: de Gids & Phaff (1982); EN 16798-7:2017 (from memory);
+    BS 5925:1991 (see the functions named above).
+
+    Examples
+    --------
+    >>> c = flow_law_coefficients("de_gids_phaff", area=1.0, height=1.2)
+    >>> round(law_flow(c, 25.0, 15.0, 3.0), 5)
+    0.12349
+    """
+    cd = {"discharge_coefficient": 0.61}
+    if law == "de_gids_phaff":
+        p = _law_required(law, params, ("area", "height"), {"c1": 0.001, "c2": 0.0035,
+                                                             "c3": 0.01})
+        a = _scalar(p["area"], "area [m²]", minimum=0.0)
+        h = _scalar(p["height"], "height [m]", minimum=0.0)
+        c1, c2, c3 = (_scalar(p[k], k, minimum=0.0) for k in ("c1", "c2", "c3"))
+        return np.array([0.5 * a, c1, c2 * h, c3, 0.0, 0.0, 0.0])
+    if law == "en16798_7":
+        p = _law_required(law, params, ("area", "height"),
+                          {"c_wind": 0.001, "c_stack": 0.0035, "density_ratio": True})
+        a = _scalar(p["area"], "area [m²]", minimum=0.0)
+        h = _scalar(p["height"], "height [m]", minimum=0.0)
+        cw = _scalar(p["c_wind"], "c_wind [-]", minimum=0.0)
+        cs = _scalar(p["c_stack"], "c_stack [m/(s²K)]", minimum=0.0)
+        return np.array([0.5 * a, cw, cs * h, 0.0, 0.0, 1.0, float(bool(p["density_ratio"]))])
+    if law == "bs5925_single":
+        p = _law_required(law, params, ("area", "height"), cd)
+        a = _scalar(p["area"], "area [m²]", minimum=0.0)
+        h = _scalar(p["height"], "height [m]", minimum=0.0)
+        k = float(_cd(p["discharge_coefficient"])) * a / 3.0
+        return np.array([k, 0.0, GRAVITY * h, 0.0, 1.0, 0.0, 0.0])
+    if law == "stack_two_openings":
+        p = _law_required(law, params, ("area_1", "area_2", "height_difference"), cd)
+        ab = float(np.asarray(series_area(_scalar(p["area_1"], "area_1 [m²]", minimum=0.0),
+                                          _scalar(p["area_2"], "area_2 [m²]", minimum=0.0))))
+        h = _scalar(p["height_difference"], "height_difference [m]", minimum=0.0)
+        k = float(_cd(p["discharge_coefficient"])) * ab
+        return np.array([k, 0.0, 2.0 * GRAVITY * h, 0.0, 1.0, 0.0, 0.0])
+    if law == "cross_wind":
+        p = _law_required(law, params, ("area_1", "area_2", "cp_1", "cp_2"),
+                          dict(cd, wind_factor=1.0))
+        aw = float(np.asarray(series_area(_scalar(p["area_1"], "area_1 [m²]", minimum=0.0),
+                                          _scalar(p["area_2"], "area_2 [m²]", minimum=0.0))))
+        dcp = abs(_scalar(p["cp_1"], "cp_1 [-]") - _scalar(p["cp_2"], "cp_2 [-]"))
+        f = _scalar(p["wind_factor"], "wind_factor [-]", minimum=0.0)
+        k = float(_cd(p["discharge_coefficient"])) * aw
+        return np.array([k, dcp * f * f, 0.0, 0.0, 0.0, 0.0, 0.0])
+    raise AirflowError(f"unknown flow law {law!r}; choose one of {', '.join(FLOW_LAWS)}")
+
+
+def law_flow(coef, temp_in: float, temp_out: float, wind_speed: float) -> float:
+    """Volume flow [m³/s] of a flow law (:func:`flow_law_coefficients`) at one instant.
+
+    Plain scalar arithmetic, so that the engine compiles the same function into its
+    stepping kernel.
+
+    Parameters
+    ----------
+    coef : ndarray (7,)
+        From :func:`flow_law_coefficients`.
+    temp_in, temp_out : float
+        Temperatures of the two sides [°C] (room, outdoors).
+    wind_speed : float
+        Meteorological wind speed [m/s] (negative values count as 0).
+
+    Returns
+    -------
+    float
+        Volume flow magnitude [m³/s], ≥ 0.
+    """
+    u = max(wind_speed, 0.0)
+    dt = abs(temp_in - temp_out)
+    t_mean = 0.5 * (temp_in + temp_out) + 273.15
+    stack = coef[2] * dt
+    if coef[4] != 0.0:
+        stack = stack / t_mean ** coef[4]
+    wind = coef[1] * u * u
+    if coef[5] != 0.0:
+        d = max(wind, stack) + coef[3]
+    else:
+        d = wind + stack + coef[3]
+    q = coef[0] * np.sqrt(max(d, 0.0))
+    if coef[6] != 0.0:
+        q = q * (temp_out + 273.15) / (EN16798_REFERENCE_TEMPERATURE + 273.15)
+    return q

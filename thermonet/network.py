@@ -165,7 +165,8 @@ class Link(Element):
     path : str
         Balance path.
     kind : str, default "conductance"
-        ``"conductance"``, ``"airflow"`` or ``"radiation"``.
+        ``"conductance"``, ``"airflow"``, ``"radiation"`` or ``"window"`` (a flow law
+        re-evaluated every step, :meth:`Network.add_window_flow`).
     params : dict
         What the link was made from (flow [m³/h], heat recovery [-], emissivities ...).
     """
@@ -628,6 +629,91 @@ class Network:
         _check_conductance(g, f"airflow {name!r} conductance ρc_p·V̇·(1 − η)")
         params = {"flow_m3h": flow, "heat_recovery": eta, "rho_cp": rho_cp}
         self.links._store(name, Link(name, a, b, g, path, kind="airflow", params=params))
+        return name
+
+    def add_window_flow(self, a: str, b: str, *, law: str, wind: str | float = "wind_speed",
+                        path: str = "window_ventilation", rho_cp: float = RHO_CP_AIR,
+                        name: str | None = None, **law_params) -> str:
+        """Add an airflow through an opening whose flow follows the two sides' temperatures
+        and the wind, re-evaluated every step by the engine.
+
+        The conductance in a step is ``G = ρ c_p V̇(T_a, T_b, U)`` [W/K] with V̇ from the flow
+        law (:func:`thermonet.airflow.flow_law_coefficients`), evaluated from the room's
+        temperature over that step by a predictor–corrector (``docs/airflow_engine.md``)
+        and multiplied by the factors of any switch acting on the link (0 shut, a fraction for
+        a partly open sash). Heat flows in the balance under ``path`` with the conductance
+        the step used, so the balance closes exactly.
+
+        Parameters
+        ----------
+        a : str
+            The room: a free node of kind ``air`` or ``buffer``.
+        b : str
+            The other side: an air boundary (outdoors) or another air or buffer node.
+        law : str
+            One of :data:`thermonet.airflow.FLOW_LAWS` (de Gids–Phaff single-sided,
+            EN 16798-7 single-sided, BS 5925 single-opening stack, BS 5925 stack through two
+            openings, BS 5925 cross ventilation by wind).
+        wind : str or float, default "wind_speed"
+            Weather column of the meteorological wind speed [m/s] (10 m), or a constant.
+        path : str, default "window_ventilation"
+            Heat-path label for the balance.
+        rho_cp : float, default 1200
+            Volumetric heat capacity of air [J/(m³K)] (ISO 13789 / ISO 13790, from memory).
+        name : str, optional
+            Default ``"{a}-{b}:{path}"``.
+        **law_params
+            The law's parameters (areas [m²], heights [m], coefficients; see
+            :func:`thermonet.airflow.flow_law_coefficients`).
+
+        Returns
+        -------
+        str
+            The link's name.
+
+        Notes
+        -----
+        The link's ``conductance`` attribute is a nominal value for tables only (the law at
+        25 °C indoors, 20 °C outdoors and 3 m/s wind); the engine uses the law.
+        Networks with window links are stepped by the exact method.
+
+        References
+        ----------
+        See the methods in :mod:`thermonet.airflow` (de Gids & Phaff 1982; EN 16798-7:2017,
+        from memory; BS 5925:1991).
+        """
+        from thermonet.airflow import flow_law_coefficients, law_flow
+        from thermonet.errors import AirflowError
+
+        self._link_ends(a, b)
+        _check_name(path, "path")
+        if a not in self.nodes or self.nodes[a].kind not in AIR_KINDS:
+            raise NetworkError(f"window flow {a!r}–{b!r}: the first end must be a free air or "
+                               f"buffer node (the room); got {a!r}")
+        if b in self.nodes and self.nodes[b].kind not in AIR_KINDS:
+            raise NetworkError(f"window flow {a!r}–{b!r}: node {b!r} is of kind "
+                               f"{self.nodes[b].kind!r}; the other side must be air")
+        if b in self.boundaries and self.boundaries[b].kind != "air":
+            raise NetworkError(f"window flow {a!r}–{b!r}: boundary {b!r} is of kind "
+                               f"{self.boundaries[b].kind!r}; the other side must be air")
+        name = self._unique(self.links, name, f"{a}-{b}:{path}", "link")
+        try:
+            coef = flow_law_coefficients(law, **law_params)
+        except AirflowError as exc:
+            raise NetworkError(f"window flow {name!r}: {exc}") from None
+        if isinstance(wind, str):
+            _check_name(wind, f"window flow {name!r} wind column")
+        else:
+            wind = _check_number(wind, f"window flow {name!r} wind [m/s]")
+        rho_cp = _check_number(rho_cp, f"window flow {name!r} rho_cp [J/(m³K)]", strict=True)
+        g = rho_cp * float(law_flow(coef, 25.0, 20.0, 3.0))
+        lp = ReadOnlyDict({k: (bool(v) if isinstance(v, bool) else float(v))
+                           for k, v in law_params.items()}, f"window flow {name!r} law_params",
+                          "build a new Network and add the link with the new values")
+        params = {"law": law, "law_params": lp,
+                  "coefficients": tuple(float(c) for c in coef), "wind": wind,
+                  "rho_cp": rho_cp}
+        self.links._store(name, Link(name, a, b, g, path, kind="window", params=params))
         return name
 
     def add_radiation(self, a: str, b: str, *, area: float, path: str,

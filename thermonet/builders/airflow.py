@@ -241,9 +241,15 @@ def night_ventilation(air: str, outdoor: str = "outdoor", *, indoor_above: float
 
 
 def add_window_opening(net: Network, zone, *, open_when: Condition, close_when=None,
-                       flow_m3h=None, ach=None, path: str = "window_ventilation",
-                       name: str | None = None) -> str:
+                       flow_m3h=None, ach=None, law: str | None = None,
+                       wind: str | float = "wind_speed", open_fraction: float = 1.0,
+                       path: str = "window_ventilation", name: str | None = None,
+                       **law_params) -> str:
     """Add an airflow that exists only while windows are open (airing, night ventilation).
+
+    The flow while open is either fixed (``flow_m3h`` or ``ach``) or follows a published
+    flow law from the room and outdoor temperatures and the wind, re-evaluated every step
+    (``law=`` with the opening's geometry, :meth:`thermonet.Network.add_window_flow`).
 
     Parameters
     ----------
@@ -257,31 +263,55 @@ def add_window_opening(net: Network, zone, *, open_when: Condition, close_when=N
     close_when : Condition, optional
         Closes them again (hysteresis); default: as soon as ``open_when`` no longer holds.
     flow_m3h, ach : float
-        Airflow while open [m³/h] or [1/h] (one of them).
+        Fixed airflow while open [m³/h] or [1/h] (one of these or ``law``).
+    law : str, optional
+        Flow law (:data:`thermonet.airflow.FLOW_LAWS`, e.g. ``"de_gids_phaff"`` with
+        ``area=`` [m²] and ``height=`` [m] of the opening).
+    wind : str or float, default "wind_speed"
+        Weather column of the wind speed [m/s], or a constant (with ``law``).
+    open_fraction : float, default 1
+        Share of the full flow while open [-], in (0, 1] (a partly open or restricted sash).
     path : str, default "window_ventilation"
         Balance path of the airflow.
     name : str, optional
         Link name; default ``"<zone>:window_opening"``.
+    **law_params
+        The flow law's parameters (:func:`thermonet.airflow.flow_law_coefficients`).
 
     Returns
     -------
     str
         Link name; the switch is ``name + ":open"``, acting on the link with factors
-        (0 while shut, 1 while open).
+        (0 while shut, ``open_fraction`` while open).
+
+    References
+    ----------
+    The flow laws' own: de Gids & Phaff (1982); EN 16798-7:2017 (from memory); BS 5925:1991.
     """
     zone = check_zone(zone, "add_window_opening")
     if not isinstance(open_when, Condition):
         raise TypeError(f"window opening of {zone.name!r}: open_when must be a thermonet "
                         f"Condition (e.g. night_ventilation(...)), got "
                         f"{type(open_when).__name__}")
-    kw = dict(ach=ach, volume=zone.volume) if ach is not None else dict(flow_m3h=flow_m3h)
-    if (flow_m3h is None) == (ach is None):
-        raise NetworkError(f"window opening of {zone.name!r}: give exactly one of flow_m3h= or "
-                           "ach=")
-    ln = net.add_airflow(zone.outdoor, zone.air, path=path,
-                         name=name or f"{zone.name}:window_opening", **kw)
+    if sum(x is not None for x in (flow_m3h, ach, law)) != 1:
+        raise NetworkError(f"window opening of {zone.name!r}: give exactly one of flow_m3h= "
+                           "[m³/h], ach= [1/h] or law= (a flow law with the opening's geometry)")
+    if law is None and law_params:
+        raise NetworkError(f"window opening of {zone.name!r}: {', '.join(law_params)} belong "
+                           "to a flow law; pass law= too, or drop them")
+    f = float(open_fraction)
+    if not 0.0 < f <= 1.0:
+        raise NetworkError(f"window opening of {zone.name!r}: open_fraction must be in (0, 1], "
+                           f"got {open_fraction!r}")
+    lname = name or f"{zone.name}:window_opening"
+    if law is not None:
+        ln = net.add_window_flow(zone.air, zone.outdoor, law=law, wind=wind, path=path,
+                                 name=lname, **law_params)
+    else:
+        kw = dict(ach=ach, volume=zone.volume) if ach is not None else dict(flow_m3h=flow_m3h)
+        ln = net.add_airflow(zone.outdoor, zone.air, path=path, name=lname, **kw)
     zone.links.append(ln)
-    sw = net.add_switch(on=open_when, off=close_when, links={ln: (0.0, 1.0)},
+    sw = net.add_switch(on=open_when, off=close_when, links={ln: (0.0, f)},
                         name=f"{ln}:open")
     if hasattr(zone, "switches"):
         zone.switches.append(sw)

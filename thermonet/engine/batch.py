@@ -117,7 +117,7 @@ def structure_key(net) -> tuple:
     return (
         tuple((n.name, n.capacitance > 0) for n in net.nodes.values()),
         tuple(net.boundaries),
-        tuple((l.name, l.a, l.b, l.path, isinstance(l.conductance, pd.Series))
+        tuple((l.name, l.a, l.b, l.path, l.kind, isinstance(l.conductance, pd.Series))
               for l in net.links.values()),
         tuple((s.name, s.node, s.path) for s in net.sources.values()),
         tuple((t.name, t.node, t.heating_setpoint is None, t.cooling_setpoint is None)
@@ -362,7 +362,8 @@ def _run_chunk(st, vals: list, nets: list, store: ColumnStore, warm: int, opts: 
 def _results_for(st, val, net, store, run: GroupRun, v: int, warm: int) -> Results:
     comp = Compiled(st, val, store, initial={k: x.initial for k, x in net.nodes.items()
                                              if x.initial is not None})
-    U_end, U_prev = effective_inputs(comp, run.F[v], run.S[v], run.P[v], warm)
+    U_end, U_prev = effective_inputs(comp, run.F[v], run.S[v], run.P[v], warm,
+                                     Q=None if run.Q is None else run.Q[v])
     one = GroupRun(run.X[v:v + 1], run.S[v:v + 1], run.P[v:v + 1], run.x_first[v:v + 1],
                    run.x_last[v:v + 1], {}, _variant(run.disc, v), None, run.F[v:v + 1],
                    [None])

@@ -430,6 +430,12 @@ class Structure:
     signal_refs : list
         Signal columns in order: ``("boundary", name)``, ``("signal", Signal)`` or
         ``("hours", HourWindow)``.
+    flow_links : ndarray of int
+        Window links (a flow law re-evaluated every step), indices into the links.
+    flow_src : ndarray (nfl, 2) of int
+        Per window link, the engine's own sources that carry the law's departure from the
+        link's reference conductance (see :func:`window_sources`): into the room node, and
+        out of the far node (−1 when the far side is a boundary).
     """
 
     index: pd.DatetimeIndex
@@ -454,6 +460,8 @@ class Structure:
     has_off: np.ndarray
     signal_refs: list
     connected: bool = False
+    flow_links: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=np.int64))
+    flow_src: np.ndarray = field(default_factory=lambda: np.zeros((0, 2), dtype=np.int64))
 
     @property
     def nb(self):
@@ -486,6 +494,10 @@ class Structure:
     @property
     def nsw(self):
         return len(self.switch_names)
+
+    @property
+    def nfl(self):
+        return len(self.flow_links)
 
 
 def _condition_code(net, free_pos, refs: dict):
@@ -526,6 +538,55 @@ def _condition_code(net, free_pos, refs: dict):
     return terms, term_clause, clause_cond
 
 
+def window_sources(links: list, pos: dict, n_sources: int, n_free: int):
+    """The engine's own sources of the window links, appended after the network's sources.
+
+    A window link (:meth:`thermonet.Network.add_window_flow`) conducts its reference
+    conductance ``G_ref`` (the link's ``conductance``, times any switch factor) in the exact
+    step; the flow law's departure ``ΔG = f·(G_law − G_ref)`` carries ``q = ΔG·(T̄_b − T̄_a)``
+    [W], found by the kernel each step, into the room node ``a`` (and out of a far node
+    ``b``) through these sources. They are booked under the link's path, so the balance of
+    every control volume includes them and closes exactly.
+
+    Parameters
+    ----------
+    links : list of Link
+        The network's links in order.
+    pos : dict
+        Node or boundary name → index into ``free + boundaries``.
+    n_sources : int
+        Number of the network's own sources.
+    n_free : int
+        Number of free nodes (indices below it in ``pos`` are free nodes).
+
+    Returns
+    -------
+    flow : ndarray (nfl,) of int
+        Link index of each window link.
+    src : ndarray (nfl, 2) of int
+        Source index into the room node and out of the far node (−1: a boundary).
+    names, paths : list of str
+        Names (``"<link>:law"``, ``"<link>:law_far"``) and paths of the added sources.
+    nodes : list of int
+        Their nodes (indices into ``free``).
+    """
+    flow = [i for i, l in enumerate(links) if l.kind == "window"]
+    src = np.full((len(flow), 2), -1, dtype=np.int64)
+    names, paths, nodes = [], [], []
+    for f, i in enumerate(flow):
+        link = links[i]
+        src[f, 0] = n_sources + len(names)
+        names.append(f"{link.name}:law")
+        paths.append(link.path)
+        nodes.append(pos[link.a])
+        if pos[link.b] < n_free:
+            src[f, 1] = n_sources + len(names)
+            names.append(f"{link.name}:law_far")
+            paths.append(link.path)
+            nodes.append(pos[link.b])
+    return np.array(flow, dtype=np.int64), src, names, paths, nodes
+
+
 def compile_structure(net, store: ColumnStore) -> Structure:
     """The shared half of compiling ``net`` (see the module docstring).
 
@@ -554,6 +615,7 @@ def compile_structure(net, store: ColumnStore) -> Structure:
     th = list(net.thermostats.values())
     refs: dict = {}
     terms, term_clause, clause_cond = _condition_code(net, pos, refs)
+    flow, fsrc, fnames, fpaths, fnodes = window_sources(links, pos, len(srcs), len(free))
     return Structure(
         index=store.index, step_s=store.step_s, free=free, nc=len(cap), boundaries=bnames,
         link_names=[l.name for l in links], link_paths=[l.path for l in links],
@@ -561,8 +623,9 @@ def compile_structure(net, store: ColumnStore) -> Structure:
         link_b=np.array([pos[l.b] for l in links], dtype=np.int64),
         sched_links=np.array([i for i, l in enumerate(links)
                               if isinstance(l.conductance, pd.Series)], dtype=np.int64),
-        source_names=[s.name for s in srcs], source_paths=[s.path for s in srcs],
-        source_node=np.array([pos[s.node] for s in srcs], dtype=np.int64),
+        source_names=[s.name for s in srcs] + fnames,
+        source_paths=[s.path for s in srcs] + fpaths,
+        source_node=np.array([pos[s.node] for s in srcs] + fnodes, dtype=np.int64),
         thermostat_names=[t.name for t in th],
         thermostat_node=np.array([pos[t.node] for t in th], dtype=np.int64),
         switch_names=list(net.switches),
@@ -577,6 +640,7 @@ def compile_structure(net, store: ColumnStore) -> Structure:
                                              np.array([pos[l.b] for l in links],
                                                       dtype=np.int64),
                                              np.ones(len(links))).all()),
+        flow_links=flow, flow_src=fsrc,
     )
 
 
@@ -612,6 +676,16 @@ class Values:
         (first-order hold); the others are held (zero-order hold).
     own_columns : int
         Columns this variant added to the store when it was compiled (for memory estimates).
+    flow_coef : ndarray (nfl, 9)
+        Per window link: its flow law's coefficients
+        (:func:`thermonet.airflow.flow_law_coefficients`), ρc_p [J/(m³K)] and the reference
+        conductance G_ref [W/K].
+    flow_fac : ndarray (ns, nfl)
+        Per state and window link: the switches' factor on its flow [-] (0 shut).
+    flow_wind : list
+        Per window link: spec of its wind speed [m/s].
+    flow_wind_ramp : ndarray (nfl,) of bool
+        Per window link: whether its wind speed follows a straight line over each step.
     """
 
     C: np.ndarray
@@ -630,6 +704,10 @@ class Values:
     scols: list
     ramp: np.ndarray
     own_columns: int = 0
+    flow_coef: np.ndarray = field(default_factory=lambda: np.zeros((0, 9)))
+    flow_fac: np.ndarray = field(default_factory=lambda: np.zeros((1, 0)))
+    flow_wind: list = field(default_factory=list)
+    flow_wind_ramp: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=bool))
 
     @property
     def n_states(self):
@@ -679,6 +757,32 @@ def _scheduled_rows(net, st: Structure, store: ColumnStore, links):
     return base, uniq, store.array_col(inv.ravel().astype(float))
 
 
+def _flow_values(net, st: Structure, store: ColumnStore, G: np.ndarray):
+    """Window links' coefficients, switch factors and wind specs (see :class:`Values`)."""
+    links = list(net.links.values())
+    coef = np.zeros((st.nfl, 9))
+    fac = np.zeros((G.shape[0], st.nfl))
+    winds, ramps = [], []
+    for f, li in enumerate(st.flow_links):
+        link = links[int(li)]
+        coef[f, :7] = link.params["coefficients"]
+        coef[f, 7] = link.params["rho_cp"]
+        coef[f, 8] = float(link.conductance)
+        if coef[f, 8] > 0:
+            fac[:, f] = G[:, li] / coef[f, 8]
+        spec = store.spec(link.params["wind"], f"window link {link.name!r} wind [m/s]",
+                          column_ok=True)
+        w = np.asarray(store.value(spec), dtype=float)
+        if not np.isfinite(w).all() or (w < 0).any():
+            bad = np.flatnonzero(~(np.isfinite(w) & (w >= 0)))[0] if w.ndim else 0
+            raise WeatherError(f"window link {link.name!r}: wind speed {link.params['wind']!r} "
+                               f"must be finite and ≥ 0 m/s at every step (row {bad}); fill "
+                               "the gaps or clip negative values")
+        winds.append(spec)
+        ramps.append(store.is_ramp(spec))
+    return coef, fac, winds, np.array(ramps, dtype=bool)
+
+
 def _check_connected(st: Structure, G: np.ndarray) -> None:
     if (G > 0).all():
         if st.connected:           # every link conducts: the structure's own check holds
@@ -701,6 +805,7 @@ def _input_specs(net, st: Structure, store: ColumnStore):
     ucols = [store.spec(net.boundaries[b].temperature, f"boundary {b!r}", column_ok=True)
              for b in st.boundaries]
     ucols += [store.spec(s.power, f"source {s.name!r} power") for s in net.sources.values()]
+    ucols += [0.0] * (st.nsrc - len(net.sources))      # window links' own sources (kernel)
     hcols, ccols = [], []
     for t in net.thermostats.values():
         hs = (float("nan") if t.heating_setpoint is None else
@@ -765,6 +870,7 @@ def compile_values(net, st: Structure, store: ColumnStore) -> Values:
         g[st.sched_links] = uniq[si]
         G[si << nsw:(si + 1) << nsw] = g[None, :] * link_f
     _check_connected(st, G)
+    coef, fac, winds, wramp = _flow_values(net, st, store, G)
     ucols, hcols, ccols, scols = _input_specs(net, st, store)
     th = list(net.thermostats.values())
     return Values(
@@ -778,7 +884,8 @@ def compile_values(net, st: Structure, store: ColumnStore) -> Values:
                  if nodes[n].initial is not None],
         ucols=ucols, hcols=hcols, ccols=ccols, scols=scols,
         ramp=np.array([store.is_ramp(c) for c in ucols], dtype=bool),
-        own_columns=len(store.cols) - before)
+        own_columns=len(store.cols) - before, flow_coef=coef, flow_fac=fac, flow_wind=winds,
+        flow_wind_ramp=wramp)
 
 
 # ================================================================================ one network

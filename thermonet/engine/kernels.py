@@ -37,6 +37,8 @@ from __future__ import annotations
 
 import numpy as np
 
+from thermonet.airflow import law_flow
+
 try:  # numba is a declared dependency; the numpy path is the reference and the fallback
     import numba
 
@@ -165,6 +167,167 @@ def switch_bits(on, has_off, terms, term_clause, clause_cond, temps, sig):
     return bits
 
 
+def coupled_powers(T0, M, hsp, csp, qh, qc, dG, ta0, tb0, bk, m, PQ, Tend):
+    """Thermostat powers and window-law heat flows of one step (in place), solved together.
+
+    Unknowns ``PQ = [P (m), q (nfl)]`` [W]. The thermostats meet their setpoints at the end
+    of the step within their capacities (as :func:`control_powers`); each window link's
+    departure from its reference conductance ``ΔG`` [W/K] carries ``q = ΔG (T̂_b − T̂_a)``
+    into the room with ``T̂ = ½(T_start + T_end)`` (a far boundary: its step mean). End
+    temperatures are linear in the unknowns, ``T_end = T0 + M PQ``; projected Gauss–Seidel
+    sweeps solve the set.
+
+    Parameters
+    ----------
+    T0 : ndarray (m + 2 nfl,)
+        End temperatures without the unknowns [°C]: thermostat nodes, room nodes, far nodes
+        (unused for a far boundary).
+    M : ndarray (m + 2 nfl, m + nfl)
+        Their response to 1 W of each unknown held over the step [K/W].
+    hsp, csp : ndarray (m,)
+        Heating and cooling setpoints [°C] (NaN = none).
+    qh, qc : ndarray (m,)
+        Heating and cooling capacities [W].
+    dG : ndarray (nfl,)
+        Departure of each window link's conductance from its reference [W/K].
+    ta0, tb0 : ndarray (nfl,)
+        Room-node start temperature; far node's start temperature or far boundary's step
+        mean [°C].
+    bk : ndarray (nfl,) of int
+        Kind of the far side (0 node, 1 boundary).
+    m : int
+        Number of thermostats.
+    PQ : ndarray (m + nfl,)
+        Output [W].
+    Tend : ndarray (m + 2 nfl,)
+        Output: end temperatures with the unknowns [°C].
+
+    References
+    ----------
+    .. [1] Cottle, R. W., Pang, J.-S., Stone, R. E., The Linear Complementarity Problem,
+       Academic Press, 1992, §5.2 (projected Gauss–Seidel) — from memory.
+    """
+    nfl = dG.shape[0]
+    nu = m + nfl
+    for i in range(nu):
+        PQ[i] = 0.0
+    for _sweep in range(200):
+        change = 0.0
+        for r in range(m):
+            rest = T0[r]
+            for j in range(nu):
+                if j != r:
+                    rest += M[r, j] * PQ[j]
+            new = 0.0
+            if not np.isnan(hsp[r]) and rest < hsp[r]:
+                new = min((hsp[r] - rest) / M[r, r], qh[r])
+            elif not np.isnan(csp[r]) and rest > csp[r]:
+                new = -min((rest - csp[r]) / M[r, r], qc[r])
+            change = max(change, abs(new - PQ[r]))
+            PQ[r] = new
+        for f in range(nfl):
+            c = m + f
+            ra = m + f
+            rb = m + nfl + f
+            ta = T0[ra]
+            for j in range(nu):
+                if j != c:
+                    ta += M[ra, j] * PQ[j]
+            if bk[f] == 0:
+                tb = T0[rb]
+                for j in range(nu):
+                    if j != c:
+                        tb += M[rb, j] * PQ[j]
+                num = 0.5 * (tb0[f] + tb) - 0.5 * (ta0[f] + ta)
+                den = 1.0 + 0.5 * dG[f] * (M[ra, c] - M[rb, c])
+            else:
+                num = tb0[f] - 0.5 * (ta0[f] + ta)
+                den = 1.0 + 0.5 * dG[f] * M[ra, c]
+            new = dG[f] * num / den
+            change = max(change, abs(new - PQ[c]))
+            PQ[c] = new
+        if change <= 1e-10 * (1.0 + np.abs(PQ).max()):
+            break
+    for r in range(m + 2 * nfl):
+        acc = T0[r]
+        for j in range(nu):
+            acc += M[r, j] * PQ[j]
+        Tend[r] = acc
+
+
+def law_departure(coef, fac, ta, tb, wnd, dG):
+    """Each window link's conductance from its law minus its reference, ``ΔG`` [W/K] (in place).
+
+    Parameters
+    ----------
+    coef : ndarray (nfl, 9)
+        Flow-law coefficients, ρc_p [J/(m³K)] and reference conductance G_ref [W/K].
+    fac : ndarray (nfl,)
+        Switch factor on each link this step [-] (0 shut).
+    ta, tb : ndarray (nfl,)
+        Room-side and far-side temperatures the law is evaluated at [°C].
+    wnd : ndarray (nfl,)
+        Wind speed [m/s].
+    dG : ndarray (nfl,)
+        Output ``fac · (ρc_p V̇_law − G_ref)`` [W/K].
+    """
+    for f in range(dG.shape[0]):
+        if fac[f] == 0.0:
+            dG[f] = 0.0
+        else:
+            dG[f] = fac[f] * (coef[f, 7] * law_flow(coef[f, :7], ta[f], tb[f], wnd[f])
+                              - coef[f, 8])
+
+
+def flow_drivers(v, k, bank, obs, up, bk, fa, fb, bj, bcol, bconst, bramp, wcol, wconst, wramp,
+                 ta, tb, wnd):
+    """The window links' drivers at the start of step ``k`` (in place).
+
+    The room side ``ta`` is the observed end of the previous step; the far side ``tb`` is an
+    observed node the same way, or a boundary's mean over the step (the mean of its previous
+    and current values when it follows a straight line, first-order hold); the wind ``wnd``
+    is its mean over the step likewise.
+
+    Parameters
+    ----------
+    v, k : int
+        Variant and row.
+    bank : ndarray (n, ncols)
+        The group's time series.
+    obs : ndarray (nobs,)
+        Observed temperatures at the end of the previous step [°C].
+    up : ndarray (nu,)
+        The previous step's inputs.
+    bk : ndarray (nfl,) of int
+        Kind of the far side: 0 an observed node, 1 a boundary.
+    fa, fb : ndarray (nfl,) of int
+        Observed point of the room node and of a far node.
+    bj : ndarray (nfl,) of int
+        Input index of a far boundary.
+    bcol, bconst : ndarray (V, nfl)
+        The far boundary's column in ``bank`` (−1: the constant) and constant [°C].
+    bramp : ndarray (V, nfl) of bool
+        Far boundary temperature interpolated linearly over the step.
+    wcol, wconst, wramp : ndarray (V, nfl)
+        Same for the wind speed [m/s].
+    ta, tb, wnd : ndarray (nfl,)
+        Output [°C, °C, m/s].
+    """
+    for f in range(ta.shape[0]):
+        ta[f] = obs[fa[f]]
+        if bk[f] == 0:
+            tb[f] = obs[fb[f]]
+        else:
+            t = bank[k, bcol[v, f]] if bcol[v, f] >= 0 else bconst[v, f]
+            if bramp[v, f] and bcol[v, f] >= 0:
+                t = 0.5 * (t + up[bj[f]])
+            tb[f] = t
+        w = bank[k, wcol[v, f]] if wcol[v, f] >= 0 else wconst[v, f]
+        if wramp[v, f] and wcol[v, f] >= 0 and k > 0:
+            w = 0.5 * (w + bank[k - 1, wcol[v, f]])
+        wnd[f] = w
+
+
 def _column(bank, k, col, const):
     return bank[k, col] if col >= 0 else const
 
@@ -173,7 +336,9 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
                rampv, uprev0, bank, z0, x0, s0, obs0, schcol, schconst, hcol, hconst, ccol,
                cconst, scol, sconst,
                qh, qc, sw_init, has_off, terms, term_clause, clause_cond, nin, nsw, warm,
-               th_obs, c_obs, thr_h, thr_d, keep, Ztr, Str, Ptr,
+               th_obs, c_obs, thr_h, thr_d, Mc, fl_rows, fl_coef, fl_fac, fl_bk, fl_a, fl_b,
+               fl_bj, fl_ja, fl_jb, fl_bcol, fl_bconst, fl_bramp, fl_wcol, fl_wconst, fl_wramp,
+               keep, Ztr, Str, Ptr, Qtr,
                heat, cool, peak_h, peak_c, hrs, dgh, tstat, zs_sum, us_sum, up_sum, cnt,
                x_first, x_last):  # pragma: no cover - compiled
     """Step every variant over every row of ``bank`` in modal coordinates (see module doc).
@@ -260,6 +425,23 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
         Thresholds [°C] for counting steps with the comfort node above.
     thr_d : ndarray (ndh,)
         Thresholds [°C] for the comfort node's degree-steps above.
+    Mc : ndarray (V, ns, m + 2 nfl, m + nfl)
+        With window links: end-temperature response of the thermostat, room and far nodes
+        to 1 W of each thermostat and of each link's law source held over the step [K/W]
+        (see :func:`coupled_powers`).
+    fl_rows : ndarray (m + 2 nfl,) of int
+        Observed point of each row of ``Mc`` (−1: a far boundary).
+    fl_coef : ndarray (V, nfl, 9)
+        Window links' flow-law coefficients, ρc_p [J/(m³K)] and G_ref [W/K].
+    fl_fac : ndarray (V, ns, nfl)
+        Switch factor on each window link in each state [-].
+    fl_bk, fl_a, fl_b, fl_bj : ndarray (nfl,) of int
+        Far side's kind (0 node, 1 boundary), observed points of the room and far nodes,
+        input index of a far boundary (see :func:`flow_drivers`).
+    fl_ja, fl_jb : ndarray (nfl,) of int
+        Input index of each link's law source into the room and out of the far node (−1).
+    fl_bcol, fl_bconst, fl_bramp, fl_wcol, fl_wconst, fl_wramp : ndarray (V, nfl)
+        Far boundary temperature [°C] and wind speed [m/s]: column, constant, ramp flag.
     keep : bool
         Write traces (else sums).
     Ztr : ndarray (V, n − warm, nc)
@@ -269,6 +451,8 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
         Output: state id of each reported step, with ``keep``.
     Ptr : ndarray (V, n − warm, m)
         Output: thermostat powers [W], heating > 0, cooling < 0, with ``keep``.
+    Qtr : ndarray (V, n − warm, nfl)
+        Output: window links' law heat flows into the room [W], with ``keep``.
     heat, cool : ndarray (V, m)
         Output: sums of each thermostat's heating and cooling power [W·steps].
     peak_h, peak_c : ndarray (V,)
@@ -301,6 +485,8 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
     nsig = scol.shape[1]
     nth = thr_h.shape[0]
     ndh = thr_d.shape[0]
+    nfl = fl_bk.shape[0]
+    nr = m + 2 * nfl
     for v in numba.prange(V):
         z = z0[v].copy()
         z1 = np.zeros(nc)
@@ -315,6 +501,15 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
         T0 = np.zeros(m)
         P = np.zeros(m)
         sp = s0[v]
+        ta0 = np.zeros(nfl)
+        tb0 = np.zeros(nfl)
+        ta1 = np.zeros(nfl)
+        tb1 = np.zeros(nfl)
+        wnd = np.zeros(nfl)
+        dG = np.zeros(nfl)
+        T0c = np.zeros(nr)
+        Tend = np.zeros(nr)
+        PQ = np.zeros(m + nfl)
         sv = -1              # state whose views below are current
         BTs = BT[v, 0]
         Oxs = Ox[v, 0]
@@ -399,8 +594,51 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
                     row = BTps[j]
                     for i in range(nc):
                         z1[i] += row[i] * uj
+            if nfl > 0:   # window links with thermostats: predictor–corrector on the law
+                flow_drivers_nb(v, k, bank, obs, up, fl_bk, fl_a, fl_b, fl_bj, fl_bcol,
+                                fl_bconst, fl_bramp, fl_wcol, fl_wconst, fl_wramp, ta0, tb0, wnd)
+                for r in range(nr):
+                    o = fl_rows[r]
+                    acc = 0.0
+                    if o >= 0:
+                        acc = ocs[o]
+                        ro = Oxs[o]
+                        for i in range(nc):
+                            acc += ro[i] * z1[i]
+                        for q in range(nvar[v]):
+                            acc += Ous[o, vj[v, q]] * u[vj[v, q]]
+                    T0c[r] = acc
+                for r in range(m):
+                    hs[r] = _column_nb(bank, k, hcol[v, r], hconst[v, r])
+                    cs[r] = _column_nb(bank, k, ccol[v, r], cconst[v, r])
+                law_departure_nb(fl_coef[v], fl_fac[v, s], ta0, tb0, wnd, dG)
+                coupled_powers_nb(T0c, Mc[v, s], hs, cs, qh[v], qc[v], dG, ta0, tb0, fl_bk, m,
+                                  PQ, Tend)
+                for f in range(nfl):     # corrector: the law at the step's mean temperatures
+                    ta1[f] = 0.5 * (ta0[f] + Tend[m + f])
+                    tb1[f] = 0.5 * (tb0[f] + Tend[m + nfl + f]) if fl_bk[f] == 0 else tb0[f]
+                law_departure_nb(fl_coef[v], fl_fac[v, s], ta1, tb1, wnd, dG)
+                coupled_powers_nb(T0c, Mc[v, s], hs, cs, qh[v], qc[v], dG, ta0, tb0, fl_bk, m,
+                                  PQ, Tend)
+                for r in range(m):
+                    P[r] = PQ[r]
+                    u[nin + r] = PQ[r]
+                    row = BTs[nin + r]
+                    for i in range(nc):
+                        z1[i] += row[i] * PQ[r]
+                for f in range(nfl):
+                    qf = PQ[m + f]
+                    u[fl_ja[f]] = qf
+                    row = BTs[fl_ja[f]]
+                    for i in range(nc):
+                        z1[i] += row[i] * qf
+                    if fl_jb[f] >= 0:
+                        u[fl_jb[f]] = -qf
+                        row = BTs[fl_jb[f]]
+                        for i in range(nc):
+                            z1[i] -= row[i] * qf
             # thermostats
-            if m > 0:
+            elif m > 0:
                 for r in range(m):
                     o = th_obs[r]
                     acc = ocs[o]
@@ -430,7 +668,7 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
                     for i in range(nc):
                         z1[i] += row[i] * pr
             # observed temperatures at the end of the step (for conditions and comfort)
-            for o in range(nobs if (nsw > 0 or c_obs >= 0) else 0):
+            for o in range(nobs if (nsw > 0 or c_obs >= 0 or nfl > 0) else 0):
                 acc = ocs[o]
                 ro = Oxs[o]
                 for i in range(nc):
@@ -439,6 +677,10 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
                     acc += Ous[o, vj[v, q]] * u[vj[v, q]]
                 for r in range(m):
                     acc += Ous[o, nin + r] * u[nin + r]
+                for f in range(nfl):
+                    acc += Ous[o, fl_ja[f]] * u[fl_ja[f]]
+                    if fl_jb[f] >= 0:
+                        acc += Ous[o, fl_jb[f]] * u[fl_jb[f]]
                 obs[o] = acc
             if k >= warm:
                 kk = k - warm
@@ -448,6 +690,8 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
                     Str[v, kk] = s
                     for r in range(m):
                         Ptr[v, kk, r] = P[r]
+                    for f in range(nfl):
+                        Qtr[v, kk, f] = u[fl_ja[f]]
                 else:
                     for i in range(nc):
                         zsv[i] += z[i]
@@ -457,6 +701,10 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
                         upv[j] += up[j]
                     for r in range(m):
                         usv[nin + r] += u[nin + r]
+                    for f in range(nfl):
+                        usv[fl_ja[f]] += u[fl_ja[f]]
+                        if fl_jb[f] >= 0:
+                            usv[fl_jb[f]] += u[fl_jb[f]]
                     cnt[v, s] += 1.0
                     th_ = 0.0
                     tc_ = 0.0
@@ -497,9 +745,64 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
         tstat[v, 2] = tsum
 
 
+def _node_row(i, nc, nu, Yx, Yu):
+    """A free node's temperature as ``rx @ x + ru @ u`` (capacitive or massless)."""
+    if i < nc:
+        rx = np.zeros(nc)
+        rx[i] = 1.0
+        return rx, np.zeros(nu)
+    return Yx[i - nc], Yu[i - nc]
+
+
+def _reference_window(k, flow, s, x1, u, temps, Ux, uprev, Gam, Yx, Yu, hsp, csp, qh, qc, P):
+    """Thermostat powers and window-law flows of one step for :func:`step_reference`."""
+    nc, nu = x1.shape[0], u.shape[0]
+    m, nfl = len(P), len(flow["a"])
+    cols = list(flow["pcols"]) + [None] * nfl
+    rows = list(flow["th"]) + list(flow["a"]) + [b if bk == 0 else -1
+                                                  for b, bk in zip(flow["b"], flow["bk"],
+                                                                   strict=True)]
+    T0 = np.zeros(m + 2 * nfl)
+    Mc = np.zeros((m + 2 * nfl, m + nfl))
+    for r, i in enumerate(rows):
+        if i < 0:
+            continue
+        rx, ru = _node_row(i, nc, nu, Yx[s], Yu[s])
+        T0[r] = rx @ x1 + ru @ u
+        for c in range(m + nfl):
+            if c < m:
+                g = Gam[:, cols[c]]
+                Mc[r, c] = rx @ g + ru[cols[c]]
+            else:
+                f = c - m
+                ja, jb = flow["ja"][f], flow["jb"][f]
+                Mc[r, c] = rx @ Gam[:, ja] + ru[ja]
+                if jb >= 0:
+                    Mc[r, c] -= rx @ Gam[:, jb] + ru[jb]
+    ta0 = temps[flow["a"]]
+    tb0 = np.array([temps[b] if bk == 0 else (0.5 * (Ux[k, j] + uprev[j]) if flow["bramp"][f]
+                                               else Ux[k, j])
+                    for f, (b, bk, j) in enumerate(zip(flow["b"], flow["bk"], flow["bj"],
+                                                       strict=True))])
+    w = flow["wind"][k].copy()
+    if k > 0:
+        w = np.where(flow["wramp"], 0.5 * (w + flow["wind"][k - 1]), w)
+    fac = flow["fac"][s]
+    dG = np.zeros(nfl)
+    PQ = np.zeros(m + nfl)
+    Tend = np.zeros(m + 2 * nfl)
+    law_departure(flow["coef"], fac, ta0, tb0, w, dG)
+    coupled_powers(T0, Mc, hsp, csp, qh, qc, dG, ta0, tb0, flow["bk"], m, PQ, Tend)
+    ta1 = 0.5 * (ta0 + Tend[m:m + nfl])
+    tb1 = np.where(flow["bk"] == 0, 0.5 * (tb0 + Tend[m + nfl:]), tb0)
+    law_departure(flow["coef"], fac, ta1, tb1, w, dG)
+    coupled_powers(T0, Mc, hsp, csp, qh, qc, dG, ta0, tb0, flow["bk"], m, PQ, Tend)
+    return PQ[:m], PQ[m:]
+
+
 def step_reference(mats, Rx, Ru, Yx, Yu, factor, x0, s0, U, sched, hsp, csp, signals, qh, qc,
                    sw_init, has_off, terms, term_clause, clause_cond, nb, nsrc, warm, ramp,
-                   u_before):
+                   u_before, flow=None):
     """Plain-numpy reference of the stepping loop, in node coordinates, one variant.
 
     Parameters
@@ -537,6 +840,11 @@ def step_reference(mats, Rx, Ru, Yx, Yu, factor, x0, s0, U, sched, hsp, csp, sig
         Inputs interpolated linearly over each step (first-order hold).
     u_before : ndarray (nu,)
         Raw inputs before the first row (boundary temperatures [°C], source powers [W]).
+    flow : dict, optional
+        Window links (as :func:`step_modal` takes them, in free-node indices): ``coef``,
+        ``fac`` (ns, nfl), room and far nodes ``a``, ``b``, far kind ``bk``, far boundary
+        input ``bj`` and ``bramp``, law sources ``ja``, ``jb``, wind per row ``wind``
+        (n, nfl) [m/s] and ``wramp``, thermostat nodes ``th`` and their inputs ``pcols``.
 
     Returns
     -------
@@ -548,11 +856,14 @@ def step_reference(mats, Rx, Ru, Yx, Yu, factor, x0, s0, U, sched, hsp, csp, sig
         Thermostat powers [W].
     x_first : ndarray (nc,)
         Start state of the first reported step [°C].
+    Q : ndarray (n − warm, nfl)
+        Window links' law heat flows into the room [W].
     """
     n = U.shape[0]
     m = hsp.shape[1]
     nsw = sw_init.shape[0]
     nc = x0.shape[0]
+    nfl = 0 if flow is None else len(flow["a"])
     pcols = nb + nsrc + np.arange(m)
     x = x0.copy()
     on = sw_init.copy()
@@ -562,6 +873,7 @@ def step_reference(mats, Rx, Ru, Yx, Yu, factor, x0, s0, U, sched, hsp, csp, sig
     X = np.zeros((n, nc))
     S = np.zeros(n, dtype=np.int64)
     Pout = np.zeros((n, m))
+    Qout = np.zeros((n, nfl))
     P = np.zeros(m)
     x_first = x0.copy()
     rcols = np.flatnonzero(ramp)
@@ -579,24 +891,47 @@ def step_reference(mats, Rx, Ru, Yx, Yu, factor, x0, s0, U, sched, hsp, csp, sig
         hold[rcols] = 0.0
         x1 = (Phi @ x + Gam @ hold + Gambar[:, rcols] @ u[rcols]
               + (Gam - Gambar)[:, rcols] @ uprev[rcols])
-        uprev = U[k].copy()
-        if m:
+        if nfl:
+            P, q = _reference_window(k, flow, s, x1, u, temps, U, uprev, Gam, Yx, Yu, hsp[k],
+                                     csp[k], qh, qc, P)
+            x1 = x1 + Gam[:, pcols] @ P + Gam[:, flow["ja"]] @ q
+            u[pcols] = P
+            u[flow["ja"]] = q
+            far = flow["jb"] >= 0
+            x1 = x1 - Gam[:, flow["jb"][far]] @ q[far]
+            u[flow["jb"][far]] = -q[far]
+            Pout[k] = P
+            Qout[k] = q
+        elif m:
             control_powers(Rx[s] @ x1 + Ru[s] @ u, Rx[s] @ Gam[:, pcols] + Ru[s][:, pcols],
                            hsp[k], csp[k], qh, qc, P)
             x1 = x1 + Gam[:, pcols] @ P
             u[pcols] = P
             Pout[k] = P
+        uprev = U[k].copy()
         x = x1
         X[k] = x
         S[k] = s
         temps = np.concatenate([x, Yx[s] @ x + Yu[s] @ u])
-    return X[warm:], S[warm:], Pout[warm:], x_first
+    return X[warm:], S[warm:], Pout[warm:], x_first, Qout[warm:]
 
 
 if HAVE_NUMBA:
     _column_nb = numba.njit(cache=True, inline="always")(_column)
     eval_condition_nb = numba.njit(cache=True)(eval_condition)
     control_powers_nb = numba.njit(cache=True)(control_powers)
+    coupled_powers_nb = numba.njit(cache=True)(coupled_powers)
+    law_flow_nb = numba.njit(cache=True)(law_flow)
+    flow_drivers_nb = numba.njit(cache=True)(flow_drivers)
+
+    @numba.njit(cache=True)
+    def law_departure_nb(coef, fac, ta, tb, wnd, dG):  # pragma: no cover - compiled
+        for f in range(dG.shape[0]):
+            if fac[f] == 0.0:
+                dG[f] = 0.0
+            else:
+                dG[f] = fac[f] * (coef[f, 7] * law_flow_nb(coef[f, :7], ta[f], tb[f], wnd[f])
+                                  - coef[f, 8])
 
     @numba.njit(cache=True)
     def switch_bits_nb(on, has_off, terms, term_clause, clause_cond, temps, sig

@@ -68,6 +68,8 @@ class Bank:
         Condition signals (in the signal's unit): column or constant.
     schcol, schconst : ndarray (V,) of int, ndarray (V,)
         Scheduled-state id per step (a float holding an integer): column or constant.
+    wcol, wconst : ndarray (V, nfl) of int, ndarray (V, nfl)
+        Wind speed of each window link [m/s]: column or constant.
     """
 
     data: np.ndarray
@@ -81,6 +83,8 @@ class Bank:
     sconst: np.ndarray
     schcol: np.ndarray
     schconst: np.ndarray
+    wcol: np.ndarray
+    wconst: np.ndarray
 
     def first(self, cols: np.ndarray, const: np.ndarray) -> np.ndarray:
         """Values of the first row for (V, k) column specs.
@@ -143,6 +147,7 @@ def make_bank(st, vals: list, store, warm: int) -> Bank:
     ccol, cconst = _columns([p.ccols for p in vals], st.m, index_of)
     scol, sconst = _columns([p.scols for p in vals], len(st.signal_refs), index_of)
     schcol, schconst = _columns([[p.sched] for p in vals], 1, index_of)
+    wcol, wconst = _columns([p.flow_wind for p in vals], st.nfl, index_of)
     n = len(store.index)
     data = np.empty((warm + n, max(len(keys), 1)))
     for key, j in keys.items():
@@ -150,7 +155,7 @@ def make_bank(st, vals: list, store, warm: int) -> Bank:
         data[warm:, j] = col
         data[:warm, j] = col[:warm]
     return Bank(data, ucol, uconst, hcol, hconst, ccol, cconst, scol, sconst, schcol[:, 0],
-                schconst[:, 0])
+                schconst[:, 0], wcol, wconst)
 
 
 # ==================================================================================== start
@@ -321,6 +326,129 @@ def observed_nodes(st, comfort: int | None) -> tuple[list, np.ndarray, int]:
             nodes.append(int(comfort))
             c = len(nodes) - 1
     return nodes, terms, c
+
+
+@dataclass
+class FlowLinks:
+    """The window links' arrays of :func:`thermonet.engine.kernels.step_modal` (nfl links).
+
+    Attributes
+    ----------
+    rows : ndarray (m + 2 nfl,) of int
+        Observed point of each row of ``Mc``: thermostat nodes, room nodes, far nodes (−1 for
+        a far boundary).
+    coef : ndarray (V, nfl, 9)
+        Flow-law coefficients, ρc_p [J/(m³K)] and G_ref [W/K].
+    fac : ndarray (V, ns, nfl)
+        Switch factor on each link in each state [-].
+    bk, a, b, bj, ja, jb : ndarray (nfl,) of int
+        Far side's kind (0 node, 1 boundary); observed points of the room and far nodes;
+        input of a far boundary; inputs of the law sources (into the room, out of a far
+        node or −1).
+    bcol, bconst, bramp : ndarray (V, nfl)
+        Far boundary's temperature [°C]: column, constant, first-order hold.
+    wcol, wconst, wramp : ndarray (V, nfl)
+        Wind speed [m/s]: column, constant, first-order hold.
+    """
+
+    rows: np.ndarray
+    coef: np.ndarray
+    fac: np.ndarray
+    bk: np.ndarray
+    a: np.ndarray
+    b: np.ndarray
+    bj: np.ndarray
+    ja: np.ndarray
+    jb: np.ndarray
+    bcol: np.ndarray
+    bconst: np.ndarray
+    bramp: np.ndarray
+    wcol: np.ndarray
+    wconst: np.ndarray
+    wramp: np.ndarray
+
+
+def _observe(nodes: list, i: int) -> int:
+    if i not in nodes:
+        nodes.append(i)
+    return nodes.index(i)
+
+
+def flow_links(st, vals: list, bank: Bank, nodes: list, ramp: np.ndarray) -> FlowLinks:
+    """The window links' kernel arrays; their room and far nodes are added to ``nodes``.
+
+    Parameters
+    ----------
+    st : Structure
+        The group's structure.
+    vals : list of Values
+        The V variants.
+    bank : Bank
+        Their inputs.
+    nodes : list of int
+        Observed free nodes (:func:`observed_nodes`); extended in place.
+    ramp : ndarray (V, nb + nsrc) of bool
+        Inputs interpolated linearly over each step.
+
+    Returns
+    -------
+    FlowLinks
+    """
+    nfl, V, ns = st.nfl, len(vals), vals[0].n_states
+    bk, a, b, bj = (np.zeros(nfl, dtype=np.int64) for _ in range(4))
+    for f, li in enumerate(st.flow_links):
+        a[f] = _observe(nodes, int(st.link_a[li]))
+        ib = int(st.link_b[li])
+        if ib < st.nf:
+            b[f] = _observe(nodes, ib)
+        else:
+            bk[f], bj[f] = 1, ib - st.nf
+    rows = np.concatenate([np.arange(st.m), a, np.where(bk == 0, b, -1)]).astype(np.int64)
+    nin = st.nb + st.nsrc
+    return FlowLinks(
+        rows, np.array([p.flow_coef for p in vals], dtype=float).reshape(V, nfl, 9),
+        np.array([p.flow_fac for p in vals], dtype=float).reshape(V, ns, nfl),
+        bk, a, b, bj, (nin - st.nsrc + st.flow_src[:, 0]).astype(np.int64),
+        np.where(st.flow_src[:, 1] >= 0, st.nb + st.flow_src[:, 1], -1).astype(np.int64),
+        np.ascontiguousarray(bank.ucol[:, bj]), np.ascontiguousarray(bank.uconst[:, bj]),
+        np.ascontiguousarray(ramp[:, bj]), bank.wcol, bank.wconst,
+        np.array([p.flow_wind_ramp for p in vals], dtype=np.bool_).reshape(V, nfl))
+
+
+def coupled_response(st, ops, fl: FlowLinks) -> np.ndarray:
+    """``Mc`` (V, ns, m + 2 nfl, m + nfl): end temperatures of the thermostat, room and far
+    nodes per 1 W of each thermostat and each window link's law source [K/W].
+
+    Parameters
+    ----------
+    st : Structure
+        The group's structure.
+    ops : Operators
+        The kernel's arrays (``Ox``, ``Ou``, ``BT``).
+    fl : FlowLinks
+        The window links.
+
+    Returns
+    -------
+    ndarray
+    """
+    nin = st.nb + st.nsrc
+    V, ns = ops.BT.shape[:2]
+    cols = ops.BT[:, :, nin:nin + st.m, :]                                    # (V, ns, m, nc)
+    qcol = ops.BT[:, :, fl.ja, :].copy()
+    ucols = [nin + np.arange(st.m)]
+    far = fl.jb >= 0
+    qcol[:, :, far, :] -= ops.BT[:, :, fl.jb[far], :]
+    B = np.concatenate([cols, qcol], axis=2)                                  # (V, ns, c, nc)
+    rows = np.maximum(fl.rows, 0)
+    Mc = np.einsum("vsri,vsci->vsrc", ops.Ox[:, :, rows, :], B)
+    Ou = ops.Ou[:, :, rows, :]
+    Mc[..., :st.m] += Ou[..., ucols[0]]
+    Mc[..., st.m:] += Ou[..., fl.ja]
+    for f in np.flatnonzero(far):
+        Mc[..., st.m + f] -= Ou[..., fl.jb[f]]
+    Mc[:, :, fl.rows < 0, :] = 0.0
+    return np.ascontiguousarray(Mc)
 
 
 def _node_rows(st, disc: Discretised, F: np.ndarray, Qx: np.ndarray, nodes: list):
@@ -511,6 +639,8 @@ class GroupRun:
         Per variant: None, or the error that made it unusable (its results are zeros).
     kernel : str
         The kernel that stepped the group: ``"numba"`` or ``"numpy"``.
+    Q : ndarray (V, n, nfl) or None
+        Window links' law heat flows into the room [W] (with ``keep``).
     """
 
     X: np.ndarray | None
@@ -524,6 +654,7 @@ class GroupRun:
     F: np.ndarray
     errors: list
     kernel: str = "numba"
+    Q: np.ndarray | None = None
 
 
 def kernel_ready() -> bool:
@@ -585,8 +716,10 @@ def _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep, comfort, thr_h,
                 errors, ramp, u_before):
     V, nc, m, ns = len(vals), st.nc, st.m, vals[0].n_states
     nodes, terms, c_obs = observed_nodes(st, comfort)
+    fl = flow_links(st, vals, bank, nodes, ramp)
     in_nodes = bool(keep) and nc <= NODES_IN_KERNEL
     ops = operators(st, disc, F, bank, nodes, ramp, node_coords=in_nodes)
+    Mc = coupled_response(st, ops, fl) if st.nfl else np.zeros((V, ns, 0, 0))
     thermostat_errors(st, ops, errors)
     ok = np.array([e is None for e in errors], dtype=bool)
     obs0 = observed_start(st, disc, x0, u0, nodes)
@@ -596,6 +729,7 @@ def _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep, comfort, thr_h,
     Ztr = np.zeros((V, nrep if keep else 0, nc))
     Str = np.zeros((V, nrep if keep else 0), dtype=np.int64)
     Ptr = np.zeros((V, nrep if keep else 0, m))
+    Qtr = np.zeros((V, nrep if keep else 0, st.nfl))
     sums = {"heat": np.zeros((V, m)), "cool": np.zeros((V, m)), "peak_h": np.zeros(V),
             "peak_c": np.zeros(V), "hrs": np.zeros((V, len(thr_h))),
             "dgh": np.zeros((V, len(thr_d))), "tstat": np.zeros((V, 3)),
@@ -611,7 +745,7 @@ def _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep, comfort, thr_h,
         def pick(arr):
             return np.ascontiguousarray(arr[sel]) if sel.size < V else arr
 
-        outs = [pick(a) for a in (Ztr, Str, Ptr)] + [pick(sums[k]) for k in SUMS] + [
+        outs = [pick(a) for a in (Ztr, Str, Ptr, Qtr)] + [pick(sums[k]) for k in SUMS] + [
             pick(x_first), pick(x_last)]
         threads = numba.get_num_threads()
         numba.set_num_threads(max(1, min(threads, sel.size)))   # one variant: no thread pool
@@ -630,11 +764,13 @@ def _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep, comfort, thr_h,
                 st.has_off.astype(np.bool_), pick(tv), st.term_clause, st.clause_cond,
                 int(st.nb + st.nsrc), int(st.nsw), int(warm), np.arange(m, dtype=np.int64),
                 int(c_obs), np.asarray(thr_h, dtype=float), np.asarray(thr_d, dtype=float),
-                bool(keep), *outs)
+                pick(Mc), fl.rows, pick(fl.coef), pick(fl.fac), fl.bk, fl.a, fl.b, fl.bj, fl.ja,
+                fl.jb, pick(fl.bcol), pick(fl.bconst), pick(fl.bramp), pick(fl.wcol),
+                pick(fl.wconst), pick(fl.wramp), bool(keep), *outs)
         finally:
             numba.set_num_threads(threads)
         if sel.size < V:
-            full = [Ztr, Str, Ptr] + [sums[k] for k in SUMS] + [x_first, x_last]
+            full = [Ztr, Str, Ptr, Qtr] + [sums[k] for k in SUMS] + [x_first, x_last]
             for f, part in zip(full, outs, strict=True):
                 f[sel] = part
     X = None
@@ -642,7 +778,24 @@ def _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep, comfort, thr_h,
         X = Ztr if in_nodes else np.empty_like(Ztr)
         for v in sel if not in_nodes else ():
             X[v] = _modal_to_nodes(Ztr[v], Str[v], ops.Qx[v])
-    return X, Str, Ptr, x_first, x_last, sums, ops
+    return X, Str, Ptr, Qtr, x_first, x_last, sums, ops
+
+
+def _reference_flow(st, val, bank: Bank, v: int, ramp: np.ndarray) -> dict | None:
+    """The window links of variant ``v`` as :func:`kernels.step_reference` takes them."""
+    if not st.nfl:
+        return None
+    ib = st.link_b[st.flow_links]
+    bj = np.where(ib >= st.nf, ib - st.nf, 0)
+    n = bank.data.shape[0]
+    wind = np.where(bank.wcol[v] >= 0, bank.data[:, np.maximum(bank.wcol[v], 0)],
+                    bank.wconst[v]).reshape(n, st.nfl)
+    return {"coef": val.flow_coef, "fac": val.flow_fac, "a": st.link_a[st.flow_links],
+            "b": np.where(ib < st.nf, ib, 0), "bk": (ib >= st.nf).astype(np.int64), "bj": bj,
+            "bramp": ramp[bj], "ja": st.nb + st.flow_src[:, 0],
+            "jb": np.where(st.flow_src[:, 1] >= 0, st.nb + st.flow_src[:, 1], -1),
+            "wind": wind, "wramp": val.flow_wind_ramp, "th": st.thermostat_node,
+            "pcols": st.nb + st.nsrc + np.arange(st.m)}
 
 
 def _step_numpy(st, vals, disc, F, bank, x0, s0, u0, warm, errors, ramp, u_before):
@@ -654,6 +807,7 @@ def _step_numpy(st, vals, disc, F, bank, x0, s0, u0, warm, errors, ramp, u_befor
     X = np.zeros((V, n - warm, nc))
     S = np.zeros((V, n - warm), dtype=np.int64)
     P = np.zeros((V, n - warm, m))
+    Q = np.zeros((V, n - warm, st.nfl))
     x_first = np.zeros((V, nc))
     x_last = np.zeros((V, nc))
     pcols = nin + np.arange(m)
@@ -686,13 +840,13 @@ def _step_numpy(st, vals, disc, F, bank, x0, s0, u0, warm, errors, ramp, u_befor
                  else np.full(n, bank.schconst[v]))
         terms = st.terms.copy()
         terms[:, 5] = p.thresholds
-        X[v], S[v], P[v], x_first[v] = kernels.step_reference(
+        X[v], S[v], P[v], x_first[v], Q[v] = kernels.step_reference(
             mats, Rx[v], Ru[v], disc.Yx[v], disc.Yu[v], p.source_factor, x0[v], s0[v], U,
             sched, hsp.reshape(n, m), csp.reshape(n, m), sig.reshape(n, -1), p.qh, p.qc,
             p.sw_init.copy(), st.has_off, terms, st.term_clause, st.clause_cond, st.nb,
-            st.nsrc, warm, ramp[v], u_before[v])
+            st.nsrc, warm, ramp[v], u_before[v], flow=_reference_flow(st, p, bank, v, ramp[v]))
         x_last[v] = X[v, -1] if n > warm else x_first[v]
-    return X, S, P, x_first, x_last
+    return X, S, P, Q, x_first, x_last
 
 
 def step_group(st, vals: list, store, warm: int, *, keep: bool, kernel: str = "auto",
@@ -753,11 +907,12 @@ def step_group(st, vals: list, store, warm: int, *, keep: bool, kernel: str = "a
     if kernel == "numpy":
         if not keep:
             raise ValueError("the numpy reference kernel keeps traces only (keep=True)")
-        X, S, P, xf, xl = _step_numpy(st, vals, disc, F, bank, x0, s0, u0, warm, errors, ramp,
-                                      u_before)
-        return GroupRun(X, S, P, xf, xl, {}, disc, None, F, errors, kernel="numpy")
-    X, S, P, xf, xl, sums, ops = _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep,
-                                             comfort, thr_h, thr_d, errors, ramp, u_before)
+        X, S, P, Q, xf, xl = _step_numpy(st, vals, disc, F, bank, x0, s0, u0, warm, errors,
+                                         ramp, u_before)
+        return GroupRun(X, S, P, xf, xl, {}, disc, None, F, errors, kernel="numpy", Q=Q)
+    X, S, P, Q, xf, xl, sums, ops = _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm,
+                                                keep, comfort, thr_h, thr_d, errors, ramp,
+                                                u_before)
     if keep:
         sums = {}
-    return GroupRun(X, S, P, xf, xl, sums, disc, ops, F, errors)
+    return GroupRun(X, S, P, xf, xl, sums, disc, ops, F, errors, Q=Q)

@@ -48,7 +48,7 @@ AUTO_DENSE_LIMIT = 3000
 
 
 def effective_inputs(comp: Compiled, F: np.ndarray, S: np.ndarray, P: np.ndarray, warm: int,
-                     u_before=None) -> tuple[np.ndarray, np.ndarray]:
+                     u_before=None, Q=None) -> tuple[np.ndarray, np.ndarray]:
     """Inputs as applied at the end of each step and at its start, (n, nu) each.
 
     End: raw boundary temperatures and source powers × the state's factors, thermostat
@@ -72,6 +72,9 @@ def effective_inputs(comp: Compiled, F: np.ndarray, S: np.ndarray, P: np.ndarray
     u_before : ndarray (nu,), optional
         Raw inputs before the first row (where an earlier run ended); default the first
         row's.
+    Q : ndarray (n, nfl), optional
+        Window links' law heat flows into the room [W] (their own sources,
+        :func:`thermonet.engine.compile.window_sources`).
 
     Returns
     -------
@@ -82,6 +85,10 @@ def effective_inputs(comp: Compiled, F: np.ndarray, S: np.ndarray, P: np.ndarray
     U = comp.U
     U_end = U * (F[S[0]] if len(S) and (S == S[0]).all() else F[S])
     U_end[:, comp.nb + comp.nsrc:] = P
+    if comp.st.nfl and Q is not None:
+        U_end[:, comp.nb + comp.st.flow_src[:, 0]] = Q
+        far = comp.st.flow_src[:, 1] >= 0
+        U_end[:, comp.nb + comp.st.flow_src[far, 1]] = -Q[:, far]
     first = U[warm - 1] if warm else (U[0] if u_before is None else u_before)
     U_prev = np.vstack([np.asarray(first, dtype=float)[None, :], U[:-1]])
     return U_end, U_prev
@@ -168,7 +175,8 @@ class ExactMethod:
                          u_before=ub)
         if run.errors[0] is not None:
             raise run.errors[0]
-        U_end, U_prev = effective_inputs(comp, run.F[0], run.S[0], run.P[0], warm, u_before)
+        U_end, U_prev = effective_inputs(comp, run.F[0], run.S[0], run.P[0], warm, u_before,
+                                         None if run.Q is None else run.Q[0])
         return trajectory_of(comp, run, U_end, U_prev, {"kernel": kernel,
                                                         "kernel_used": run.kernel})
 
@@ -453,7 +461,10 @@ def simulate(net, weather, *, step=None, method: str = "auto", warmup_days: floa
     n = len(comp.index)
     w = min(int(round(warmup_days * 86400.0 / comp.step_s)), n)
     if method == "auto":
-        method = "exact" if comp.nc <= AUTO_DENSE_LIMIT else "sparse"
+        method = "exact" if comp.nc <= AUTO_DENSE_LIMIT or comp.st.nfl else "sparse"
+    if method == "sparse" and comp.st.nfl:
+        raise ValueError(f"window links ({', '.join(comp.link_names[i] for i in comp.flow_links)}"
+                         ") are stepped by method='exact' only; pass method='exact' or 'auto'")
     _warn_ignored(method, kernel, sparse_tol)
     keep = kept_nodes(comp, outputs)
     info = {"method": method, "steps": n, "warmup_steps": w, "step_s": comp.step_s,

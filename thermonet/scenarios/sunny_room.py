@@ -36,9 +36,11 @@ Operation (invented, common practice, no source):
 * background ventilation 30 m³/h (trickle vents and kitchen/bath extract, no heat recovery)
   and infiltration from n50 = 3 /h in room and stair (ISO 13789-style shielding estimate of
   :func:`thermonet.builders.infiltration_rate`);
-* occupants open the windows in the daytime (07:00–22:00) when the room air is above 25 °C
-  and warmer than outdoors by 1 K (about 150 m³/h, path ``"window_ventilation"``), but not
-  at night (security, noise, rain);
+* occupants open a window in the daytime (07:00–22:00) when the room air is above 25 °C
+  and warmer than outdoors by 1 K (:data:`AIRING_WINDOW`: the flow follows the de Gids–Phaff
+  correlation from the temperature difference and the wind, re-evaluated every step, about
+  150 m³/h at 3 m/s and 3 K; path ``"window_ventilation"``), but not at night (security,
+  noise, rain);
 * internal gains of two occupants, lighting 3 W/m² and appliances 4 W/m² with the dwelling
   profiles of :mod:`thermonet.gains`;
 * the flat below, the rest of the flat and the lower flats next to the stair are held at
@@ -194,6 +196,19 @@ def _lined(construction: Construction) -> Construction:
 
 
 # ------------------------------------------------------------------------------ design
+#: The window the occupants open for airing: a casement of the west glazing, single-sided
+#: ventilation by the de Gids–Phaff correlation (:func:`thermonet.airflow.
+#: single_sided_de_gids_phaff`) from the room and outdoor air temperatures and the wind
+#: speed, re-evaluated every step. Opening 0.5 m², 1.2 m high (invented); about 150 m³/h
+#: with 3 m/s wind and 3 K.
+AIRING_WINDOW = {"law": "de_gids_phaff", "area": 0.5, "height": 1.2}
+
+#: The secure night opening (a motorised roof light with a rain sensor), single-sided by the
+#: de Gids–Phaff correlation: 1.0 m² open, 0.8 m high (invented); about 300 m³/h (≈ 4 air
+#: changes per hour) with 2 m/s wind and 5 K.
+NIGHT_OPENING = {"law": "de_gids_phaff", "area": 1.0, "height": 0.8}
+
+
 @dataclass(frozen=True)
 class Design:
     """The parameters the design options change (all other inputs are fixed).
@@ -205,10 +220,11 @@ class Design:
         gain when down (external blinds 0.15–0.25, common practice, no source); they go
         down when the room air exceeds 24 °C and up again below 22 °C.
     night_ventilation : bool, default False
-        Secure night-time opening (e.g. a motorised roof light with a rain sensor) of about
-        360 m³/h (≈ 5 air changes per hour, invented estimate) from 22:00 to 07:00 while the
-        room air is above 22 °C and warmer than outdoors by 2 K, outside the heating season
-        only (path ``"night_ventilation"``).
+        Secure night-time opening (:data:`NIGHT_OPENING`, a motorised roof light with a rain
+        sensor; its flow follows the de Gids–Phaff correlation from the indoor–outdoor
+        temperature difference and the wind) from 22:00 to 07:00 while the room air is above
+        22 °C and warmer than outdoors by 2 K, outside the heating season only (path
+        ``"night_ventilation"``).
     added_mass : bool, default False
         :data:`ADDED_MASS_LINING` on the walls, roof and partitions of the room.
     g_value : float, default 0.60
@@ -288,8 +304,10 @@ OPTIONS: dict[str, Option] = {o.key: o for o in (
            {"external_blinds": True}, 3,
            "medium cost; façade fixings, motors and a wind sensor; little daily hassle"),
     Option("night_ventilation", "Night ventilation",
-           "A secure opening (motorised roof light with rain sensor) that ventilates about "
-           "5 air changes per hour at night when the room is warm, May to September.",
+           "A secure opening (motorised roof light with rain sensor, 1 m² open) that "
+           "ventilates at night when the room is warm, May to September; its flow follows "
+           "wind and the indoor–outdoor temperature difference (about 4 air changes per hour "
+           "at 2 m/s and 5 K).",
            {"night_ventilation": True}, 2,
            "low cost; an actuator and a control; some noise and insects"),
     Option("added_mass", "Added thermal mass",
@@ -493,10 +511,10 @@ def build_sunny_room(weather: pd.DataFrame, design: Design | None = None, **chan
                           index)
     daytime_airing = (tn.above(room.air, 25.0) & tn.warmer(room.air, room.outdoor, 1.0)
                       & tn.hours(7, 22))
-    add_window_opening(net, room, open_when=daytime_airing, flow_m3h=150.0,
-                       name="living:daytime_airing")
+    add_window_opening(net, room, open_when=daytime_airing, name="living:daytime_airing",
+                       **AIRING_WINDOW)
     if d.night_ventilation:
-        add_window_opening(net, room, flow_m3h=360.0, path="night_ventilation",
+        add_window_opening(net, room, path="night_ventilation", **NIGHT_OPENING,
                            name="living:night_ventilation",
                            open_when=night_ventilation(room.air, room.outdoor, indoor_above=22.0,
                                                        warmer_by=2.0, start=22, end=7)
