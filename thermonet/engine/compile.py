@@ -542,8 +542,8 @@ def window_sources(links: list, pos: dict, n_sources: int, n_free: int):
     """The engine's own sources of the window links, appended after the network's sources.
 
     A window link (:meth:`thermonet.Network.add_window_flow`) conducts its reference
-    conductance ``G_ref`` (the link's ``conductance``, times any switch factor) in the exact
-    step; the flow law's departure ``ΔG = f·(G_law − G_ref)`` carries ``q = ΔG·(T̄_b − T̄_a)``
+    conductance ``G_ref`` (its law at :data:`FLOW_REFERENCE_DT` and the run's median wind,
+    times any switch factor) in the exact step; the flow law's departure ``ΔG = f·(G_law − G_ref)`` carries ``q = ΔG·(T̄_b − T̄_a)``
     [W], found by the kernel each step, into the room node ``a`` (and out of a far node
     ``b``) through these sources. They are booked under the link's path, so the balance of
     every control volume includes them and closes exactly.
@@ -757,30 +757,41 @@ def _scheduled_rows(net, st: Structure, store: ColumnStore, links):
     return base, uniq, store.array_col(inv.ravel().astype(float))
 
 
-def _flow_values(net, st: Structure, store: ColumnStore, G: np.ndarray):
-    """Window links' coefficients, switch factors and wind specs (see :class:`Values`)."""
+#: Indoor–outdoor temperature difference [K] at which a window link's reference conductance
+#: is taken (with the run's median wind speed); the law's departure from it is what the
+#: kernel solves for each step (common practice for summer airing, no source).
+FLOW_REFERENCE_DT = 3.0
+
+
+def _flow_values(net, st: Structure, store: ColumnStore):
+    """Window links' coefficients (with the reference conductance) and wind specs.
+
+    The reference conductance G_ref [W/K] of each window link is its law at
+    :data:`FLOW_REFERENCE_DT` and the median wind speed of the run; it goes into the exact
+    step, and the kernel carries the law's departure from it (see :func:`window_sources`).
+    """
+    from thermonet.airflow import law_flow
+
     links = list(net.links.values())
     coef = np.zeros((st.nfl, 9))
-    fac = np.zeros((G.shape[0], st.nfl))
     winds, ramps = [], []
     for f, li in enumerate(st.flow_links):
         link = links[int(li)]
         coef[f, :7] = link.params["coefficients"]
         coef[f, 7] = link.params["rho_cp"]
-        coef[f, 8] = float(link.conductance)
-        if coef[f, 8] > 0:
-            fac[:, f] = G[:, li] / coef[f, 8]
         spec = store.spec(link.params["wind"], f"window link {link.name!r} wind [m/s]",
                           column_ok=True)
-        w = np.asarray(store.value(spec), dtype=float)
-        if not np.isfinite(w).all() or (w < 0).any():
-            bad = np.flatnonzero(~(np.isfinite(w) & (w >= 0)))[0] if w.ndim else 0
+        w = np.atleast_1d(np.asarray(store.value(spec), dtype=float))
+        bad = np.flatnonzero(~(np.isfinite(w) & (w >= 0)))
+        if bad.size:
             raise WeatherError(f"window link {link.name!r}: wind speed {link.params['wind']!r} "
-                               f"must be finite and ≥ 0 m/s at every step (row {bad}); fill "
-                               "the gaps or clip negative values")
+                               f"must be finite and ≥ 0 m/s at every step (row {bad[0]}: "
+                               f"{w[bad[0]]}); fill the gaps or clip negative values")
+        coef[f, 8] = coef[f, 7] * law_flow(coef[f, :7], 20.0 + FLOW_REFERENCE_DT, 20.0,
+                                           float(np.median(w)))
         winds.append(spec)
         ramps.append(store.is_ramp(spec))
-    return coef, fac, winds, np.array(ramps, dtype=bool)
+    return coef, winds, np.array(ramps, dtype=bool)
 
 
 def _check_connected(st: Structure, G: np.ndarray) -> None:
@@ -856,6 +867,8 @@ def compile_values(net, st: Structure, store: ColumnStore) -> Values:
     C = np.array([nodes[n].capacitance for n in st.free[:st.nc]], dtype=float)
     links = list(net.links.values())
     base, uniq, sched = _scheduled_rows(net, st, store, links)
+    coef, winds, wramp = _flow_values(net, st, store)
+    base[st.flow_links] = coef[:, 8]                  # window links: reference conductance
     n_sched = uniq.shape[0]
     nsw = st.nsw
     if n_sched * (1 << nsw) > MAX_STATES:
@@ -870,7 +883,10 @@ def compile_values(net, st: Structure, store: ColumnStore) -> Values:
         g[st.sched_links] = uniq[si]
         G[si << nsw:(si + 1) << nsw] = g[None, :] * link_f
     _check_connected(st, G)
-    coef, fac, winds, wramp = _flow_values(net, st, store, G)
+    fac = np.zeros((G.shape[0], st.nfl))
+    for f, li in enumerate(st.flow_links):
+        if coef[f, 8] > 0:
+            fac[:, f] = G[:, li] / coef[f, 8]
     ucols, hcols, ccols, scols = _input_specs(net, st, store)
     th = list(net.thermostats.values())
     return Values(

@@ -25,7 +25,9 @@ Schema, version 1
           {"kind": "airflow", "name", "a", "b", "path", "flow_m3h": [m³/h] | schedule,
            "heat_recovery" [-]?, "rho_cp" [J/(m³K)]?},
           {"kind": "radiation", "name", "a", "b", "path", "area" [m²], "emissivity_a"?,
-           "emissivity_b"?, "view_factor"?, "area_b"?, "reference_temperature" [°C]?}],
+           "emissivity_b"?, "view_factor"?, "area_b"?, "reference_temperature" [°C]?},
+          {"kind": "window", "name", "a", "b", "path", "law": name, "law_params":
+           {parameter: number | bool}, "wind"?: column | [m/s], "rho_cp" [J/(m³K)]?}],
         "sources": [{"name", "node", "path", "power": [W] | schedule}],
         "thermostats": [{"name", "node", "heating_setpoint"?, "cooling_setpoint"?: [°C] |
                          schedule | null, "max_heating_w"?, "max_cooling_w"?: [W] | "inf"}],
@@ -127,6 +129,7 @@ _LINK_KEYS = {
     "radiation": (("kind", "a", "b", "path", "area"),
                   ("name", "emissivity_a", "emissivity_b", "view_factor", "area_b",
                    "reference_temperature")),
+    "window": (("kind", "a", "b", "path", "law", "law_params"), ("name", "wind", "rho_cp")),
 }
 _SOURCE_KEYS = (("node", "path", "power"), ("name",))
 _THERMOSTAT_KEYS = (("node",), ("name", "heating_setpoint", "cooling_setpoint",
@@ -381,6 +384,9 @@ def required_weather_columns(net: Network) -> list[str]:
     for b in net.boundaries.values():
         if isinstance(b.temperature, str):
             cols[b.temperature] = None
+    for link in net.links.values():
+        if link.kind == "window" and isinstance(link.params["wind"], str):
+            cols[link.params["wind"]] = None
     return list(cols)
 
 
@@ -459,6 +465,12 @@ def _encode_link(link, sched: _ScheduleTable) -> dict:
         for k in ("area", "emissivity_a", "emissivity_b", "view_factor", "area_b",
                   "reference_temperature"):
             out[k] = None if p[k] is None else float(p[k])
+        return out
+    if link.kind == "window":
+        out["law"] = p["law"]
+        out["law_params"] = dict(p["law_params"])
+        out["wind"] = p["wind"]
+        out["rho_cp"] = float(p["rho_cp"])
         return out
     raise ModelFileError(f"cannot save link {link.name!r}: unknown link kind {link.kind!r}; "
                          f"this thermonet writes {', '.join(_LINK_KEYS)}")
@@ -924,6 +936,20 @@ class _Builder:
                     kw[k] = r.number(x[k], f"{w}.{k}")
             self.call(w, self.net.add_airflow,
                       flow_m3h=self.value(x["flow_m3h"], f"{w}.flow_m3h"), **kw, **common)
+        elif kind == "window":
+            params = x["law_params"]
+            if not isinstance(params, dict):
+                raise r.err(f"{w}.law_params", "must be an object {parameter: number}")
+            law_params = {k: (v if isinstance(v, bool) else r.number(v, f"{w}.law_params.{k}"))
+                          for k, v in params.items()}
+            kw = {}
+            if x.get("wind") is not None:
+                kw["wind"] = (r.string(x["wind"], f"{w}.wind") if isinstance(x["wind"], str)
+                              else r.number(x["wind"], f"{w}.wind"))
+            if x.get("rho_cp") is not None:
+                kw["rho_cp"] = r.number(x["rho_cp"], f"{w}.rho_cp")
+            self.call(w, self.net.add_window_flow, law=r.string(x["law"], f"{w}.law"),
+                      **kw, **law_params, **common)
         else:
             kw = {}
             for k in ("emissivity_a", "emissivity_b", "view_factor", "reference_temperature"):
