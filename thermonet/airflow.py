@@ -58,6 +58,7 @@ __all__ = [
     "TERRAIN_WIND_FACTORS",
     "air_density",
     "FLOW_LAWS",
+    "FLOW_LAW_NAMES",
     "cross_flow_wind",
     "flow_conductance",
     "flow_law_coefficients",
@@ -823,6 +824,15 @@ def restricted_opening_angle(depth, gap):
 #: Names of the flow laws a window link can follow (:func:`flow_law_coefficients`).
 FLOW_LAWS = ("de_gids_phaff", "en16798_7", "bs5925_single", "stack_two_openings",
              "cross_wind")
+
+#: Each flow law in words, with its source (for tables and reports).
+FLOW_LAW_NAMES = {
+    "de_gids_phaff": "single-sided, de Gids & Phaff (1982)",
+    "en16798_7": "single-sided, EN 16798-7:2017",
+    "bs5925_single": "one opening, stack, BS 5925:1991",
+    "stack_two_openings": "two openings, stack, BS 5925:1991",
+    "cross_wind": "cross ventilation by wind, BS 5925:1991",
+}
 
 #: Length of a flow law's coefficient vector ``(k, w, s, c, p, mode, density)``.
 LAW_SIZE = 7

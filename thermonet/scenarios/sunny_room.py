@@ -581,6 +581,26 @@ def room_balance(res: tn.Results, handles: SunnyRoom, freq: str | None = None) -
     return b
 
 
+def _window_rows(link, room) -> list[dict]:
+    """Rows of the inputs table for a window link (its law and opening)."""
+    from thermonet.airflow import FLOW_LAW_NAMES, law_flow
+
+    words = label(link.path, unit=False)
+    p = link.params
+    note = (f"flow {FLOW_LAW_NAMES[p['law']]}, from ΔT and wind, re-evaluated every step; "
+            "when open (switched by a condition)")
+    rows = [dict(group="airflow", item=f"{words} ({link.name}): opening area",
+                 value=float(p["law_params"].get("area", np.nan)), unit="m²", note=note),
+            dict(group="airflow", item=f"{words}: opening height",
+                 value=float(p["law_params"].get("height", np.nan)), unit="m", note="")]
+    for dt, wind in ((3.0, 3.0), (5.0, 1.0)):
+        flow = 3600.0 * law_flow(np.asarray(p["coefficients"]), 20.0 + dt, 20.0, wind)
+        rows.append(dict(group="airflow", item=f"{words}: flow at ΔT {dt:g} K, wind "
+                         f"{wind:g} m/s", value=flow, unit="m³/h",
+                         note=f"{flow / room.volume:.1f} air changes per hour"))
+    return rows
+
+
 def inputs_table(net: Network, handles: SunnyRoom) -> pd.DataFrame:
     """The inputs and assumptions of one built design, as a tidy table for the report.
 
@@ -615,6 +635,9 @@ def inputs_table(net: Network, handles: SunnyRoom) -> pd.DataFrame:
                          "ISO 6946, from the layers"))
     for name in room.links:
         link = net.links[name]
+        if link.kind == "window":
+            rows += _window_rows(link, room)
+            continue
         if link.kind != "airflow":
             continue
         flow = link.params.get("flow_m3h")
