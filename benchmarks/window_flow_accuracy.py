@@ -62,7 +62,8 @@ def fine(w, law, kw, cap, t_start):
 
 def main():
     w = july()
-    print(f"{'law':16s} {'C [J/K]':>9s}  {'hourly max/mean [K]':>20s}  {'15 min max/mean [K]':>20s}")
+    print(f"{'law':16s} {'C [J/K]':>9s}  {'hourly max/mean [K]':>20s}  "
+          f"{'15 min max/mean [K]':>20s}")
     for law, kw, cap in CASES:
         cells = []
         for step in (None, "15min"):

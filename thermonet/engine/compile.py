@@ -543,8 +543,9 @@ def window_sources(links: list, pos: dict, n_sources: int, n_free: int):
 
     A window link (:meth:`thermonet.Network.add_window_flow`) conducts its reference
     conductance ``G_ref`` (its law at :data:`FLOW_REFERENCE_DT` and the run's median wind,
-    times any switch factor) in the exact step; the flow law's departure ``ΔG = f·(G_law − G_ref)`` carries ``q = ΔG·(T̄_b − T̄_a)``
-    [W], found by the kernel each step, into the room node ``a`` (and out of a far node
+    times any switch factor) in the exact step; the flow law's departure
+    ``ΔG = f·(G_law − G_ref)`` carries ``q = ΔG·(T̂_b − T̂_a)`` [W], found by the kernel each
+    step, into the room node ``a`` (and out of a far node
     ``b``) through these sources. They are booked under the link's path, so the balance of
     every control volume includes them and closes exactly.
 
