@@ -526,9 +526,14 @@ class GroupRun:
     kernel: str = "numba"
 
 
+_READY: list = []         # True once the compiled kernel is built (it then stays built)
+
+
 def kernel_ready() -> bool:
     """Whether the compiled kernel is built (or loaded from the on-disk cache) here."""
-    return bool(kernels.HAVE_NUMBA and kernels.step_modal_nb.signatures)
+    if not _READY and kernels.HAVE_NUMBA and kernels.step_modal_nb.signatures:
+        _READY.append(True)            # listing the signatures costs ~20 µs: ask until built
+    return bool(_READY)
 
 
 def compile_in_background(job) -> None:
