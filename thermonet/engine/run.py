@@ -374,20 +374,21 @@ def operators(st, disc: Discretised, F: np.ndarray, bank: Bank, nodes: list,
     nin = st.nb + st.nsrc
     x = disc.lam * h
     a = np.exp(-x)
-    WT = np.swapaxes(disc.W, -1, -2) * F[..., None]
-    e1, e2 = h * phi1(x), h * phi2(x)
-    BT = WT * e1[:, :, None, :]
-    BTp = np.zeros_like(BT)
     r = np.zeros((V, st.nu), dtype=bool)
     r[:, :nin] = ramp
-    rr = r[:, None, :, None]
-    BT = np.where(rr, WT * e2[:, :, None, :], BT)
-    BTp = np.where(rr, WT * (e1 - e2)[:, :, None, :], BTp)
-    Qx = disc.Q.copy()
-    Pz = np.swapaxes(disc.Q, -1, -2) * disc.C[:, None, None, :]
     dense = disc.dense.copy()
     if node_coords:
         dense[:] = True
+    if dense.all():   # every state's operators are set densely below; the layout of Wᵀ
+        BT, BTp = np.swapaxes(np.zeros((2, V, ns, nc, st.nu)), -1, -2)  # (same sums below)
+    else:
+        WT = np.swapaxes(disc.W, -1, -2) * F[..., None]
+        e1, e2 = h * phi1(x), h * phi2(x)
+        rr = r[:, None, :, None]
+        BT = np.where(rr, WT * e2[:, :, None, :], WT * e1[:, :, None, :])
+        BTp = np.where(rr, WT * (e1 - e2)[:, :, None, :], 0.0)
+    Qx = disc.Q.copy()
+    Pz = np.swapaxes(disc.Q, -1, -2) * disc.C[:, None, None, :]
     Ad = np.zeros((V, ns, nc, nc) if dense.any() else (V, ns, 0, 0))
     for v, s in zip(*np.nonzero(dense), strict=True):
         Phi, Gam, _, Gambar, _ = disc.matrices(v, s)
