@@ -41,6 +41,7 @@ __all__ = [
     "TIME_CONSTANT_MAX_S",
     "TEMPERATURE_COLUMN",
     "IRRADIANCE_COLUMNS",
+    "QUICK_PASS",
     "check_temperature",
     "check_irradiance",
     "check_weather_frame",
@@ -112,9 +113,17 @@ def _bounds(x) -> tuple[float, float] | None:
     return float(v.min()), float(v.max())       # NaN propagates through min and max
 
 
+#: Let the checks skip their detailed analysis of values that a quick min/max pass finds
+#: finite and inside the range that raises or warns nothing (the outcome is the same either
+#: way; ``tests/test_fast_paths.py`` runs both). False: always analyse in detail.
+QUICK_PASS = True
+
+
 def _all_within(x, low: float, high: float) -> bool:
-    """Whether every value of ``x`` is finite and within [low, high] (a quick pass that lets
-    the checks skip their detailed analysis of values that are fine)."""
+    """Whether every value of ``x`` is finite and within [low, high] (the quick pass, see
+    :data:`QUICK_PASS`)."""
+    if not QUICK_PASS:
+        return False
     b = _bounds(x)
     return b is None or (low <= b[0] and b[1] <= high
                          and math.isfinite(b[0]) and math.isfinite(b[1]))

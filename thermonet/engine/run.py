@@ -21,7 +21,8 @@ import numba
 import numpy as np
 
 from thermonet.engine import kernels
-from thermonet.engine.discretise import Discretised, discretise, phi1, phi2
+from thermonet.engine.discretise import Discretised, phi1, phi2
+from thermonet.engine.reuse import discretise_reused
 from thermonet.engine.start import apply_initial, steady_start, thermostat_rows
 from thermonet.errors import NetworkError
 
@@ -738,7 +739,7 @@ def step_group(st, vals: list, store, warm: int, *, keep: bool, kernel: str = "a
     V = len(vals)
     C = np.array([p.C for p in vals]).reshape(V, st.nc)
     G = np.array([p.G for p in vals]).reshape(V, vals[0].n_states, st.nl)
-    disc = discretise(st, C, G, store.step_s)
+    disc = discretise_reused(st, C, G, store.step_s)    # an equal earlier one, or fresh
     errors = list(disc.errors)
     ok = np.array([e is None for e in errors], dtype=bool)
     bank = make_bank(st, vals, store, warm)
