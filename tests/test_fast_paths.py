@@ -15,6 +15,7 @@ speed is measured by ``benchmarks/bench_engine.py``, never here.
 
 from __future__ import annotations
 
+import dataclasses
 import warnings
 
 import numpy as np
@@ -167,6 +168,7 @@ def test_a_reused_discretisation_equals_a_fresh_one(stiff):
             assert a.tobytes() == b.tobytes()
     with pytest.raises(ValueError, match="read-only"):
         kept.Q[0, 0, 0, 0] = 1.0
+    assert kept.formed and not dataclasses.replace(kept, C=kept.C[:1]).formed
     G2 = G.copy()
     G2[0, :, 0] *= 1.0 + 1e-15          # one conductance changed in its last digits
     other = reuse.discretise_reused(st, C, G2, comp.step_s)

@@ -18,6 +18,7 @@ Only runs of one variant with at most :data:`REUSE_MAX_NODES` capacitive nodes a
 from __future__ import annotations
 
 import dataclasses
+import threading
 from collections import OrderedDict
 
 import numpy as np
@@ -35,14 +36,25 @@ REUSE_MAX_STATES = 16
 REUSE_ENTRIES = 8
 
 _KEPT: OrderedDict = OrderedDict()
+_LOCK = threading.Lock()             # runs of a study may come from several threads
 
 
 @dataclasses.dataclass
 class ReusedDiscretised(Discretised):
     """A :class:`~thermonet.engine.discretise.Discretised` whose arrays are read-only and
-    whose dense step matrices (:meth:`matrices`) are formed once per variant and state."""
+    whose dense step matrices (:meth:`matrices`) are formed once per variant and state.
 
-    formed: dict = dataclasses.field(default_factory=dict, repr=False)
+    Attributes
+    ----------
+    formed : dict
+        ``(v, s) → (Φ, Γ, Φ̄, Γ̄, Γ₃)`` formed so far (read-only arrays; [-] for Φ and Φ̄,
+        [K/K] or [K/W] per unit input for the Γ's).
+    """
+
+    # not an __init__ field: a copy made by dataclasses.replace (e.g. one variant sliced out)
+    # starts with an empty one, as its (v, s) indices may differ
+    formed: dict = dataclasses.field(default_factory=dict, init=False, repr=False,
+                                     compare=False)
 
     def matrices(self, v: int, s: int):
         """Dense (Φ, Γ, Φ̄, Γ̄, Γ₃) of variant v, state s, formed once (read-only).
@@ -83,6 +95,8 @@ def content_key(value):
     if isinstance(value, np.ndarray):
         return ("ndarray", value.dtype.str, value.shape, np.ascontiguousarray(value).tobytes())
     if isinstance(value, (list, tuple)):
+        if all(type(v) is str for v in value):          # names: the common case, quickly
+            return (type(value).__name__, "str", tuple(value))
         parts = [content_key(v) for v in value]
         return None if any(p is None for p in parts) else (type(value).__name__, tuple(parts))
     return None
@@ -150,12 +164,14 @@ def discretise_reused(st, C: np.ndarray, G: np.ndarray, h: float) -> Discretised
                   if k.isupper() and isinstance(v, (int, float)))   # e.g. MODAL_DEFECT_LIMIT
     key = (skey, content_key(np.asarray(C, dtype=float)), content_key(np.asarray(G, dtype=float)),
            float(h), knobs)
-    hit = _KEPT.get(key)
-    if hit is not None:
-        _KEPT.move_to_end(key)
-        return hit
+    with _LOCK:
+        hit = _KEPT.get(key)
+        if hit is not None:
+            _KEPT.move_to_end(key)
+            return hit
     disc = _freeze(discretise(st, C, G, h))
-    _KEPT[key] = disc
-    while len(_KEPT) > REUSE_ENTRIES:
-        _KEPT.popitem(last=False)
+    with _LOCK:
+        _KEPT[key] = disc
+        while len(_KEPT) > REUSE_ENTRIES:
+            _KEPT.popitem(last=False)
     return disc
