@@ -35,6 +35,11 @@ REUSE_MAX_STATES = 16
 #: Discretisations kept (least recently used dropped first); 0 turns reuse off.
 REUSE_ENTRIES = 8
 
+#: Names of the discretiser's numeric settings (e.g. MODAL_DEFECT_LIMIT): their values are
+#: part of the key, so a changed setting is never served an earlier result.
+KNOBS = tuple(k for k, v in sorted(vars(discretise_module).items())
+              if k.isupper() and isinstance(v, (int, float)))
+
 _KEPT: OrderedDict = OrderedDict()
 _LOCK = threading.Lock()             # runs of a study may come from several threads
 
@@ -81,9 +86,9 @@ class ReusedDiscretised(Discretised):
 
 
 def content_key(value):
-    """A hashable key equal for equal contents: arrays by dtype, shape and bytes; lists,
-    tuples and dataclasses element by element; numbers, strings, bools and None as they are.
-    None when some part cannot be compared by content (then nothing is reused).
+    """A hashable key equal for equal contents: arrays by dtype, shape and bytes; lists and
+    tuples element by element; Python numbers, strings, bools and None as they are. None when
+    some part cannot be compared by content (then nothing is reused).
 
     Parameters
     ----------
@@ -160,8 +165,7 @@ def discretise_reused(st, C: np.ndarray, G: np.ndarray, h: float) -> Discretised
     skey = structure_key(st)
     if skey is None:
         return discretise(st, C, G, h)
-    knobs = tuple((k, v) for k, v in sorted(vars(discretise_module).items())
-                  if k.isupper() and isinstance(v, (int, float)))   # e.g. MODAL_DEFECT_LIMIT
+    knobs = tuple(getattr(discretise_module, k) for k in KNOBS)
     key = (skey, content_key(np.asarray(C, dtype=float)), content_key(np.asarray(G, dtype=float)),
            float(h), knobs)
     with _LOCK:
