@@ -67,7 +67,10 @@ def check_index(index: pd.DatetimeIndex, what: str = "weather") -> pd.Timedelta:
             "resample to a constant step first, e.g. df.resample('1h').mean()")
     step = pd.Timedelta(int(d[0]), "ns")
     key = id(index)
-    _CHECKED[key] = (weakref.ref(index, lambda _ref, key=key: _forget(key)), step)
+    try:
+        _CHECKED[key] = (weakref.ref(index, lambda _ref, key=key: _forget(key)), step)
+    except TypeError:          # an index type without weak references: checked every time
+        pass
     return step
 
 

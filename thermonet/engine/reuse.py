@@ -10,9 +10,10 @@ or a link gives another key and a fresh discretisation. The dense step matrices 
 discretisation are formed once (:class:`ReusedDiscretised`).
 
 Only runs of one variant with at most :data:`REUSE_MAX_NODES` capacitive nodes and
-:data:`REUSE_MAX_STATES` states are kept (a few hundred kB each), at most
-:data:`REUSE_ENTRIES` of them. The numbers are those of a fresh discretisation, bit for bit
-(``tests/test_reuse.py`` compares them).
+:data:`REUSE_MAX_STATES` states are kept (at most a few MB each), at most
+:data:`REUSE_ENTRIES` of them; a discretisation that carries an error (a singular network)
+is never kept. The numbers are those of a fresh discretisation, bit for bit
+(``tests/test_fast_paths.py`` compares them).
 """
 
 from __future__ import annotations
@@ -173,7 +174,10 @@ def discretise_reused(st, C: np.ndarray, G: np.ndarray, h: float) -> Discretised
         if hit is not None:
             _KEPT.move_to_end(key)
             return hit
-    disc = _freeze(discretise(st, C, G, h))
+    disc = discretise(st, C, G, h)
+    if any(e is not None for e in disc.errors):
+        return disc                  # raised by the caller: a fresh error object each time
+    disc = _freeze(disc)
     with _LOCK:
         _KEPT[key] = disc
         while len(_KEPT) > REUSE_ENTRIES:
