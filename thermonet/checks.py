@@ -41,6 +41,7 @@ __all__ = [
     "TIME_CONSTANT_MAX_S",
     "TEMPERATURE_COLUMN",
     "IRRADIANCE_COLUMNS",
+    "QUICK_PASS",
     "check_temperature",
     "check_irradiance",
     "check_weather_frame",
@@ -96,7 +97,36 @@ IRRADIANCE_COLUMNS = ("ghi", "dni", "dhi")
 
 
 def _values(x) -> np.ndarray:
+    if isinstance(x, pd.Series) and x.dtype == np.float64:
+        return x.to_numpy()            # the values themselves (read-only view), no conversion
     return np.atleast_1d(np.asarray(x, dtype=float))
+
+
+def _bounds(x) -> tuple[float, float] | None:
+    """Smallest and largest value of a number, array or Series (NaN if any is NaN); None
+    when there is no value."""
+    if isinstance(x, (int, float)):
+        return float(x), float(x)
+    v = _values(x)
+    if v.size == 0:
+        return None
+    return float(v.min()), float(v.max())       # NaN propagates through min and max
+
+
+#: Let the checks skip their detailed analysis of values that a quick min/max pass finds
+#: finite and inside the range that raises or warns nothing (the outcome is the same either
+#: way; ``tests/test_fast_paths.py`` runs both). False: always analyse in detail.
+QUICK_PASS = True
+
+
+def _all_within(x, low: float, high: float) -> bool:
+    """Whether every value of ``x`` is finite and within [low, high] (the quick pass, see
+    :data:`QUICK_PASS`)."""
+    if not QUICK_PASS:
+        return False
+    b = _bounds(x)
+    return b is None or (low <= b[0] and b[1] <= high
+                         and math.isfinite(b[0]) and math.isfinite(b[1]))
 
 
 def _where(x, k: int) -> str:
@@ -135,6 +165,8 @@ def check_temperature(x, what: str, *, plausible=BOUNDARY_RANGE, error=NetworkEr
     PlausibilityWarning
         Values outside ``plausible``.
     """
+    if _all_within(x, max(plausible[0], -ZERO_CELSIUS), min(plausible[1], KELVIN_MEDIAN)):
+        return                         # finite, above absolute zero, not kelvin, plausible
     v = _values(x)
     if v.size == 0:
         return
@@ -280,6 +312,8 @@ def check_network_values(net) -> None:
         A NaN/inf value or a value below the element's minimum, naming the element.
     """
     for what, value, minimum in _series_fields(net):
+        if _all_within(value, -math.inf if minimum is None else minimum, math.inf):
+            continue
         v = _values(value)
         bad = ~np.isfinite(v)
         if bad.any():
@@ -336,7 +370,8 @@ def check_time_constants(net, *, stacklevel: int = 2) -> None:
     """
     gsum = dict.fromkeys(net.nodes, 0.0)
     for lk in net.links.values():
-        g = float(np.mean(_values(lk.conductance)))
+        g = lk.conductance
+        g = float(g) if isinstance(g, (int, float)) else float(np.mean(_values(g)))
         for end in (lk.a, lk.b):
             if end in gsum:
                 gsum[end] += g
@@ -375,10 +410,15 @@ def check_warmup(weather: pd.DataFrame, warmup_days: float, *, stacklevel: int =
     AccuracyWarning
         ``warmup_days`` (not the default) exceeds the weather's length (rows × step).
     """
-    n = len(weather.index)
+    index = weather.index
+    n = len(index)
     if n < 2 or not (isinstance(warmup_days, (int, float)) and math.isfinite(warmup_days)):
         return
-    step = (weather.index[1] - weather.index[0]).total_seconds()
+    if isinstance(index, pd.DatetimeIndex):    # integer labels: no Timestamps boxed
+        i8 = index.asi8
+        step = pd.Timedelta(int(i8[1] - i8[0]), unit=index.unit).total_seconds()
+    else:
+        step = (index[1] - index[0]).total_seconds()
     length_days = n * step / 86400.0
     if warmup_days > length_days + 1e-9 and warmup_days != DEFAULT_WARMUP_DAYS:
         warnings.warn(AccuracyWarning(

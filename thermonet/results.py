@@ -13,13 +13,20 @@ Conventions
 
 from __future__ import annotations
 
-from functools import cached_property
+from functools import cached_property, lru_cache
 
 import numpy as np
 import pandas as pd
 
 from thermonet.constants import J_PER_KWH
 from thermonet.errors import NetworkError
+
+
+@lru_cache(maxsize=256)
+def _column_index(names: tuple) -> pd.Index:
+    """The column index of a table with these names, built once (pandas infers the string
+    dtype of a list of names in ~20 µs; a year's table is built in ~10 µs)."""
+    return pd.Index(list(names))
 
 
 class Results:
@@ -115,7 +122,9 @@ class Results:
             pos = {c: i for i, c in enumerate(columns)}
             arr = arr[:, [pos[c] for c in order]]
             columns = order
-        return pd.DataFrame(arr, index=self.index, columns=columns, copy=False)
+        # a view of the cached index: renaming one table's columns leaves the others alone
+        return pd.DataFrame(arr, index=self.index, columns=_column_index(tuple(columns)).view(),
+                            copy=False)
 
     # ---------------------------------------------------------------- tables
     @cached_property

@@ -6,14 +6,28 @@ every input is held constant over its interval (zero-order hold).
 
 from __future__ import annotations
 
+import weakref
+
 import numpy as np
 import pandas as pd
 
 from thermonet.errors import ScheduleError
 
+#: Steps of indexes that passed :func:`check_index`, by ``id(index)``: (weak reference to
+#: the index, its step). A pandas Index is immutable, so an index checked once stays valid;
+#: an entry is dropped when its index is garbage-collected (the id may then be reused).
+_CHECKED: dict = {}
+
+
+def _forget(key: int) -> None:
+    _CHECKED.pop(key, None)
+
 
 def check_index(index: pd.DatetimeIndex, what: str = "weather") -> pd.Timedelta:
     """Check a simulation index and return its step.
+
+    An index that passed once is not checked again (indexes are immutable): its step is
+    remembered for as long as the index object lives.
 
     Parameters
     ----------
@@ -27,6 +41,9 @@ def check_index(index: pd.DatetimeIndex, what: str = "weather") -> pd.Timedelta:
     ScheduleError
         If the index is not a tz-aware, strictly increasing DatetimeIndex with a constant step.
     """
+    hit = _CHECKED.get(id(index))
+    if hit is not None and hit[0]() is index:
+        return hit[1]
     if not isinstance(index, pd.DatetimeIndex):
         raise ScheduleError(f"{what}: the index must be a pandas DatetimeIndex, got "
                             f"{type(index).__name__}")
@@ -48,7 +65,13 @@ def check_index(index: pd.DatetimeIndex, what: str = "weather") -> pd.Timedelta:
             f"{what}: irregular step: {pd.Timedelta(int(d[0]), 'ns')} then "
             f"{pd.Timedelta(int(d[i]), 'ns')} at {index[i + 1]} (a gap or uneven sampling); "
             "resample to a constant step first, e.g. df.resample('1h').mean()")
-    return pd.Timedelta(int(d[0]), "ns")
+    step = pd.Timedelta(int(d[0]), "ns")
+    key = id(index)
+    try:
+        _CHECKED[key] = (weakref.ref(index, lambda _ref, key=key: _forget(key)), step)
+    except TypeError:          # an index type without weak references: checked every time
+        pass
+    return step
 
 
 def align(series: pd.Series, index: pd.DatetimeIndex, what: str) -> np.ndarray:

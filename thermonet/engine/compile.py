@@ -109,7 +109,8 @@ def series_or_constant(value, weather: pd.DataFrame, factor: int, what: str,
         if value not in weather.columns:
             raise WeatherError(f"{what} uses weather column {value!r}, which is missing; "
                                f"columns: {', '.join(map(str, weather.columns))}")
-        col = np.asarray(weather[value], dtype=float)
+        col = weather[value]
+        col = col.to_numpy() if col.dtype == np.float64 else np.asarray(col, dtype=float)
         if not np.isfinite(col).all():
             i = int((~np.isfinite(col)).argmax())
             raise WeatherError(f"weather column {value!r} (used by {what}) has NaN/inf at "
@@ -355,7 +356,7 @@ def connected_to_boundary(nf: int, a: np.ndarray, b: np.ndarray, g: np.ndarray
     g : ndarray
         Link conductances [W/K].
     """
-    parent = np.arange(nf + 1)  # nf = virtual "any boundary" root
+    parent = list(range(nf + 1))  # nf = virtual "any boundary" root (Python ints: fast)
 
     def find(i):
         while parent[i] != i:
@@ -363,7 +364,8 @@ def connected_to_boundary(nf: int, a: np.ndarray, b: np.ndarray, g: np.ndarray
             i = parent[i]
         return i
 
-    for ai, bi, gi in zip(a, b, g, strict=True):
+    for ai, bi, gi in zip(np.asarray(a).tolist(), np.asarray(b).tolist(),
+                          np.asarray(g, dtype=float).tolist(), strict=True):
         if gi <= 0:
             continue
         ra = find(min(ai, nf))

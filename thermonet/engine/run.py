@@ -21,7 +21,8 @@ import numba
 import numpy as np
 
 from thermonet.engine import kernels
-from thermonet.engine.discretise import Discretised, discretise, phi1, phi2
+from thermonet.engine.discretise import Discretised, phi1, phi2
+from thermonet.engine.reuse import discretise_reused
 from thermonet.engine.start import apply_initial, steady_start, thermostat_rows
 from thermonet.errors import NetworkError
 
@@ -502,20 +503,21 @@ def operators(st, disc: Discretised, F: np.ndarray, bank: Bank, nodes: list,
     nin = st.nb + st.nsrc
     x = disc.lam * h
     a = np.exp(-x)
-    WT = np.swapaxes(disc.W, -1, -2) * F[..., None]
-    e1, e2 = h * phi1(x), h * phi2(x)
-    BT = WT * e1[:, :, None, :]
-    BTp = np.zeros_like(BT)
     r = np.zeros((V, st.nu), dtype=bool)
     r[:, :nin] = ramp
-    rr = r[:, None, :, None]
-    BT = np.where(rr, WT * e2[:, :, None, :], BT)
-    BTp = np.where(rr, WT * (e1 - e2)[:, :, None, :], BTp)
-    Qx = disc.Q.copy()
-    Pz = np.swapaxes(disc.Q, -1, -2) * disc.C[:, None, None, :]
     dense = disc.dense.copy()
     if node_coords:
         dense[:] = True
+    if dense.all():   # every state's operators are set densely below; the layout of Wᵀ
+        BT, BTp = np.swapaxes(np.zeros((2, V, ns, nc, st.nu)), -1, -2)  # (same sums below)
+    else:
+        WT = np.swapaxes(disc.W, -1, -2) * F[..., None]
+        e1, e2 = h * phi1(x), h * phi2(x)
+        rr = r[:, None, :, None]
+        BT = np.where(rr, WT * e2[:, :, None, :], WT * e1[:, :, None, :])
+        BTp = np.where(rr, WT * (e1 - e2)[:, :, None, :], 0.0)
+    Qx = disc.Q.copy()
+    Pz = np.swapaxes(disc.Q, -1, -2) * disc.C[:, None, None, :]
     Ad = np.zeros((V, ns, nc, nc) if dense.any() else (V, ns, 0, 0))
     for v, s in zip(*np.nonzero(dense), strict=True):
         Phi, Gam, _, Gambar, _ = disc.matrices(v, s)
@@ -657,9 +659,14 @@ class GroupRun:
     Q: np.ndarray | None = None
 
 
+_READY: list = []         # True once the compiled kernel is built (it then stays built)
+
+
 def kernel_ready() -> bool:
     """Whether the compiled kernel is built (or loaded from the on-disk cache) here."""
-    return bool(kernels.HAVE_NUMBA and kernels.step_modal_nb.signatures)
+    if not _READY and kernels.HAVE_NUMBA and kernels.step_modal_nb.signatures:
+        _READY.append(True)            # listing the signatures costs ~20 µs: ask until built
+    return bool(_READY)
 
 
 def compile_in_background(job) -> None:
@@ -886,7 +893,7 @@ def step_group(st, vals: list, store, warm: int, *, keep: bool, kernel: str = "a
     V = len(vals)
     C = np.array([p.C for p in vals]).reshape(V, st.nc)
     G = np.array([p.G for p in vals]).reshape(V, vals[0].n_states, st.nl)
-    disc = discretise(st, C, G, store.step_s)
+    disc = discretise_reused(st, C, G, store.step_s)    # an equal earlier one, or fresh
     errors = list(disc.errors)
     ok = np.array([e is None for e in errors], dtype=bool)
     bank = make_bank(st, vals, store, warm)

@@ -83,7 +83,9 @@ def effective_inputs(comp: Compiled, F: np.ndarray, S: np.ndarray, P: np.ndarray
         powers).
     """
     U = comp.U
-    U_end = U * (F[S[0]] if len(S) and (S == S[0]).all() else F[S])
+    f = F[S[0]] if len(S) and (S == S[0]).all() else F[S]
+    # a factor of exactly 1 leaves every value as it is: copy instead of multiplying
+    U_end = U.copy() if (f == 1.0).all() else U * f
     U_end[:, comp.nb + comp.nsrc:] = P
     if comp.st.nfl and Q is not None:
         U_end[:, comp.nb + comp.st.flow_src[:, 0]] = Q
