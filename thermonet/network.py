@@ -22,7 +22,7 @@ import pandas as pd
 from thermonet.constants import RHO_CP_AIR, STEFAN_BOLTZMANN, ZERO_CELSIUS
 from thermonet.controls import Condition
 from thermonet.errors import NetworkError, ParameterError, ReadOnlyError
-from thermonet.parameters import Expr, ScaledSeries, default, is_parametric, parameters_of
+from thermonet.parameters import Expr, ScaledSeries, default, parameters_of
 
 NODE_KINDS = ("air", "surface", "mass", "ground", "buffer")
 BOUNDARY_KINDS = ("air", "sky", "ground", "surface")

@@ -42,8 +42,8 @@ import pandas as pd
 
 from thermonet.errors import ParameterError
 
-__all__ = ["Expr", "Param", "ScaledSeries", "default", "evaluate", "is_parametric",
-           "parameters_of", "table_values"]
+__all__ = ["Expr", "Param", "ScaledSeries", "default", "evaluate", "evaluate_many",
+           "is_parametric", "parameters_of", "table_values"]
 
 _SYMBOL = {"add": "+", "sub": "-", "mul": "*", "div": "/", "pow": "**"}
 _PRECEDENCE = {"add": 1, "sub": 1, "mul": 2, "div": 2, "neg": 3, "pow": 4}
@@ -467,6 +467,32 @@ def evaluate(x, values, n: int | None = None) -> np.ndarray:
         raise ParameterError(f"no values for parameter(s) {missing} of {x!r}; the table has "
                              f"columns {sorted(cols)}")
     return np.broadcast_to(np.asarray(_eval(x, cols, {}), dtype=float), (n,)).copy()
+
+
+def evaluate_many(xs, values, n: int) -> list:
+    """:func:`evaluate` for several expressions sharing their common parts (one pass each).
+
+    Parameters
+    ----------
+    xs : sequence of Expr or float
+        The expressions.
+    values : mapping of str to ndarray (n,)
+        Each parameter's value per row [its unit] (e.g. from :func:`table_values`).
+    n : int
+        Number of rows.
+
+    Returns
+    -------
+    list of ndarray (n,)
+        One array per expression, in its unit.
+    """
+    cols = {str(k): np.asarray(v, dtype=float).reshape(-1) for k, v in values.items()}
+    missing = [p for p in parameters_of(*xs) if p not in cols]
+    if missing:
+        raise ParameterError(f"no values for parameter(s) {missing}; the table has columns "
+                             f"{sorted(cols)}")
+    memo: dict = {}
+    return [np.broadcast_to(np.asarray(_eval(x, cols, memo), dtype=float), (n,)) for x in xs]
 
 
 def table_values(params: Mapping, table: pd.DataFrame) -> dict:

@@ -149,9 +149,40 @@ _FORMAT = 1
 
 # ================================================================================ checks
 def _check_build(build):
+    from thermonet.network import Network
+
+    if isinstance(build, Network):
+        return
     if not callable(build):
-        raise TypeError(f"build must be a function returning a thermonet Network, got "
-                        f"{type(build).__name__}")
+        raise TypeError(f"build must be a function returning a thermonet Network, or a "
+                        f"parametric Network, got {type(build).__name__}")
+
+
+def _check_parametric(build, params: pd.DataFrame, weather) -> None:
+    """A parametric network: it has parameters, the table names exactly those, weather."""
+    from thermonet.network import Network
+    from thermonet.parameters import table_values
+
+    if not isinstance(build, Network):
+        return
+    if not build.parameters:
+        raise StudyError(f"network {build.name!r} has no parameters, so every row would be the "
+                         "same; declare parameters (thermonet.parameters.Param) where its "
+                         "numbers vary, or pass a build function")
+    if weather is None:
+        raise StudyError("a parametric network needs weather=")
+    table_values(build.parameters, params)
+
+
+def _build_name(build) -> str:
+    """How a study folder names its build function or parametric network."""
+    from thermonet.network import Network
+
+    if isinstance(build, Network):
+        ps = ", ".join(f"{k} [{p.unit}]" for k, p in build.parameters.items())
+        return f"parametric network {build.name!r} ({ps})"
+    return (f"{getattr(build, '__module__', '?')}."
+            f"{getattr(build, '__qualname__', type(build).__name__)}")
 
 
 def _check_params(params) -> pd.DataFrame:
@@ -272,9 +303,65 @@ def _run_chunk(build, params: pd.DataFrame, weather, sim: dict) -> pd.DataFrame:
     """Build and simulate the variants of one chunk (runs in a worker process or thread).
 
     Returns a table indexed like ``params``: result columns and an ``error`` column
-    (None where the variant finished).
+    (None where the variant finished). A parametric network in place of ``build`` runs
+    the rows without building a network per row (:func:`run_parametric_chunk`).
     """
+    from thermonet.network import Network
+
+    if isinstance(build, Network):
+        return run_parametric_chunk(build, params, weather, sim)
     return _simulate_chunk(_build_chunk(build, params), weather, sim)
+
+
+def run_parametric_chunk(net, params: pd.DataFrame, weather, sim: dict) -> pd.DataFrame:
+    """Run the rows of ``params`` on the parametric network ``net`` (one compile at the
+    defaults, the rows' numbers patched into copies of its arrays, one batch).
+
+    Parameters
+    ----------
+    net : Network
+        A network with parameters (:mod:`thermonet.parameters`).
+    params : pandas.DataFrame
+        One row per variant, one column per parameter [the parameter's unit].
+    weather : pandas.DataFrame
+        As for :func:`thermonet.simulate`.
+    sim : dict
+        Simulation options of :func:`run_variants` (``comfort_node``, ``hours_above``,
+        ``degree_hours_above``, ``balance_nodes``, ``link_energy``, ``warmup_days``,
+        ``step``, ``max_bytes``, ``interpolate``).
+
+    Returns
+    -------
+    pandas.DataFrame
+        Indexed like ``params``: the result columns of :func:`run_variants` and ``error``.
+    """
+    from thermonet.checks import check_weather_frame
+    from thermonet.engine.batch import run_values
+    from thermonet.engine.compile import ColumnStore, compile_parametric, parametric_values
+    from thermonet.parameters import table_values
+
+    n = len(params)
+    errs: list = [None] * n
+    cols: dict[str, np.ndarray] = {}
+    if weather is None:
+        errs = [_row_error("simulate", StudyError("a parametric network needs weather="))] * n
+    else:
+        values = table_values(net.parameters, params)
+        store = ColumnStore.for_weather(weather, sim.get("step"), sim.get("interpolate"))
+        check_weather_frame(weather, stacklevel=4)
+        pc = compile_parametric(net, store)
+        vals, verrs = parametric_values(pc, values, list(params.index))
+        vals = [v if e is None else e for v, e in zip(vals, verrs, strict=True)]
+        opts = {k: sim[k] for k in ("warmup_days", "comfort_node", "hours_above",
+                                     "degree_hours_above", "balance_nodes", "link_energy",
+                                     "max_bytes")}
+        with _gc_paused():
+            out = run_values(pc.st, vals, store, **opts)
+        cols = {k: out.table[k].to_numpy() for k in out.table.columns}
+        errs = [None if e is None else _row_error("simulate", e) for e in out.errors]
+    table = pd.DataFrame(cols, index=params.index)
+    table[ERROR] = pd.Series(errs, index=params.index, dtype=object)
+    return table
 
 
 # ============================================================================= executors
@@ -688,6 +775,7 @@ def run_variants(build, params: pd.DataFrame, weather: pd.DataFrame | None = Non
     params = _check_params(params)
     _check_weather(weather)
     _check_errors(errors)
+    _check_parametric(build, params, weather)
     if chunk_size is not None and (not isinstance(chunk_size, (int, np.integer))
                                    or chunk_size < 1):
         raise ValueError(f"chunk_size must be a positive integer [variants], got {chunk_size!r}")
@@ -698,8 +786,7 @@ def run_variants(build, params: pd.DataFrame, weather: pd.DataFrame | None = Non
     store = None
     keys = None
     if out is not None:
-        fp = {"build": f"{getattr(build, '__module__', '?')}."
-                       f"{getattr(build, '__qualname__', type(build).__name__)}",
+        fp = {"build": _build_name(build),
               "weather": _digest_frame(weather), "simulation": _json_safe(sim)}
         fp["simulation"].pop("max_bytes")
         store = _PartStore(out, fp)
