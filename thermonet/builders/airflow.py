@@ -12,6 +12,7 @@ from thermonet.builders.common import as_condition, check_num, check_zone
 from thermonet.controls import Condition, above, hours, warmer
 from thermonet.errors import NetworkError
 from thermonet.network import Network
+from thermonet.parameters import Expr
 
 __all__ = ["add_buffer_exchange", "add_infiltration", "add_ventilation", "add_window_opening",
            "infiltration_rate", "night_ventilation"]
@@ -32,8 +33,9 @@ def infiltration_rate(n50=None, *, q50=None, envelope_area=None, volume=None,
 
     Parameters
     ----------
-    n50 : float, optional
-        Air change rate at 50 Pa [1/h], ≥ 0.
+    n50 : float or Expr, optional
+        Air change rate at 50 Pa [1/h], ≥ 0; a parameter expression
+        (:mod:`thermonet.parameters`) gives the rate as an expression.
     q50 : float, optional
         Air permeability at 50 Pa [m³/(h·m²)] of the envelope area, with ``envelope_area``
         [m²] and ``volume`` [m³]: n50 = q50·A_E/V.
@@ -57,7 +59,7 @@ def infiltration_rate(n50=None, *, q50=None, envelope_area=None, volume=None,
 
     Returns
     -------
-    float
+    float or Expr
         Infiltration rate [1/h].
 
     Raises
@@ -89,10 +91,22 @@ def infiltration_rate(n50=None, *, q50=None, envelope_area=None, volume=None,
                            f"'several' or 'one', got {shielding!r}, {exposed_facades!r}")
     e, f = _SHIELDING_E[key], _SHIELDING_F[exposed_facades]
     dq = check_num(unbalanced_flow_m3h, "unbalanced_flow_m3h [m³/h]", low=0.0)
-    if dq == 0.0 or n50 == 0.0:
+    if dq == 0.0:
         return e * n50
     v = check_num(volume if volume is not None else -1.0, "volume [m³] (needed with an unbalanced "
              "flow)", low=0.0, low_open=True)
+
+    def unbalanced(n):
+        """n50 [1/h] → infiltration rate [1/h] with the unbalanced flow (0 stays 0)."""
+        n = np.asarray(n, dtype=float)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            out = n * e / (1.0 + (f / e) * (dq / (v * n)) ** 2)
+        return np.where(n == 0.0, 0.0, out)
+
+    if isinstance(n50, Expr):
+        return n50.apply(unbalanced, "infiltration_rate")
+    if n50 == 0.0:
+        return e * n50
     return n50 * e / (1.0 + (f / e) * (dq / (v * n50)) ** 2)
 
 
@@ -116,8 +130,9 @@ def add_infiltration(net: Network, zone, *, ach=None, flow_m3h=None, n50=None, q
         Infiltration air change rate [1/h].
     flow_m3h : float or pandas.Series, optional
         Infiltration airflow [m³/h].
-    n50 : float, optional
-        Air change rate at 50 Pa [1/h] (converted with :func:`infiltration_rate`).
+    n50 : float or Expr, optional
+        Air change rate at 50 Pa [1/h] (converted with :func:`infiltration_rate`); a
+        parameter expression (:mod:`thermonet.parameters`) varies it per row of a study.
     q50 : float, optional
         Air permeability at 50 Pa [m³/(h·m²)], with ``envelope_area``.
     envelope_area : float, optional
