@@ -40,10 +40,10 @@ from collections.abc import Mapping
 import numpy as np
 import pandas as pd
 
-from thermonet.errors import ParameterError
+from thermonet.errors import NetworkError, ParameterError
 
 __all__ = ["Expr", "Param", "ScaledSeries", "default", "evaluate", "evaluate_many",
-           "is_parametric", "parameters_of", "table_values"]
+           "is_parametric", "parameters_of", "refuse_parameters", "table_values"]
 
 _SYMBOL = {"add": "+", "sub": "-", "mul": "*", "div": "/", "pow": "**"}
 _PRECEDENCE = {"add": 1, "sub": 1, "mul": 2, "div": 2, "neg": 3, "pow": 4}
@@ -545,6 +545,28 @@ def table_values(params: Mapping, table: pd.DataFrame) -> dict:
                 + (f" ({int(bad.sum())} rows in all)" if bad.sum() > 1 else ""))
         out[name] = arr
     return out
+
+
+def refuse_parameters(net) -> None:
+    """Raise when ``net`` has parameters: one run needs plain numbers.
+
+    Parameters
+    ----------
+    net : Network
+        The network to be simulated or compiled on its own.
+
+    Raises
+    ------
+    NetworkError
+        The network has parameters (named), with the two ways to run it.
+    """
+    params = getattr(net, "parameters", None)
+    if params:
+        raise NetworkError(
+            f"network {net.name!r} has parameters {sorted(params)}: run it over a table of "
+            "their values with thermonet.studies.run_variants(net, table, weather), or simulate "
+            "one set of values with net.with_values(...) (the defaults: net.with_values())")
+
 
 
 # ========================================================================= readable form

@@ -541,10 +541,9 @@ def compile_structure(net, store: ColumnStore) -> Structure:
         No free node or no boundary.
     """
     if getattr(net, "parameters", None):
-        raise NetworkError(
-            f"network {net.name!r} has parameters {sorted(net.parameters)}: run it over a "
-            "table of their values with thermonet.studies.run_variants(net, table, weather), "
-            "or simulate one set of values with net.with_values(...)")
+        from thermonet.parameters import refuse_parameters
+
+        refuse_parameters(net)
     if not net.nodes:
         raise NetworkError("the network has no free nodes; add_node() first")
     if not net.boundaries:
@@ -1075,9 +1074,9 @@ def _row_arrays(pc: ParametricCompiled, ev: dict, R: int) -> dict:
 
 #: Allowed values per kind of parameter site: (text, vectorised test).
 _SITE_RULES = {
+    "G": ("a finite number ≥ 0 and ≤ 1e12 W/K", lambda v: (v >= 0) & (v <= 1e12)),
     "C": ("> 0 (the node is capacitive at the defaults)", lambda v: v > 0),
     "C0": ("0 (the node is massless at the defaults)", lambda v: v == 0),
-    "G": ("a finite number ≥ 0 and ≤ 1e12 W/K", lambda v: (v >= 0) & (v <= 1e12)),
     "lf": ("a finite number ≥ 0", lambda v: (v >= 0) & np.isfinite(v)),
     "sf": ("a finite number ≥ 0", lambda v: (v >= 0) & np.isfinite(v)),
     "scale": ("a finite number", np.isfinite),
