@@ -110,7 +110,7 @@ class Node(Element):
     name : str
     kind : str
         One of ``air, surface, mass, ground, buffer``.
-    capacitance : float
+    capacitance : float or Expr
         Heat capacity [J/K]; 0 means massless (solved algebraically).
     volume : float or None
         Air volume [m³], used by ``add_airflow(ach=...)``.
@@ -161,7 +161,7 @@ class Link(Element):
         Link name (the column of ``res.flows``).
     a, b : str
         First and second node; the flow is positive from ``a`` to ``b``.
-    conductance : float or pandas.Series
+    conductance : float, Expr or pandas.Series
         G [W/K].
     path : str
         Balance path.
@@ -198,7 +198,7 @@ class Source(Element):
         Source name (the column of ``res.sources``).
     node : str
         The free node that receives the heat.
-    power : float or pandas.Series
+    power : float, Expr, pandas.Series or ScaledSeries
         Heat into the node [W].
     path : str
         Balance path.
@@ -225,9 +225,9 @@ class Thermostat(Element):
         Thermostat name.
     node : str
         The controlled free node.
-    heating_setpoint, cooling_setpoint : float, pandas.Series or None
+    heating_setpoint, cooling_setpoint : float, Expr, pandas.Series or None
         Setpoints [°C].
-    max_heating_w, max_cooling_w : float
+    max_heating_w, max_cooling_w : float or Expr
         Capacities [W].
     """
 
@@ -256,7 +256,7 @@ class Switch(Element):
         Switch name.
     on, off : Condition
         Conditions that turn the switch on and (optionally) off.
-    link_factors, source_factors : dict of str to (float, float)
+    link_factors, source_factors : dict of str to (float or Expr, float or Expr)
         Target name -> (factor while off, factor while on) [-].
     initial : bool, default False
         State before the first step.
@@ -506,8 +506,10 @@ class Network:
             Unique name.
         kind : {"air", "surface", "mass", "ground", "buffer"}
             What the node stands for; airflow links need ``air`` or ``buffer``.
-        capacitance : float, default 0
-            Heat capacity [J/K], ≥ 0. Zero makes a massless node solved algebraically.
+        capacitance : float or Expr, default 0
+            Heat capacity [J/K], ≥ 0. Zero makes a massless node solved algebraically. A
+            parameter expression (:mod:`thermonet.parameters`) varies it per row of a study;
+            the node is capacitive or massless as at the expression's defaults.
         volume : float, optional
             Air volume [m³] for ``add_airflow(ach=...)``.
         initial : float, optional
@@ -576,8 +578,9 @@ class Network:
         ----------
         a, b : str
             Node or boundary names; the flow is positive from ``a`` to ``b``.
-        conductance : float or pandas.Series
-            G [W/K], ≥ 0; a Series schedules it (few distinct values).
+        conductance : float, Expr or pandas.Series
+            G [W/K], ≥ 0; a Series schedules it (few distinct values); a parameter
+            expression (:mod:`thermonet.parameters`) varies it per row of a study.
         path : str
             Heat-path label for the balance (``"opaque"``, ``"glazing"``, ...).
         name : str, optional
@@ -611,9 +614,9 @@ class Network:
             Air or buffer nodes, or boundaries of kind ``air``.
         path : str
             Heat-path label (``"infiltration"``, ``"ventilation"``, ...).
-        flow_m3h : float or Series, optional
-            Volume flow [m³/h].
-        ach : float or Series, optional
+        flow_m3h : float, Expr or Series, optional
+            Volume flow [m³/h] (a parameter expression varies it per row of a study).
+        ach : float, Expr or Series, optional
             Air changes per hour [1/h] of ``volume`` (default: the volume of the free air node).
         volume : float, optional
             Volume [m³] for ``ach``.
@@ -719,9 +722,12 @@ class Network:
         ----------
         node : str
             The free node that receives the heat.
-        power : float or pandas.Series
+        power : float, Expr, pandas.Series or ScaledSeries
             Heat into the node [W] (negative: heat taken out), constant or one value per step
-            on the weather index (a step mean).
+            on the weather index (a step mean). A parameter expression (a constant varied per
+            row) or a Series times an expression (``gain_per_m2 * area * g``, a
+            :class:`~thermonet.parameters.ScaledSeries`: the expression is the source's
+            factor) make it parametric (:mod:`thermonet.parameters`).
         path : str
             Balance path the heat is counted under (``"internal"``, ``"solar"`` ...).
         name : str, optional
@@ -760,9 +766,10 @@ class Network:
         ----------
         node : str
             The controlled node.
-        heating_setpoint, cooling_setpoint : float, Series or None
-            Setpoints [°C]; None disables heating or cooling. Heating ≤ cooling everywhere.
-        max_heating_w, max_cooling_w : float, default inf
+        heating_setpoint, cooling_setpoint : float, Expr, Series or None
+            Setpoints [°C]; None disables heating or cooling. Heating ≤ cooling everywhere
+            (checked per row for parameter expressions).
+        max_heating_w, max_cooling_w : float or Expr, default inf
             Capacity limits [W], > 0.
         name : str, optional
             Thermostat name; default ``"thermostat:<node>"``.
@@ -825,9 +832,9 @@ class Network:
         links : dict, optional
             ``{link name: factor}`` or ``{link name: (factor_off, factor_on)}``: the link's
             conductance is multiplied by ``factor_on`` while on and by ``factor_off`` (default
-            1) while off; factors ≥ 0. A window that is shut unless the switch is on:
-            ``{window: (0.0, 1.0)}``. Several switches on one link multiply (use ``|`` within
-            one switch's condition for "either").
+            1) while off; factors [-] ≥ 0, numbers or parameter expressions. A window that
+            is shut unless the switch is on: ``{window: (0.0, 1.0)}``. Several switches on
+            one link multiply (use ``|`` within one switch's condition for "either").
         sources : dict, optional
             Same for sources' powers (e.g. a blind admitting 20 % of solar: ``{sun: 0.2}``).
         initial : bool, default False
@@ -917,7 +924,8 @@ class Network:
 
     # ---------------------------------------------------------------- summary
     def summary(self) -> pd.DataFrame:
-        """Links as a table: name, a, b, kind, path, conductance [W/K] (mean if scheduled)."""
+        """Links as a table: name, a, b, kind, path, conductance [W/K] (mean if scheduled, at
+        the defaults if parametric)."""
         rows = [dict(name=l.name, a=l.a, b=l.b, kind=l.kind, path=l.path,
                      conductance_w_per_k=float(np.mean(np.asarray(default(l.conductance),
                                                                   dtype=float))))

@@ -386,8 +386,9 @@ def distribute_window_solar(z: ZoneBuild, distribution) -> None:
                 srcs.append(net.add_source(node, power=(gain * share).rename(None),
                                            path="solar", name=f"{tag}:solar>{node}"))
         rec.sources += srcs
-        if key is not None:
-            dev = next(w for w, _ in z.window_gains if w.name == key).shading
+        dev = None if key is None else next(w for w, _ in z.window_gains
+                                            if w.name == key).shading
+        if dev is not None and dev.control == "temperature":
             rec.switches.append(add_shading_switch(net, dev, srcs, f"{tag}:shading"))
 
 

@@ -706,14 +706,19 @@ def run_variants(build, params: pd.DataFrame, weather: pd.DataFrame | None = Non
 
     Parameters
     ----------
-    build : callable
+    build : callable or Network
         ``build(**row)`` → :class:`thermonet.Network`, called with one row's values as
         keyword arguments (column name → value). It may instead return a dict of named
         numbers: the row is then not simulated and those are its results (a model computed
-        outside thermonet, or an analytic function that checks a study's wiring).
+        outside thermonet, or an analytic function that checks a study's wiring). Or a
+        *parametric* network (:mod:`thermonet.parameters`): then no network is built per
+        row — it is compiled once at its defaults and each row's numbers are patched into
+        copies of its arrays (same columns as the ``build`` form; a row whose values fail a
+        check, e.g. a negative conductance, is reported in ``error`` naming the link).
     params : pandas.DataFrame
-        One row per variant, one column per argument of ``build``; the index labels the
-        variants (unique).
+        One row per variant, one column per argument of ``build`` (for a parametric network:
+        exactly one column per parameter, in its unit); the index labels the variants
+        (unique).
     weather : pandas.DataFrame, optional
         As for :func:`thermonet.simulate` (required when ``build`` returns networks).
     outputs : str or list of str, optional
@@ -764,6 +769,9 @@ def run_variants(build, params: pd.DataFrame, weather: pd.DataFrame | None = Non
 
     Raises
     ------
+    ParameterError
+        A parametric network's table has a column that is no parameter, lacks a parameter,
+        or holds a non-finite or out-of-bounds value (named with its row).
     StudyError
         Bad parameter table, unknown output names, a different study in ``out``, an
         unreadable part or ``study.json`` in ``out`` (named, with the fix), or (with
