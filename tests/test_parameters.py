@@ -320,3 +320,24 @@ def test_a_parametric_blind_factor_needs_a_switch():
     net.add_node("room", kind="air", capacitance=1e5)
     with pytest.raises(ParameterError, match="control='temperature'"):
         add_window(net, "room", Window("s", 2.0, 1.2, 0.5, shading=blind), weather=WEATHER)
+
+
+def test_traces_threads_and_resume_take_a_parametric_network(tmp_path):
+    """variant_traces gives each row's plain network; a thread pool and a resumed study
+    (out=) give the same table as one in-process call."""
+    from concurrent.futures import ThreadPoolExecutor
+
+    pnet = hand_room(**HAND_PARAMS)
+    assert repr(pnet).endswith("; parameters c_slab, ua, ach, aperture, heat_c, cool_c, "
+                               "vent_share, vent_on)")
+    table = hand_table(6)
+    traces = studies.variant_traces(pnet, table.iloc[[2]], WEATHER, warmup_days=WARMUP)
+    ref = tn.simulate(hand_room(**dict(table.iloc[2])), WEATHER, warmup_days=WARMUP)
+    assert rel_err(traces["v2"].temperatures.to_numpy(), ref.temperatures.to_numpy()) < 1e-9
+    base = studies.run_variants(pnet, table, WEATHER, **OPTS)
+    with ThreadPoolExecutor(2) as ex:
+        threaded = studies.run_variants(pnet, table, WEATHER, executor=ex, chunk_size=2, **OPTS)
+    pd.testing.assert_frame_equal(threaded, base)
+    studies.run_variants(pnet, table.head(3), WEATHER, out=tmp_path / "s", **OPTS)
+    resumed = studies.run_variants(pnet, table, WEATHER, out=tmp_path / "s", **OPTS)
+    pd.testing.assert_frame_equal(resumed, base, check_exact=False, rtol=1e-12)

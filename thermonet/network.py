@@ -939,9 +939,11 @@ class Network:
         return network_html(self)
 
     def __repr__(self):
+        params = (f"; parameters {', '.join(self.parameters)}" if getattr(self, "parameters",
+                                                                           None) else "")
         return (f"Network({self.name!r}: {len(self.nodes)} nodes, {len(self.boundaries)} "
                 f"boundaries, {len(self.links)} links, {len(self.sources)} sources, "
-                f"{len(self.thermostats)} thermostats, {len(self.switches)} switches)")
+                f"{len(self.thermostats)} thermostats, {len(self.switches)} switches{params})")
 
 
 def _substitute(x, row: dict, scale_series: bool):

@@ -885,7 +885,8 @@ def variant_traces(build, params: pd.DataFrame, weather: pd.DataFrame, *, step=N
     Parameters
     ----------
     build, params, weather, step, warmup_days
-        As for :func:`run_variants`; keep ``params`` to the few variants whose traces you
+        As for :func:`run_variants` (a parametric network gives each row's plain network,
+        ``net.with_values(row)``); keep ``params`` to the few variants whose traces you
         want (a year of a 10-node room with its flows is a few MB).
 
     Returns
@@ -894,12 +895,15 @@ def variant_traces(build, params: pd.DataFrame, weather: pd.DataFrame, *, step=N
         ``{row label: thermonet.Results}``; a variant that fails raises
         :class:`~thermonet.errors.StudyError` naming its row.
     """
+    from thermonet.network import Network
+
     _check_build(build)
     params = _check_params(params)
+    _check_parametric(build, params, weather)
     nets = []
     for label, kw in zip(params.index, params.to_dict("records"), strict=True):
         try:
-            nets.append(build(**kw))
+            nets.append(build.with_values(kw) if isinstance(build, Network) else build(**kw))
         except Exception as exc:
             raise StudyError(f"variant row {label!r} failed: {_row_error('build', exc)}") \
                 from exc
