@@ -341,3 +341,11 @@ def test_traces_threads_and_resume_take_a_parametric_network(tmp_path):
     studies.run_variants(pnet, table.head(3), WEATHER, out=tmp_path / "s", **OPTS)
     resumed = studies.run_variants(pnet, table, WEATHER, out=tmp_path / "s", **OPTS)
     pd.testing.assert_frame_equal(resumed, base, check_exact=False, rtol=1e-12)
+
+
+def test_a_row_with_heating_above_cooling_is_named():
+    pnet = hand_room(**HAND_PARAMS)
+    table = hand_table(3)
+    table.loc["v0", "heat_c"] = 27.0
+    with pytest.raises(StudyError, match="row 'v0'.*heating setpoint.*exceeds its cooling"):
+        studies.run_variants(pnet, table, WEATHER, errors="raise", **OPTS)

@@ -1165,13 +1165,14 @@ def parametric_values(pc: ParametricCompiled, values: dict, labels) -> tuple[lis
         err = row_errors.get(r)
         if err is None:
             ucols, hcols, ccols = _row_inputs(pc, r, ev)
-            for j in range(len(hcols)):
-                h, c = hcols[j], ccols[j]
-                if isinstance(h, float) and isinstance(c, float) and h > c:
+            for j in {pos for key in ("h", "c") for pos, _, _ in pc.sites[key]}:
+                h = np.asarray(pc.store.value(hcols[j]), dtype=float)
+                c = np.asarray(pc.store.value(ccols[j]), dtype=float)
+                if np.any(h > c):
                     err = ParameterError(
                         f"row {labels[r]!r}: thermostat {pc.st.thermostat_names[j]!r} heating "
-                        f"setpoint {h:g} °C exceeds its cooling setpoint {c:g} °C; keep "
-                        "heating ≤ cooling")
+                        f"setpoint ({np.max(h):g} °C at most) exceeds its cooling setpoint "
+                        f"({np.min(c):g} °C at least) in some step; keep heating ≤ cooling")
                     break
         if err is not None:
             errors[r] = err
