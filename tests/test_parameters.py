@@ -10,6 +10,7 @@ the ISO 6946 U-value of a wall worked by hand.
 from __future__ import annotations
 
 import math
+import pickle
 import warnings
 
 import numpy as np
@@ -266,7 +267,7 @@ def test_room_window_area_and_g_value_equal_one_by_one_builds():
 
 
 def test_a_window_larger_than_its_wall_in_one_row_names_the_row_and_link():
-    pnet = room_net(**ROOM_PARAMS)
+    pnet = pickle.loads(pickle.dumps(room_net(**ROOM_PARAMS)))   # (executors pickle it)
     table = room_table(3)
     table.loc[1, "area"] = 13.0                    # the south wall is 12 m²
     with warnings.catch_warnings():

@@ -19,6 +19,11 @@ must be written so (:func:`default`); comparing an expression with a number, or 
 into a plain float, raises an error naming its parameters, so that no row is silently run
 with another row's structure.
 
+A parametric network travels to process pools and dask workers by pickling: functions given
+to :meth:`Expr.apply` must then be importable (defined at module level, not a lambda).
+Model files hold plain numbers only (:func:`thermonet.io.save_model` refuses a parametric
+network; save ``net.with_values(...)``).
+
 Examples
 --------
 >>> from thermonet.parameters import Param, evaluate

@@ -5,6 +5,8 @@ ventilation) and air exchange with a buffer space. Each is one airflow link from
 
 from __future__ import annotations
 
+import functools
+
 import numpy as np
 import pandas as pd
 
@@ -24,6 +26,34 @@ _SHIELDING_E = {
     ("one", "none"): 0.03, ("one", "moderate"): 0.02, ("one", "heavy"): 0.01,
 }
 _SHIELDING_F = {"several": 15.0, "one": 20.0}
+
+
+def unbalanced_rate(n50, *, e: float, f: float, dq: float, volume: float) -> np.ndarray:
+    """Infiltration rate [1/h] from n50 with an unbalanced flow, element by element.
+
+    ``n = n50·e / (1 + (f/e)·(Δq/(V·n50))²)``, 0 where n50 = 0 (see
+    :func:`infiltration_rate`, which uses it for a parametric n50).
+
+    Parameters
+    ----------
+    n50 : array_like
+        Air change rates at 50 Pa [1/h], ≥ 0.
+    e, f : float
+        Shielding coefficient [-] and its companion factor [-] (ISO 13789, from memory).
+    dq : float
+        Unbalanced mechanical flow |supply − exhaust| [m³/h], > 0.
+    volume : float
+        Air volume V [m³], > 0.
+
+    Returns
+    -------
+    ndarray
+        Infiltration rates [1/h].
+    """
+    n = np.asarray(n50, dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        out = n * e / (1.0 + (f / e) * (dq / (volume * n)) ** 2)
+    return np.where(n == 0.0, 0.0, out)
 
 
 def infiltration_rate(n50=None, *, q50=None, envelope_area=None, volume=None,
@@ -95,16 +125,9 @@ def infiltration_rate(n50=None, *, q50=None, envelope_area=None, volume=None,
         return e * n50
     v = check_num(volume if volume is not None else -1.0, "volume [m³] (needed with an unbalanced "
              "flow)", low=0.0, low_open=True)
-
-    def unbalanced(n):
-        """n50 [1/h] → infiltration rate [1/h] with the unbalanced flow (0 stays 0)."""
-        n = np.asarray(n, dtype=float)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            out = n * e / (1.0 + (f / e) * (dq / (v * n)) ** 2)
-        return np.where(n == 0.0, 0.0, out)
-
-    if isinstance(n50, Expr):
-        return n50.apply(unbalanced, "infiltration_rate")
+    if isinstance(n50, Expr):    # (a partial of a module function: picklable for executors)
+        return n50.apply(functools.partial(unbalanced_rate, e=e, f=f, dq=dq, volume=v),
+                         "infiltration_rate")
     if n50 == 0.0:
         return e * n50
     return n50 * e / (1.0 + (f / e) * (dq / (v * n50)) ** 2)
