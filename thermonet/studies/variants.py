@@ -179,8 +179,14 @@ def _build_name(build) -> str:
     from thermonet.network import Network
 
     if isinstance(build, Network):
-        ps = ", ".join(f"{k} [{p.unit}]" for k, p in build.parameters.items())
-        return f"parametric network {build.name!r} ({ps})"
+        from thermonet.io.models import dumps
+
+        ps = ", ".join(f"{k} [{p.unit}] = {p!r}" for k, p in build.parameters.items())
+        try:      # the network at its defaults, so that a changed model is another study
+            digest = hashlib.sha256(dumps(build.with_values()).encode()).hexdigest()[:16]
+        except Exception as exc:  # noqa: BLE001 - a network no model file can hold
+            digest = f"unhashable ({type(exc).__name__})"
+        return f"parametric network {build.name!r} ({ps}; model {digest})"
     return (f"{getattr(build, '__module__', '?')}."
             f"{getattr(build, '__qualname__', type(build).__name__)}")
 
