@@ -93,6 +93,8 @@ class Expr:
             other = float(other)
         if _is_number(other):
             other = float(other)
+            if (op == "add" and other == 0.0) or (op == "mul" and other == 1.0):
+                return self        # x + 0 and x·1 are x exactly (e.g. the start of sum())
         elif not isinstance(other, Expr):
             if isinstance(other, np.ndarray):
                 raise ParameterError(

@@ -981,13 +981,19 @@ def _parameter_sites(net, st: Structure) -> dict:
         elif isinstance(src.power, Expr):
             sites["u"].append((st.nb + j, f"source {src.name!r} power [W]", src.power))
     for j, t in enumerate(net.thermostats.values()):
-        for key, v, unit in (("h", t.heating_setpoint, "°C"), ("c", t.cooling_setpoint, "°C"),
-                             ("qh", t.max_heating_w, "W"), ("qc", t.max_cooling_w, "W")):
+        for key, attr, unit in (("h", "heating_setpoint", "°C"), ("c", "cooling_setpoint", "°C"),
+                                ("qh", "max_heating_w", "W"), ("qc", "max_cooling_w", "W")):
+            v = getattr(t, attr)
             if isinstance(v, Expr):
-                sites[key].append((j, f"thermostat {t.name!r} {key} [{unit}]", v))
-    for i, term in enumerate(condition_terms(net)):
-        if isinstance(term.threshold, Expr):
-            sites["thr"].append((i, "switch condition threshold", term.threshold))
+                sites[key].append((j, f"thermostat {t.name!r} {attr} [{unit}]", v))
+    i = 0
+    for s in net.switches.values():          # the order of condition_terms(net)
+        for which, cond in (("on", s.on), ("off", s.off)):
+            for term in [t for clause in (cond.clauses if cond else ()) for t in clause]:
+                if isinstance(term.threshold, Expr):
+                    sites["thr"].append((i, f"switch {s.name!r} {which} threshold",
+                                         term.threshold))
+                i += 1
     return sites
 
 
@@ -1012,8 +1018,6 @@ def compile_parametric(net, store: ColumnStore) -> ParametricCompiled:
 
     Raises
     ------
-    ParameterError
-        A scheduled (Series) link that is also parametric.
     NetworkError, WeatherError, ScheduleError
         As :func:`compile_structure` and :func:`compile_values` at the defaults.
     """
