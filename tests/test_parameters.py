@@ -350,3 +350,18 @@ def test_a_row_with_heating_above_cooling_is_named():
     table.loc["v0", "heat_c"] = 27.0
     with pytest.raises(StudyError, match="row 'v0'.*heating setpoint.*exceeds its cooling"):
         studies.run_variants(pnet, table, WEATHER, errors="raise", **OPTS)
+
+
+def test_calibration_takes_a_parametric_network():
+    """Fitting ua and aperture of the parametric room gives the fit of the build function
+    (same trials, same numbers)."""
+    true = dict(HAND_DEFAULTS, ua=55.0, aperture=3.0)
+    sim = tn.simulate(hand_room(**true), WEATHER, warmup_days=WARMUP)
+    meas = sim.temperatures[["slab"]] + np.random.default_rng(2).normal(0.0, 0.05,
+                                                                          (len(WEATHER), 1))
+    spec = {"ua": (40.0, 1.0, 500.0), "aperture": (1.5, 0.0, 20.0)}
+    a = studies.calibrate(hand_room(**HAND_PARAMS), spec, WEATHER, meas, warmup_days=WARMUP)
+    b = studies.calibrate(lambda ua, aperture: hand_room(ua=ua, aperture=aperture), spec,
+                          WEATHER, meas, warmup_days=WARMUP)
+    assert rel_err(a.parameters["value"], b.parameters["value"]) < 1e-9
+    assert abs(a.parameters.at["ua", "value"] - 55.0) < 4 * a.parameters.at["ua", "std_error"]

@@ -1372,12 +1372,14 @@ def calibrate(build, parameters: Mapping, weather: pd.DataFrame, measured: pd.Da
 
     Parameters
     ----------
-    build : callable
+    build : callable or Network
         ``build(**values)`` → :class:`thermonet.Network`, called with the parameters being
         fitted as keyword arguments (fix the others with defaults or
         :func:`functools.partial`). Any number can be a parameter: conductances [W/K],
         capacitances [J/K], a solar aperture [m²] scaling an irradiance source, an
-        infiltration rate [1/h] ...
+        infiltration rate [1/h] ... Or a parametric network (:mod:`thermonet.parameters`):
+        each trial is ``net.with_values(values)`` (parameters not fitted keep their
+        defaults).
     parameters : dict
         ``{name: initial}`` or ``{name: (initial, low, high)}`` in the parameter's unit;
         bounds default to (−inf, inf).
@@ -1426,6 +1428,7 @@ def calibrate(build, parameters: Mapping, weather: pd.DataFrame, measured: pd.Da
     from scipy.optimize import least_squares
 
     from thermonet.engine.compile import sim_index
+    from thermonet.network import Network
 
     _check_build(build)
     if not isinstance(weather, pd.DataFrame):
@@ -1471,7 +1474,7 @@ def calibrate(build, parameters: Mapping, weather: pd.DataFrame, measured: pd.Da
     def build_net(p):
         kw = dict(zip(names, (float(v) for v in p), strict=True))
         try:
-            return build(**kw)
+            return build.with_values(kw) if isinstance(build, Network) else build(**kw)
         except Exception as exc:
             raise StudyError(f"calibrate: build failed at {kw}: {_row_error('build', exc)}") \
                 from exc
