@@ -365,3 +365,37 @@ def test_calibration_takes_a_parametric_network():
                           WEATHER, meas, warmup_days=WARMUP)
     assert rel_err(a.parameters["value"], b.parameters["value"]) < 1e-9
     assert abs(a.parameters.at["ua", "value"] - 55.0) < 4 * a.parameters.at["ua", "std_error"]
+
+
+def switched_room(ua=40.0, f=0.5, blind=0.3, qh=800.0):
+    """A scheduled link, a window switch acting on two links (one scheduled), a blind
+    switch on a solar source, a heating capacity."""
+    sched = pd.Series(np.where(WEATHER.index.hour % 6 < 3, 30.0, 60.0), index=WEATHER.index)
+    net = tn.Network()
+    net.add_boundary("out", temperature="temp_air")
+    net.add_node("room", kind="air", capacitance=2e5)
+    net.add_node("mass", kind="mass", capacitance=4e6)
+    net.add_link("room", "mass", conductance=100.0, path="internal")
+    net.add_link("out", "room", conductance=ua, path="opaque")
+    net.add_link("out", "room", conductance=sched, path="ventilation", name="sched")
+    sun = net.add_source("mass", power=WEATHER["ghi"] * 2.0, path="solar")
+    vent = net.add_airflow("out", "room", flow_m3h=200.0, path="window")
+    net.add_switch(on=tn.above("room", 22.0), links={vent: (0.0, f), "sched": (1.0, f)})
+    net.add_switch(on=tn.above("mass", 21.0), sources={sun: blind})
+    net.add_thermostat("room", heating_setpoint=19.0, max_heating_w=qh)
+    return net
+
+
+def test_switch_factors_with_scheduled_links_and_capacities_equal_builds():
+    params = dict(ua=Param("ua", 40.0, "W/K"), f=Param("f", 0.5), blind=Param("blind", 0.3),
+                  qh=Param("qh", 800.0, "W"))
+    rng = np.random.default_rng(0)
+    table = pd.DataFrame({"ua": rng.uniform(10, 80, 6), "f": rng.uniform(0, 1, 6),
+                          "blind": rng.uniform(0.1, 1, 6), "qh": rng.uniform(100, 2000, 6)})
+    opts = dict(warmup_days=WARMUP, comfort_node="room", balance_nodes=["room", "mass"],
+                link_energy=True, progress=False)
+    got = studies.run_variants(switched_room(**params), table, WEATHER, **opts)
+    ref = studies.run_variants(switched_room, table, WEATHER, **opts)
+    cols = [c for c in ref.columns if c not in table.columns and c != "error"]
+    assert got["error"].isna().all() and rel_err(got[cols], ref[cols]) < 1e-9
+    assert got["heating_kwh"].std() > 1.0
