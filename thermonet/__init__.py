@@ -3,9 +3,9 @@
 ``import thermonet as tn`` gives the public contract (:class:`Network`, :func:`simulate`,
 :class:`Results`, the switch conditions) and every public submodule: the physics modules
 (``tn.weather``, ``tn.solar``, ``tn.constructions``, ``tn.gains``, ``tn.comfort``), the model
-(``tn.network``, ``tn.schedules``, ``tn.controls``), the engine (``tn.engine``), and what is
-composed on top (``tn.results``, ``tn.periods``, ``tn.builders``, ``tn.studies``, ``tn.plots``,
-``tn.display``, ``tn.io``).
+(``tn.network``, ``tn.parameters``, ``tn.schedules``, ``tn.controls``), the engine
+(``tn.engine``), and what is composed on top (``tn.results``, ``tn.periods``,
+``tn.builders``, ``tn.studies``, ``tn.plots``, ``tn.display``, ``tn.io``).
 """
 
 __version__ = "0.1.0"
@@ -28,7 +28,8 @@ from thermonet.results import Results  # noqa: E402
 #: ``import thermonet`` stays quick; ``import thermonet.builders`` works as usual.
 SUBMODULES = ("airflow", "builders", "comfort", "constants", "constructions", "controls",
               "display", "engine", "errors", "gains", "io", "labels", "network", "occupancy",
-              "periods", "plots", "results", "schedules", "solar", "studies", "weather")
+              "parameters", "periods", "plots", "results", "schedules", "solar", "studies",
+              "weather")
 
 
 def __getattr__(name):
@@ -66,6 +67,7 @@ __all__ = [
     "labels",
     "network",
     "occupancy",
+    "parameters",
     "periods",
     "plots",
     "radiation_conductance",

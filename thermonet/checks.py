@@ -29,6 +29,7 @@ import pandas as pd
 
 from thermonet.constants import ZERO_CELSIUS
 from thermonet.errors import AccuracyWarning, NetworkError, PlausibilityWarning, WeatherError
+from thermonet.parameters import refuse_parameters
 
 __all__ = [
     "KELVIN_MEDIAN",
@@ -311,6 +312,7 @@ def check_network_values(net) -> None:
     NetworkError
         A NaN/inf value or a value below the element's minimum, naming the element.
     """
+    refuse_parameters(net)
     for what, value, minimum in _series_fields(net):
         if _all_within(value, -math.inf if minimum is None else minimum, math.inf):
             continue

@@ -52,6 +52,8 @@ import numpy as np
 
 from thermonet.constants import STEFAN_BOLTZMANN, ZERO_CELSIUS
 from thermonet.errors import ConstructionError
+from thermonet.parameters import Expr
+from thermonet.parameters import default as _default
 
 __all__ = [
     "DEFAULT_FRACTION_OF_PENETRATION_DEPTH",
@@ -101,6 +103,20 @@ _SOURCE_USERDECK = (
     "(userdeck.net '05.06 Material Properties', λ, ρ and c)"
 )
 _SOURCE_CIBSE = "CIBSE Guide A (2015) Table 3.36 [C] (scribd.com/document/852732613)"
+
+
+def _number(value):
+    """``value`` as a float, or a parameter expression kept as it is."""
+    return value if isinstance(value, Expr) else float(value)
+
+
+def _check_param(value, parameter: str, owner: str):
+    """A finite number as a float, or a parameter expression finite at its defaults (kept)."""
+    if isinstance(value, Expr):
+        _check_finite(value.default, f"{parameter} (the expression {value!r} at its defaults)",
+                      owner)
+        return value
+    return _check_finite(value, parameter, owner)
 
 
 def _check_finite(value, parameter: str, owner: str) -> float:
@@ -334,10 +350,13 @@ class Layer:
     material : Material, str or None
         The material, or its name in :data:`MATERIALS` (looked up at once). ``None`` for a
         resistive-only layer (air gap, membrane), which then needs ``resistance``.
-    thickness : float
+    thickness : float or Expr
         Thickness d [m]; > 0 for a material layer. For a resistive layer it only places the
-        following nodes geometrically (≥ 0; 0 allowed when unknown).
-    resistance : float, optional
+        following nodes geometrically (≥ 0; 0 allowed when unknown). A parameter expression
+        (:mod:`thermonet.parameters`, e.g. an insulation thickness varied in a study) keeps
+        the number of nodes of its default in :func:`rc_chain`; the capacities and
+        conductances of its cells follow the expression.
+    resistance : float or Expr, optional
         Thermal resistance R [m²K/W], ≥ 0, of a resistive-only (massless) layer, e.g. an
         unventilated air layer from ISO 6946 Table 8. Must be None for a material layer.
     name : str, optional
@@ -379,8 +398,8 @@ class Layer:
                     f"{owner}: give either a material (resistance d/λ follows from it) or a "
                     f"resistance for a massless layer, not both (resistance={self.resistance!r})."
                 )
-            d = _check_finite(self.thickness, "thickness [m]", owner)
-            if d <= 0.0:
+            d = _check_param(self.thickness, "thickness [m]", owner)
+            if _default(d) <= 0.0:
                 raise ConstructionError(
                     f"{owner}: thickness must be > 0 m, got {self.thickness!r}."
                 )
@@ -390,14 +409,14 @@ class Layer:
                     f"{owner}: a layer without material needs resistance [m²K/W] "
                     "(e.g. Layer.resistive(0.18) for an air gap)."
                 )
-            r = _check_finite(self.resistance, "resistance [m²K/W]", owner)
-            if r < 0.0:
+            r = _check_param(self.resistance, "resistance [m²K/W]", owner)
+            if _default(r) < 0.0:
                 raise ConstructionError(
                     f"{owner}: resistance must be ≥ 0 m²K/W, got {self.resistance!r}."
                 )
             object.__setattr__(self, "resistance", r)
-            d = _check_finite(self.thickness, "thickness [m]", owner)
-            if d < 0.0:
+            d = _check_param(self.thickness, "thickness [m]", owner)
+            if _default(d) < 0.0:
                 raise ConstructionError(
                     f"{owner}: thickness must be ≥ 0 m, got {self.thickness!r}."
                 )
@@ -435,8 +454,8 @@ class Layer:
 
     @property
     def is_massive(self) -> bool:
-        """True if the layer stores heat (ρ·c·d > 0)."""
-        return self.areal_heat_capacity > 0.0
+        """True if the layer stores heat (ρ·c·d > 0; at the defaults of a parameter)."""
+        return _default(self.areal_heat_capacity) > 0.0
 
 
 def _as_layer(item, index: int, construction: str) -> Layer:
@@ -875,7 +894,7 @@ def u_value(construction, direction="horizontal", rsi=None, rse=None, exterior=N
     c = _as_construction(construction)
     rsi_v, rse_v = _surface_pair(direction, exterior, rsi, rse)
     total = rsi_v + thermal_resistance(c) + rse_v
-    if total <= 0.0:
+    if _default(total) <= 0.0:
         raise ConstructionError(
             f"construction {c.name!r}: total thermal resistance is zero, U would be infinite."
         )
@@ -1312,24 +1331,34 @@ class RCChain:
     @property
     def total_capacitance(self) -> float:
         """Σ C [J/(m²K)], equal to Σ ρ c d of the construction."""
-        return float(sum(self.capacitances))
+        return _number(sum(self.capacitances))
 
     @property
     def total_resistance(self) -> float:
         """Σ 1/G surface to surface [m²K/W], equal to Σ d/λ + ΣR."""
-        return float(sum(1.0 / g for g in self.conductances))
+        return _number(sum(1.0 / g for g in self.conductances))
 
     def for_area(self, area: float) -> tuple[np.ndarray, np.ndarray]:
         """Node capacities [J/K] and link conductances [W/K] of an element of ``area`` [m²].
 
         Parameters
         ----------
-        area : float
+        area : float or Expr
             Element area [m²], > 0.
+
+        Returns
+        -------
+        capacities, conductances : ndarray, or lists of float and Expr
+            [J/K] and [W/K]; lists when the area or the chain depends on parameters
+            (:mod:`thermonet.parameters`; zero capacities stay plain zeros).
         """
-        a = _check_finite(area, "area [m²]", f"RC chain of {self.construction!r}")
-        if a <= 0.0:
+        a = _check_param(area, "area [m²]", f"RC chain of {self.construction!r}")
+        if _default(a) <= 0.0:
             raise ConstructionError(f"area must be > 0 m², got {area!r}.")
+        if isinstance(a, Expr) or any(isinstance(v, Expr) for v in
+                                      self.capacitances + self.conductances):
+            return ([0.0 if (not isinstance(c, Expr) and c == 0.0) else c * a
+                     for c in self.capacitances], [g * a for g in self.conductances])
         return np.asarray(self.capacitances) * a, np.asarray(self.conductances) * a
 
 
@@ -1359,7 +1388,7 @@ def _cells_for_layer(
     h = fraction * penetration_depth(m.conductivity, m.density, m.specific_heat, period)
     if max_h is not None:
         h = min(h, max_h)
-    return max(1, math.ceil(layer.thickness / h - 1e-9))
+    return max(1, math.ceil(_default(layer.thickness) / h - 1e-9))
 
 
 def rc_chain(
@@ -1517,9 +1546,9 @@ def rc_chain(
     for index, layer in enumerate(c.layers):
         if not layer.is_massive:
             pending_r += layer.thermal_resistance
-            x += layer.thickness
+            x += _default(layer.thickness)
             continue
-        if pending_r > 0.0:
+        if _default(pending_r) > 0.0:
             # massless layers before this one: new face node joined by their resistance
             conds.append(1.0 / pending_r)
             caps.append(0.0)
@@ -1530,17 +1559,18 @@ def rc_chain(
         m = layer.material
         h = layer.thickness / n
         half = 0.5 * m.volumetric_heat_capacity * h
+        d0 = _default(layer.thickness)
         for j in range(n):
             caps[-1] += half
             caps.append(half)
             conds.append(m.conductivity / h)
             # the last cell ends exactly at the layer's far face (x + d, not x + n·(d/n),
             # which may round past the next layer's start)
-            pos.append(x + layer.thickness if j == n - 1 else x + (j + 1) * h)
+            pos.append(x + d0 if j == n - 1 else x + (j + 1) * (d0 / n))
             labels.append(f"{layer.name} {j + 1}/{n}")
-        x += layer.thickness
-    if pending_r > 0.0 or len(caps) == 1:
-        if pending_r <= 0.0:
+        x += d0
+    if _default(pending_r) > 0.0 or len(caps) == 1:
+        if _default(pending_r) <= 0.0:
             raise ConstructionError(
                 f"construction {c.name!r} has neither heat capacity nor thermal resistance; "
                 "its surfaces would coincide."
@@ -1553,8 +1583,8 @@ def rc_chain(
     labels[-1] = "outside surface"
     return RCChain(
         construction=c.name,
-        capacitances=tuple(float(v) for v in caps),
-        conductances=tuple(float(v) for v in conds),
+        capacitances=tuple(_number(v) for v in caps),
+        conductances=tuple(_number(v) for v in conds),
         positions=tuple(float(v) for v in pos),
         labels=tuple(labels),
         inside_resistance=rsi_v,

@@ -25,6 +25,8 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
+from thermonet.parameters import Expr
+
 
 @dataclass(frozen=True)
 class Term:
@@ -38,8 +40,9 @@ class Term:
         What is compared (temperatures [°C] of nodes, or signal values).
     op : {">", "<"}
         Comparison.
-    threshold : float
-        Threshold of ``a − b`` in their unit ([K] for two nodes).
+    threshold : float or Expr
+        Threshold of ``a − b`` in their unit ([K] for two nodes); a parameter expression
+        (:mod:`thermonet.parameters`) varies it per row of a study.
     """
 
     a: object
@@ -106,7 +109,8 @@ class Condition:
     def __repr__(self):
         def term(t):
             b = "" if t.b is None else f" − {t.b}"
-            return f"({t.a}{b} {t.op} {t.threshold:g})"
+            thr = f"{t.threshold!r}" if isinstance(t.threshold, Expr) else f"{t.threshold:g}"
+            return f"({t.a}{b} {t.op} {thr})"
         return " | ".join(" & ".join(term(t) for t in c) for c in self.clauses)
 
 
@@ -118,6 +122,11 @@ def _ref(x):
     raise TypeError(f"a condition refers to a node/boundary name, a Signal or a Series; got {x!r}")
 
 
+def _threshold(x):
+    """A threshold as a float, or a parameter expression kept as it is."""
+    return x if isinstance(x, Expr) else float(x)
+
+
 def above(ref, threshold: float) -> Condition:
     """True while the temperature (or signal) of ``ref`` is above ``threshold``.
 
@@ -125,10 +134,11 @@ def above(ref, threshold: float) -> Condition:
     ----------
     ref : str or Signal
         Node name (its temperature [°C]) or a Signal (any unit).
-    threshold : float
-        Threshold in the unit of ``ref`` ([°C] for a node).
+    threshold : float or Expr
+        Threshold in the unit of ``ref`` ([°C] for a node); a parameter expression varies
+        it per row of a study (:mod:`thermonet.parameters`).
     """
-    return Condition([[Term(_ref(ref), None, ">", float(threshold))]])
+    return Condition([[Term(_ref(ref), None, ">", _threshold(threshold))]])
 
 
 def below(ref, threshold: float) -> Condition:
@@ -138,10 +148,11 @@ def below(ref, threshold: float) -> Condition:
     ----------
     ref : str or Signal
         Node name (its temperature [°C]) or a Signal (any unit).
-    threshold : float
-        Threshold in the unit of ``ref`` ([°C] for a node).
+    threshold : float or Expr
+        Threshold in the unit of ``ref`` ([°C] for a node); a parameter expression varies
+        it per row of a study (:mod:`thermonet.parameters`).
     """
-    return Condition([[Term(_ref(ref), None, "<", float(threshold))]])
+    return Condition([[Term(_ref(ref), None, "<", _threshold(threshold))]])
 
 
 def warmer(a, b, by: float = 0.0) -> Condition:
@@ -151,10 +162,10 @@ def warmer(a, b, by: float = 0.0) -> Condition:
     ----------
     a, b : str
         Node or boundary names.
-    by : float, default 0.0
+    by : float or Expr, default 0.0
         Required difference T_a − T_b [K].
     """
-    return Condition([[Term(_ref(a), _ref(b), ">", float(by))]])
+    return Condition([[Term(_ref(a), _ref(b), ">", _threshold(by))]])
 
 
 def colder(a, b, by: float = 0.0) -> Condition:
@@ -164,10 +175,10 @@ def colder(a, b, by: float = 0.0) -> Condition:
     ----------
     a, b : str
         Node or boundary names.
-    by : float, default 0.0
+    by : float or Expr, default 0.0
         Required difference T_b − T_a [K].
     """
-    return Condition([[Term(_ref(a), _ref(b), "<", -float(by))]])
+    return Condition([[Term(_ref(a), _ref(b), "<", -_threshold(by))]])
 
 
 def when(mask: pd.Series) -> Condition:

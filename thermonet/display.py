@@ -103,8 +103,11 @@ def network_tables(net) -> dict:
         ``"nodes"``: count and total capacitance [MJ/K] per node kind; ``"boundaries"``:
         count per kind; ``"links"``: count and total conductance UA [W/K] (mean over time when
         scheduled) per path and link kind; ``"sources"``: count and mean total power [W] per
-        path.
+        path. A network with parameters (:mod:`thermonet.parameters`) is shown at their
+        defaults.
     """
+    if getattr(net, "parameters", None):
+        net = net.with_values()
     nodes = pd.DataFrame([dict(kind=n.kind, C=n.capacitance) for n in net.nodes.values()],
                          columns=["kind", "C"])
     t_nodes = nodes.groupby("kind").agg(count=("C", "size"), C=("C", "sum"))

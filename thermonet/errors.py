@@ -47,6 +47,11 @@ class OutputFolderError(ThermonetError, ValueError):
     """A result folder cannot be written: not ours, locked by another run, or not a folder."""
 
 
+class ParameterError(ThermonetError, ValueError):
+    """A parameter of a parametric network, or a table of its values, is invalid (names the
+    parameter, the column or the row)."""
+
+
 class ReadOnlyError(ThermonetError, AttributeError):
     """An element of a network was changed after it was added (elements are read-only)."""
 

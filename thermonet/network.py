@@ -21,7 +21,8 @@ import pandas as pd
 
 from thermonet.constants import RHO_CP_AIR, STEFAN_BOLTZMANN, ZERO_CELSIUS
 from thermonet.controls import Condition
-from thermonet.errors import NetworkError, ReadOnlyError
+from thermonet.errors import NetworkError, ParameterError, ReadOnlyError
+from thermonet.parameters import Expr, ScaledSeries, default, parameters_of
 
 NODE_KINDS = ("air", "surface", "mass", "ground", "buffer")
 BOUNDARY_KINDS = ("air", "sky", "ground", "surface")
@@ -109,7 +110,7 @@ class Node(Element):
     name : str
     kind : str
         One of ``air, surface, mass, ground, buffer``.
-    capacitance : float
+    capacitance : float or Expr
         Heat capacity [J/K]; 0 means massless (solved algebraically).
     volume : float or None
         Air volume [m³], used by ``add_airflow(ach=...)``.
@@ -160,7 +161,7 @@ class Link(Element):
         Link name (the column of ``res.flows``).
     a, b : str
         First and second node; the flow is positive from ``a`` to ``b``.
-    conductance : float or pandas.Series
+    conductance : float, Expr or pandas.Series
         G [W/K].
     path : str
         Balance path.
@@ -198,7 +199,7 @@ class Source(Element):
         Source name (the column of ``res.sources``).
     node : str
         The free node that receives the heat.
-    power : float or pandas.Series
+    power : float, Expr, pandas.Series or ScaledSeries
         Heat into the node [W].
     path : str
         Balance path.
@@ -225,9 +226,9 @@ class Thermostat(Element):
         Thermostat name.
     node : str
         The controlled free node.
-    heating_setpoint, cooling_setpoint : float, pandas.Series or None
+    heating_setpoint, cooling_setpoint : float, Expr, pandas.Series or None
         Setpoints [°C].
-    max_heating_w, max_cooling_w : float
+    max_heating_w, max_cooling_w : float or Expr
         Capacities [W].
     """
 
@@ -256,7 +257,7 @@ class Switch(Element):
         Switch name.
     on, off : Condition
         Conditions that turn the switch on and (optionally) off.
-    link_factors, source_factors : dict of str to (float, float)
+    link_factors, source_factors : dict of str to (float or Expr, float or Expr)
         Target name -> (factor while off, factor while on) [-].
     initial : bool, default False
         State before the first step.
@@ -336,6 +337,8 @@ def _check_conductance(g, what):
     """Refuse conductances [W/K] above :data:`MAX_CONDUCTANCE` (constant or Series)."""
     if isinstance(g, float):  # the common case, without numpy's per-call overhead
         top = g
+    elif isinstance(g, Expr):
+        top = g.default
     else:
         top = float(np.max(np.asarray(g, dtype=float))) if np.size(g) else 0.0
     if top > MAX_CONDUCTANCE:
@@ -349,7 +352,23 @@ def _value(value, what, *, minimum=0.0, strict=False):
     """Validate a constant or a Series input."""
     if isinstance(value, pd.Series):
         return _check_series(value, what, minimum=minimum)
-    return _check_number(value, what, minimum=minimum, strict=strict)
+    if isinstance(value, ScaledSeries):
+        raise ParameterError(f"{what}: a series scaled by a parameter expression ({value!r}) "
+                             "is accepted as a source's power only; give a number, a Series or "
+                             "a parameter expression here")
+    return _param_number(value, what, minimum=minimum, strict=strict)
+
+
+def _param_number(value, what, *, minimum=0.0, strict=False, allow_inf=False):
+    """A number, or a parameter expression checked at its defaults (kept as it is)."""
+    if isinstance(value, Expr):
+        try:
+            _check_number(value.default, f"{what} (the expression {value!r} at its defaults)",
+                          minimum=minimum, strict=strict, allow_inf=allow_inf)
+        except NetworkError as exc:
+            raise ParameterError(str(exc)) from None
+        return value
+    return _check_number(value, what, minimum=minimum, strict=strict, allow_inf=allow_inf)
 
 
 def radiation_conductance(area, emissivity_a, emissivity_b, view_factor=1.0, *,
@@ -438,6 +457,18 @@ class Network:
         self.sources: dict[str, Source] = table("sources", "add_source")
         self.thermostats: dict[str, Thermostat] = table("thermostats", "add_thermostat")
         self.switches: dict[str, Switch] = table("switches", "add_switch")
+        #: Parameters the network's numbers depend on, by name (see
+        #: :mod:`thermonet.parameters`); empty for a plain network.
+        self.parameters: dict = ReadOnlyDict((), "net.parameters",
+                                             "parameters are declared by using them in add_*")
+
+    def _declare(self, *values) -> None:
+        """Record the parameters that ``values`` use (names must be unique)."""
+        for name, p in parameters_of(*values).items():
+            old = self.parameters.get(name)
+            if old is not None and old is not p:
+                parameters_of(old, p)          # refuses two different parameters of one name
+            self.parameters._store(name, p)
 
     # ------------------------------------------------------------------ names
     def _all_point_names(self):
@@ -476,8 +507,10 @@ class Network:
             Unique name.
         kind : {"air", "surface", "mass", "ground", "buffer"}
             What the node stands for; airflow links need ``air`` or ``buffer``.
-        capacitance : float, default 0
-            Heat capacity [J/K], ≥ 0. Zero makes a massless node solved algebraically.
+        capacitance : float or Expr, default 0
+            Heat capacity [J/K], ≥ 0. Zero makes a massless node solved algebraically. A
+            parameter expression (:mod:`thermonet.parameters`) varies it per row of a study;
+            the node is capacitive or massless as at the expression's defaults.
         volume : float, optional
             Air volume [m³] for ``add_airflow(ach=...)``.
         initial : float, optional
@@ -491,7 +524,8 @@ class Network:
         self._new_point(name, "node")
         if kind not in NODE_KINDS:
             raise NetworkError(f"node {name!r}: kind must be one of {NODE_KINDS}, got {kind!r}")
-        c = _check_number(capacitance, f"node {name!r} capacitance [J/K]")
+        c = _param_number(capacitance, f"node {name!r} capacitance [J/K]")
+        self._declare(c)
         if volume is not None:
             volume = _check_number(volume, f"node {name!r} volume [m³]", strict=True)
         if initial is not None:
@@ -545,8 +579,9 @@ class Network:
         ----------
         a, b : str
             Node or boundary names; the flow is positive from ``a`` to ``b``.
-        conductance : float or pandas.Series
-            G [W/K], ≥ 0; a Series schedules it (few distinct values).
+        conductance : float, Expr or pandas.Series
+            G [W/K], ≥ 0; a Series schedules it (few distinct values); a parameter
+            expression (:mod:`thermonet.parameters`) varies it per row of a study.
         path : str
             Heat-path label for the balance (``"opaque"``, ``"glazing"``, ...).
         name : str, optional
@@ -562,6 +597,7 @@ class Network:
         name = self._unique(self.links, name, f"{a}-{b}:{path}", "link")
         g = _check_conductance(_value(conductance, f"link {name!r} conductance [W/K]"),
                                f"link {name!r} conductance")
+        self._declare(g)
         self.links._store(name, Link(name, a, b, g, path))
         return name
 
@@ -579,9 +615,9 @@ class Network:
             Air or buffer nodes, or boundaries of kind ``air``.
         path : str
             Heat-path label (``"infiltration"``, ``"ventilation"``, ...).
-        flow_m3h : float or Series, optional
-            Volume flow [m³/h].
-        ach : float or Series, optional
+        flow_m3h : float, Expr or Series, optional
+            Volume flow [m³/h] (a parameter expression varies it per row of a study).
+        ach : float, Expr or Series, optional
             Air changes per hour [1/h] of ``volume`` (default: the volume of the free air node).
         volume : float, optional
             Volume [m³] for ``ach``.
@@ -627,6 +663,7 @@ class Network:
             flow = _value(flow_m3h, f"airflow {name!r} flow_m3h [m³/h]")
         g = flow * (rho_cp / 3600.0) * (1.0 - eta)  # m³/h → m³/s
         _check_conductance(g, f"airflow {name!r} conductance ρc_p·V̇·(1 − η)")
+        self._declare(g)
         params = {"flow_m3h": flow, "heat_recovery": eta, "rho_cp": rho_cp}
         self.links._store(name, Link(name, a, b, g, path, kind="airflow", params=params))
         return name
@@ -771,9 +808,12 @@ class Network:
         ----------
         node : str
             The free node that receives the heat.
-        power : float or pandas.Series
+        power : float, Expr, pandas.Series or ScaledSeries
             Heat into the node [W] (negative: heat taken out), constant or one value per step
-            on the weather index (a step mean).
+            on the weather index (a step mean). A parameter expression (a constant varied per
+            row) or a Series times an expression (``gain_per_m2 * area * g``, a
+            :class:`~thermonet.parameters.ScaledSeries`: the expression is the source's
+            factor) make it parametric (:mod:`thermonet.parameters`).
         path : str
             Balance path the heat is counted under (``"internal"``, ``"solar"`` ...).
         name : str, optional
@@ -792,8 +832,13 @@ class Network:
         name = self._unique(self.sources, name, f"{node}:{path}", "source")
         if isinstance(power, pd.Series):
             power = _check_series(power, f"source {name!r} power [W]")
+        elif isinstance(power, ScaledSeries):
+            power = ScaledSeries(_check_series(power.series, f"source {name!r} power [W]"),
+                                 _param_number(power.scale, f"source {name!r} power scale [-]",
+                                               minimum=-math.inf))
         else:
-            power = _check_number(power, f"source {name!r} power [W]", minimum=-math.inf)
+            power = _param_number(power, f"source {name!r} power [W]", minimum=-math.inf)
+        self._declare(power)
         self.sources._store(name, Source(name, node, power, path))
         return name
 
@@ -807,9 +852,10 @@ class Network:
         ----------
         node : str
             The controlled node.
-        heating_setpoint, cooling_setpoint : float, Series or None
-            Setpoints [°C]; None disables heating or cooling. Heating ≤ cooling everywhere.
-        max_heating_w, max_cooling_w : float, default inf
+        heating_setpoint, cooling_setpoint : float, Expr, Series or None
+            Setpoints [°C]; None disables heating or cooling. Heating ≤ cooling everywhere
+            (checked per row for parameter expressions).
+        max_heating_w, max_cooling_w : float or Expr, default inf
             Capacity limits [W], > 0.
         name : str, optional
             Thermostat name; default ``"thermostat:<node>"``.
@@ -842,17 +888,18 @@ class Network:
             elif isinstance(value, pd.Series):
                 sp[key] = _check_series(value, f"thermostat {name!r} {key} [°C]", minimum=-273.15)
             else:
-                sp[key] = _check_number(value, f"thermostat {name!r} {key} [°C]", minimum=-273.15)
+                sp[key] = _param_number(value, f"thermostat {name!r} {key} [°C]", minimum=-273.15)
         if sp["heating_setpoint"] is not None and sp["cooling_setpoint"] is not None:
-            h = np.asarray(sp["heating_setpoint"], dtype=float)
-            c = np.asarray(sp["cooling_setpoint"], dtype=float)
+            h = np.asarray(default(sp["heating_setpoint"]), dtype=float)
+            c = np.asarray(default(sp["cooling_setpoint"]), dtype=float)
             if np.any(h > c):
                 raise NetworkError(f"thermostat {name!r}: heating_setpoint exceeds "
                                    "cooling_setpoint; keep heating ≤ cooling")
-        qh = _check_number(max_heating_w, f"thermostat {name!r} max_heating_w [W]", strict=True,
+        qh = _param_number(max_heating_w, f"thermostat {name!r} max_heating_w [W]", strict=True,
                            allow_inf=True)
-        qc = _check_number(max_cooling_w, f"thermostat {name!r} max_cooling_w [W]", strict=True,
+        qc = _param_number(max_cooling_w, f"thermostat {name!r} max_cooling_w [W]", strict=True,
                            allow_inf=True)
+        self._declare(sp["heating_setpoint"], sp["cooling_setpoint"], qh, qc)
         self.thermostats._store(name, Thermostat(name, node, sp["heating_setpoint"],
                                                  sp["cooling_setpoint"], qh, qc))
         return name
@@ -871,9 +918,9 @@ class Network:
         links : dict, optional
             ``{link name: factor}`` or ``{link name: (factor_off, factor_on)}``: the link's
             conductance is multiplied by ``factor_on`` while on and by ``factor_off`` (default
-            1) while off; factors ≥ 0. A window that is shut unless the switch is on:
-            ``{window: (0.0, 1.0)}``. Several switches on one link multiply (use ``|`` within
-            one switch's condition for "either").
+            1) while off; factors [-] ≥ 0, numbers or parameter expressions. A window that
+            is shut unless the switch is on: ``{window: (0.0, 1.0)}``. Several switches on
+            one link multiply (use ``|`` within one switch's condition for "either").
         sources : dict, optional
             Same for sources' powers (e.g. a blind admitting 20 % of solar: ``{sun: 0.2}``).
         initial : bool, default False
@@ -898,8 +945,8 @@ class Network:
             raise NetworkError("a switch needs links= and/or sources= to act on")
         def pair(f, what):
             off, on_ = (1.0, f) if not isinstance(f, (tuple, list)) else tuple(f)
-            return (_check_number(off, f"{what} factor_off"),
-                    _check_number(on_, f"{what} factor_on"))
+            return (_param_number(off, f"{what} factor_off"),
+                    _param_number(on_, f"{what} factor_on"))
 
         for ln, f in links.items():
             if ln not in self.links:
@@ -916,14 +963,58 @@ class Network:
                 for ref in cond.node_refs():
                     self._known(ref, "switch condition node")
         name = self._unique(self.switches, name, "switch", "switch")
+        self._declare(*[f for pair_ in (*links.values(), *sources.values()) for f in pair_],
+                      *[t.threshold for c in (on, off) if c is not None for t in c.terms()])
         self.switches._store(name, Switch(name, on, off, links, sources, bool(initial)))
         return name
 
+    # ------------------------------------------------------------- parameters
+    def with_values(self, values=None, *, scale_series: bool = True, **kwargs) -> Network:
+        """A plain copy of this network with its parameters replaced by numbers.
+
+        Parameters
+        ----------
+        values : mapping of str to float, optional
+            Parameter name -> value [the parameter's unit]; parameters not given keep their
+            defaults (:mod:`thermonet.parameters`).
+        scale_series : bool, default True
+            False: a source whose power is a series × an expression gets the series alone
+            (the compiler of a parametric network carries the scale in the source's factor).
+        **kwargs : float
+            More parameter values by name (as ``values``).
+
+        Returns
+        -------
+        Network
+            A network without parameters (the element records are new; Series, conditions'
+            signals and the ``meta`` dict's plain values are shared).
+
+        Raises
+        ------
+        ParameterError
+            A name that is no parameter of the network (the known names are listed).
+        """
+        vals = dict(values or {}, **kwargs)
+        unknown = [k for k in vals if k not in self.parameters]
+        if unknown:
+            raise ParameterError(f"{unknown} are not parameters of network {self.name!r}; its "
+                                 f"parameters: {sorted(self.parameters)}")
+        row = {k: np.asarray([float(vals.get(k, p.default))]) for k, p in self.parameters.items()}
+        out = Network(self.name)
+        if hasattr(self, "meta"):
+            out.meta = _substitute(self.meta, row, True)
+        for attr in ("nodes", "boundaries", "links", "sources", "thermostats", "switches"):
+            for k, el in getattr(self, attr).items():
+                getattr(out, attr)._store(k, _substitute(el, row, scale_series))
+        return out
+
     # ---------------------------------------------------------------- summary
     def summary(self) -> pd.DataFrame:
-        """Links as a table: name, a, b, kind, path, conductance [W/K] (mean if scheduled)."""
+        """Links as a table: name, a, b, kind, path, conductance [W/K] (mean if scheduled, at
+        the defaults if parametric)."""
         rows = [dict(name=l.name, a=l.a, b=l.b, kind=l.kind, path=l.path,
-                     conductance_w_per_k=float(np.mean(np.asarray(l.conductance, dtype=float))))
+                     conductance_w_per_k=float(np.mean(np.asarray(default(l.conductance),
+                                                                  dtype=float))))
                 for l in self.links.values()]
         return pd.DataFrame(rows)
 
@@ -934,6 +1025,33 @@ class Network:
         return network_html(self)
 
     def __repr__(self):
+        params = (f"; parameters {', '.join(self.parameters)}" if getattr(self, "parameters",
+                                                                           None) else "")
         return (f"Network({self.name!r}: {len(self.nodes)} nodes, {len(self.boundaries)} "
                 f"boundaries, {len(self.links)} links, {len(self.sources)} sources, "
-                f"{len(self.thermostats)} thermostats, {len(self.switches)} switches)")
+                f"{len(self.thermostats)} thermostats, {len(self.switches)} switches{params})")
+
+
+def _substitute(x, row: dict, scale_series: bool):
+    """``x`` with every parameter expression evaluated on the one-row table ``row``."""
+    import dataclasses
+
+    from thermonet.controls import Term
+    from thermonet.parameters import evaluate
+
+    if isinstance(x, Expr):
+        return float(evaluate(x, row, 1)[0])
+    if isinstance(x, ScaledSeries):
+        return x.series * _substitute(x.scale, row, True) if scale_series else x.series
+    if isinstance(x, Element):
+        kw = {f.name: _substitute(getattr(x, f.name), row, scale_series)
+              for f in dataclasses.fields(x)}
+        return type(x)(**kw)
+    if isinstance(x, Condition):
+        return Condition([[Term(t.a, t.b, t.op, _substitute(t.threshold, row, True))
+                           for t in clause] for clause in x.clauses])
+    if isinstance(x, (dict, ReadOnlyDict)):
+        return {k: _substitute(v, row, scale_series) for k, v in x.items()}
+    if isinstance(x, (list, tuple)):
+        return type(x)(_substitute(v, row, scale_series) for v in x)
+    return x

@@ -43,6 +43,8 @@ import pandas as pd
 import pvlib
 
 from thermonet.errors import NetworkError, ScheduleError, WeatherError
+from thermonet.parameters import Expr
+from thermonet.parameters import default as _default
 
 __all__ = [
     "DEFAULT_ALBEDO",
@@ -1607,10 +1609,11 @@ class MovableShading:
 
     Parameters
     ----------
-    factor : float
+    factor : float or Expr
         Share of the transmitted solar gain still admitted when deployed [-], 0 … 1
         (external venetian blinds about 0.15–0.25, internal blinds 0.5–0.7; common
-        practice, no source).
+        practice, no source). A parameter expression (:mod:`thermonet.parameters`) varies
+        it per row of a study, with ``control="temperature"`` only (a switch factor).
     control : {"irradiance", "temperature", "schedule"}, default "irradiance"
         ``"irradiance"``: by the irradiance on the window, decidable from the weather
         (:meth:`deployed`). ``"temperature"``: by the temperature of ``node`` — stored
@@ -1637,7 +1640,7 @@ class MovableShading:
     schedule: pd.Series | None = None
 
     def __post_init__(self) -> None:
-        _finite_number("MovableShading factor", self.factor, 0.0, 1.0)
+        _finite_number("MovableShading factor", _default(self.factor), 0.0, 1.0)
         if self.control not in _CONTROLS:
             raise NetworkError(f"MovableShading control must be one of {list(_CONTROLS)}, got "
                                f"{self.control!r}")
@@ -1647,8 +1650,8 @@ class MovableShading:
                 raise NetworkError(f"{self.control} control needs on_above and off_below "
                                    f"[{unit}]")
             low = 0.0 if self.control == "irradiance" else -100.0
-            on = _finite_number("on_above", self.on_above, low)
-            off = _finite_number("off_below", self.off_below, low)
+            on = _finite_number("on_above", _default(self.on_above), low)
+            off = _finite_number("off_below", _default(self.off_below), low)
             if off > on:
                 raise NetworkError(f"off_below ({off:g} {unit}) must not exceed on_above "
                                    f"({on:g} {unit})")
@@ -1727,13 +1730,23 @@ class MovableShading:
 _SHARE_METHODS = ("floor", "area")
 
 
+def _surface_area(name, area):
+    """A receiver's area [m²] (> 0), or a parameter expression checked at its defaults."""
+    if isinstance(area, Expr):
+        _finite_number(f"area of surface {name!r} (the expression {area!r} at its defaults)",
+                       area.default, 0.0, math.inf, low_open=True)
+        return area
+    return _finite_number(f"area of surface {name!r}", area, 0.0, math.inf, low_open=True)
+
+
 def solar_shares(surfaces, *, floor="floor", air="air", method="floor"):
     """Default shares of transmitted solar per receiving surface of a room [-].
 
     Parameters
     ----------
-    surfaces : mapping of str to float
-        Room surfaces (receivers) and their areas [m²], > 0.
+    surfaces : mapping of str to float or Expr
+        Room surfaces (receivers) and their areas [m²], > 0; with parameter expressions
+        (:mod:`thermonet.parameters`) the shares are expressions too.
     floor : str, default "floor"
         Name of the floor in ``surfaces`` (``method="floor"``).
     air : str, default "air"
@@ -1762,8 +1775,7 @@ def solar_shares(surfaces, *, floor="floor", air="air", method="floor"):
     """
     if not isinstance(surfaces, Mapping) or not surfaces:
         raise NetworkError("surfaces must be a non-empty mapping name -> area [m²]")
-    areas = {str(k): _finite_number(f"area of surface {k!r}", v, 0.0, math.inf,
-                                    low_open=True) for k, v in surfaces.items()}
+    areas = {str(k): _surface_area(k, v) for k, v in surfaces.items()}
     if air in areas:
         raise NetworkError(f"surface name {air!r} clashes with the air receiver; rename it or "
                            "pass air='...'")

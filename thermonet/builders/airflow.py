@@ -5,6 +5,8 @@ ventilation) and air exchange with a buffer space. Each is one airflow link from
 
 from __future__ import annotations
 
+import functools
+
 import numpy as np
 import pandas as pd
 
@@ -12,6 +14,7 @@ from thermonet.builders.common import as_condition, check_num, check_zone
 from thermonet.controls import Condition, above, hours, warmer
 from thermonet.errors import NetworkError
 from thermonet.network import Network
+from thermonet.parameters import Expr
 
 __all__ = ["add_buffer_exchange", "add_infiltration", "add_ventilation", "add_window_opening",
            "infiltration_rate", "night_ventilation"]
@@ -25,6 +28,34 @@ _SHIELDING_E = {
 _SHIELDING_F = {"several": 15.0, "one": 20.0}
 
 
+def unbalanced_rate(n50, *, e: float, f: float, dq: float, volume: float) -> np.ndarray:
+    """Infiltration rate [1/h] from n50 with an unbalanced flow, element by element.
+
+    ``n = n50·e / (1 + (f/e)·(Δq/(V·n50))²)``, 0 where n50 = 0 (see
+    :func:`infiltration_rate`, which uses it for a parametric n50).
+
+    Parameters
+    ----------
+    n50 : array_like
+        Air change rates at 50 Pa [1/h], ≥ 0.
+    e, f : float
+        Shielding coefficient [-] and its companion factor [-] (ISO 13789, from memory).
+    dq : float
+        Unbalanced mechanical flow |supply − exhaust| [m³/h], > 0.
+    volume : float
+        Air volume V [m³], > 0.
+
+    Returns
+    -------
+    ndarray
+        Infiltration rates [1/h].
+    """
+    n = np.asarray(n50, dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        out = n * e / (1.0 + (f / e) * (dq / (volume * n)) ** 2)
+    return np.where(n == 0.0, 0.0, out)
+
+
 def infiltration_rate(n50=None, *, q50=None, envelope_area=None, volume=None,
                       method: str = "iso13789", shielding: str = "moderate",
                       exposed_facades: str = "several", unbalanced_flow_m3h: float = 0.0):
@@ -32,8 +63,9 @@ def infiltration_rate(n50=None, *, q50=None, envelope_area=None, volume=None,
 
     Parameters
     ----------
-    n50 : float, optional
-        Air change rate at 50 Pa [1/h], ≥ 0.
+    n50 : float or Expr, optional
+        Air change rate at 50 Pa [1/h], ≥ 0; a parameter expression
+        (:mod:`thermonet.parameters`) gives the rate as an expression.
     q50 : float, optional
         Air permeability at 50 Pa [m³/(h·m²)] of the envelope area, with ``envelope_area``
         [m²] and ``volume`` [m³]: n50 = q50·A_E/V.
@@ -57,7 +89,7 @@ def infiltration_rate(n50=None, *, q50=None, envelope_area=None, volume=None,
 
     Returns
     -------
-    float
+    float or Expr
         Infiltration rate [1/h].
 
     Raises
@@ -89,10 +121,15 @@ def infiltration_rate(n50=None, *, q50=None, envelope_area=None, volume=None,
                            f"'several' or 'one', got {shielding!r}, {exposed_facades!r}")
     e, f = _SHIELDING_E[key], _SHIELDING_F[exposed_facades]
     dq = check_num(unbalanced_flow_m3h, "unbalanced_flow_m3h [m³/h]", low=0.0)
-    if dq == 0.0 or n50 == 0.0:
+    if dq == 0.0:
         return e * n50
     v = check_num(volume if volume is not None else -1.0, "volume [m³] (needed with an unbalanced "
              "flow)", low=0.0, low_open=True)
+    if isinstance(n50, Expr):    # (a partial of a module function: picklable for executors)
+        return n50.apply(functools.partial(unbalanced_rate, e=e, f=f, dq=dq, volume=v),
+                         "infiltration_rate")
+    if n50 == 0.0:
+        return e * n50
     return n50 * e / (1.0 + (f / e) * (dq / (v * n50)) ** 2)
 
 
@@ -116,8 +153,9 @@ def add_infiltration(net: Network, zone, *, ach=None, flow_m3h=None, n50=None, q
         Infiltration air change rate [1/h].
     flow_m3h : float or pandas.Series, optional
         Infiltration airflow [m³/h].
-    n50 : float, optional
-        Air change rate at 50 Pa [1/h] (converted with :func:`infiltration_rate`).
+    n50 : float or Expr, optional
+        Air change rate at 50 Pa [1/h] (converted with :func:`infiltration_rate`); a
+        parameter expression (:mod:`thermonet.parameters`) varies it per row of a study.
     q50 : float, optional
         Air permeability at 50 Pa [m³/(h·m²)], with ``envelope_area``.
     envelope_area : float, optional

@@ -20,6 +20,7 @@ from thermonet.constructions import Construction
 from thermonet.controls import Condition, when
 from thermonet.errors import ConstructionError, NetworkError, WeatherError
 from thermonet.network import Network
+from thermonet.parameters import Expr
 
 __all__ = ["META_KEY"]
 
@@ -32,9 +33,12 @@ def check_num(value, what, *, low=None, high=None, low_open=False, high_open=Fal
               error=NetworkError) -> float:
     """``value`` as a finite float within [low, high] (open ends on request), else raise.
 
+    A parameter expression (:mod:`thermonet.parameters`) is checked at its defaults and
+    returned as it is.
+
     Parameters
     ----------
-    value : int or float
+    value : int, float or Expr
         The number to check [unit as ``what`` says].
     what : str
         Its description with unit, used in the message, e.g. ``"room 'a': height [m]"``.
@@ -47,8 +51,12 @@ def check_num(value, what, *, low=None, high=None, low_open=False, high_open=Fal
 
     Returns
     -------
-    float
+    float or Expr
     """
+    if isinstance(value, Expr):
+        check_num(value.default, f"{what} (the expression {value!r} at its defaults)", low=low,
+                  high=high, low_open=low_open, high_open=high_open, error=error)
+        return value
     if isinstance(value, bool) or not isinstance(value, (int, float, np.integer, np.floating)):
         raise TypeError(f"{what} must be a number, got {type(value).__name__} {value!r}")
     v = float(value)
@@ -59,6 +67,17 @@ def check_num(value, what, *, low=None, high=None, low_open=False, high_open=Fal
     if high is not None and (v > high or (high_open and v == high)):
         raise error(f"{what} must be {'<' if high_open else '≤'} {high:g}, got {value!r}")
     return v
+
+
+def number(value):
+    """``value`` as a float, or a parameter expression kept as it is (for arithmetic).
+
+    Parameters
+    ----------
+    value : float or Expr
+        A number [any unit].
+    """
+    return value if isinstance(value, Expr) else float(value)
 
 
 def check_orientation(tilt, azimuth, what):

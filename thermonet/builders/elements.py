@@ -16,6 +16,7 @@ from thermonet import solar as _solar
 from thermonet.builders.common import (
     check_num,
     check_orientation,
+    number,
     outdoor_boundary,
     resolve_construction,
     site_solar_position,
@@ -29,10 +30,16 @@ from thermonet.builders.surfaces import (
     add_positive_link,
     heat_flow_direction,
 )
-from thermonet.builders.windows import Window, check_window, window_solar_gain
+from thermonet.builders.windows import (
+    Window,
+    check_parametric_g,
+    check_window,
+    window_solar_gain,
+)
 from thermonet.constructions import Construction, RCChain, rc_chain, surface_resistances
 from thermonet.errors import NetworkError
 from thermonet.network import Network
+from thermonet.parameters import default
 
 __all__ = ["Adjacent", "Element"]
 
@@ -130,8 +137,8 @@ class ElementPlan:
         [°].
     area : float
         Gross area [m²].
-    window_area : float
-        Sum of its windows and doors [m²].
+    window_area : float or Expr
+        Sum of its windows and doors [m²] (an expression when a window's area is one).
     direction : {"up", "horizontal", "down"}
         ISO 6946 direction of heat flow.
     chain : RCChain or None
@@ -143,7 +150,7 @@ class ElementPlan:
     tilt: float
     azimuth: float
     area: float
-    window_area: float
+    window_area: object
     direction: str
     chain: RCChain | None
 
@@ -191,12 +198,13 @@ def plan_element(net: Network, room: str, elem, seen: set, soil: Soil, construct
     if elem.boundary == "ground":
         check_ground_element(elem, soil, direction, tilt, ew)
     check_window_films(elem, direction)
-    chain = rc_chain(cons, **rc_options) if area - a_win > 1e-12 * area else None
+    chain = rc_chain(cons, **rc_options) if default(area - a_win) > 1e-12 * area else None
     return ElementPlan(elem, cons, tilt, az, area, a_win, direction, chain)
 
 
 def check_element_windows(elem: Element, seen: set, area: float, what: str, ew: str) -> float:
-    """Check the windows and doors of ``elem`` and return their total area [m²].
+    """Check the windows and doors of ``elem`` and return their total area [m²] (an
+    expression when a window's area is a parameter; checked at the defaults).
 
     Parameters
     ----------
@@ -213,9 +221,10 @@ def check_element_windows(elem: Element, seen: set, area: float, what: str, ew: 
         if win.name in seen:
             raise NetworkError(f"{what}: duplicate element or window name {win.name!r}")
         seen.add(win.name)
-    a_win = sum(float(w.area) for w in elem.windows)
-    if a_win > area * (1 + 1e-12):
-        raise NetworkError(f"{ew}: its windows and doors ({a_win:g} m²) are larger than the "
+    a_win = sum(number(w.area) for w in elem.windows)
+    if default(a_win) > area * (1 + 1e-12):
+        raise NetworkError(f"{ew}: its windows and doors ({default(a_win):g} m²) are larger "
+                           f"than the "
                            f"element ({area:g} m²); enlarge the element or shrink them")
     return a_win
 
@@ -296,9 +305,9 @@ def check_window_films(elem: Element, direction: str) -> None:
         rse = surface_resistances(direction).rsi
     rsi = surface_resistances(direction).rsi
     for win in elem.windows:
-        if 1.0 / float(win.u_value) <= rsi + rse:
+        if 1.0 / default(win.u_value) <= rsi + rse:
             raise NetworkError(
-                f"window {win.name!r} in element {elem.name!r}: u_value {win.u_value:g} "
+                f"window {win.name!r} in element {elem.name!r}: u_value {default(win.u_value):g} "
                 f"W/(m²K) must be < 1/(R_si + R_se) = {1 / (rsi + rse):.3f} W/(m²K), the "
                 "transmittance of the two surface films alone")
 
@@ -421,7 +430,7 @@ def add_element(z: ZoneBuild, p: ElementPlan) -> None:
     """
     kind, other, path = far_side(z, p.elem)
     enodes = []
-    if p.area - p.window_area > 1e-12 * p.area:
+    if default(p.area - p.window_area) > 1e-12 * p.area:
         enodes = add_opaque_part(z, p, kind, other, path)
     for win in p.elem.windows:
         enodes += add_element_window(z, p, win, kind, other, path)
@@ -452,10 +461,10 @@ def add_rc_chain(net: Network, rec, base: str, chain: RCChain, area: float,
     for j in range(n):
         nn = f"{base}.si" if j == 0 else (f"{base}.se" if j == n - 1 else f"{base}.m{j}")
         net.add_node(nn, kind="surface" if j in (0, n - 1) else "mass",
-                     capacitance=float(caps[j]), initial=initial)
+                     capacitance=number(caps[j]), initial=initial)
         nodes.append(nn)
     for j, g in enumerate(conds):
-        add_positive_link(net, rec, nodes[j], nodes[j + 1], float(g), "internal",
+        add_positive_link(net, rec, nodes[j], nodes[j + 1], number(g), "internal",
                           f"{base}:cond{j + 1}")
     return nodes
 
@@ -523,6 +532,7 @@ def add_opaque_outdoor(z: ZoneBuild, p: ElementPlan, se: str, area: float, path:
                       z.sky)
     if z.weather is not None and elem.solar_absorptance > 0:
         q = z.irradiance(p.tilt, p.azimuth) * (float(elem.solar_absorptance) * area)
+        # (a parametric area gives a ScaledSeries: the irradiance times an expression)
         # booked under the element's own path ("opaque"): the control volume of the room
         # holds the outer face, so the sun absorbed there and the heat it returns to outdoor
         # air and sky net out in one path, and "solar" stays the gain through the windows
@@ -553,20 +563,21 @@ def add_element_window(z: ZoneBuild, p: ElementPlan, win: Window, kind: str, oth
     wsi, wse = f"{wb}.si", f"{wb}.se"
     net.add_node(wsi, kind="surface", capacitance=0.0)
     net.add_node(wse, kind="surface", capacitance=0.0)
-    wa = float(win.area)
+    wa = number(win.area)
     rsi = surface_resistances(p.direction).rsi
     rse = surface_resistances(p.direction).rse if kind == "outdoor" else rsi
     add_inside_films(net, rec, wsi, p.direction, wa, wb)
-    add_positive_link(net, rec, wsi, wse, wa / (1.0 / float(win.u_value) - rsi - rse),
+    add_positive_link(net, rec, wsi, wse, wa / (1.0 / number(win.u_value) - rsi - rse),
                       "internal", f"{wb}:cond")
     rec.surfaces[win.name] = wsi
     rec.areas[win.name] = wa
-    rec.u_values[win.name] = float(win.u_value)
+    rec.u_values[win.name] = number(win.u_value)
     wpath = path if kind != "outdoor" else ("opaque" if win.is_door else "glazing")
     if kind == "outdoor":
         add_outside_films(net, rec, wse, p.elem.emissivity, p.tilt, wa, wpath, wb, z.outdoor,
                           z.sky)
-        if z.weather is not None and win.g_value > 0:
+        check_parametric_g(win, f"window {win.name!r} in element {p.elem.name!r}")
+        if z.weather is not None and default(win.g_value) > 0:
             gain = window_solar_gain(z.weather, win, p.tilt, p.azimuth,
                                      solpos=z.solar_position(), sky_model=z.sky_model)
             z.window_gains.append((win, gain))

@@ -119,6 +119,7 @@ from thermonet.builders.windows import add_shading_switch
 from thermonet.constants import RHO_CP_AIR
 from thermonet.errors import NetworkError, WeatherError
 from thermonet.network import Network
+from thermonet.parameters import default, is_parametric
 
 __all__ = ["add_buffer", "add_room"]
 
@@ -357,7 +358,8 @@ def distribute_window_solar(z: ZoneBuild, distribution) -> None:
     """Sources of the solar gain the zone's windows transmit, shared over its receivers.
 
     Windows with a temperature-controlled shading device get their own sources and a switch;
-    the others' gains are summed.
+    so do windows whose gain depends on parameters (a series times an expression of the
+    window's area and g-value, :mod:`thermonet.parameters`); the others' gains are summed.
 
     Parameters
     ----------
@@ -373,18 +375,20 @@ def distribute_window_solar(z: ZoneBuild, distribution) -> None:
     groups: dict = {}
     for win, gain in z.window_gains:
         dev = win.shading
-        key = win.name if dev is not None and dev.control == "temperature" else None
+        own = (dev is not None and dev.control == "temperature") or is_parametric(gain)
+        key = win.name if own else None
         groups[key] = gain if key not in groups else groups[key] + gain
     for key, gain in groups.items():
         tag = f"{rec.name}.{key}" if key else rec.name
         srcs = []
         for node, share in shares.items():
-            if share > 0:
+            if default(share) > 0:
                 srcs.append(net.add_source(node, power=(gain * share).rename(None),
                                            path="solar", name=f"{tag}:solar>{node}"))
         rec.sources += srcs
-        if key is not None:
-            dev = next(w for w, _ in z.window_gains if w.name == key).shading
+        dev = None if key is None else next(w for w, _ in z.window_gains
+                                            if w.name == key).shading
+        if dev is not None and dev.control == "temperature":
             rec.switches.append(add_shading_switch(net, dev, srcs, f"{tag}:shading"))
 
 

@@ -11,6 +11,7 @@ from thermonet.builders.common import check_num
 from thermonet.constructions import INTERNAL_CONVECTIVE_COEFFICIENTS, surface_resistances
 from thermonet.errors import NetworkError
 from thermonet.network import Network
+from thermonet.parameters import default
 
 __all__ = ["EXTERNAL_RADIATIVE_COEFFICIENT_BLACK", "heat_flow_direction",
            "surface_coefficients"]
@@ -90,12 +91,13 @@ def add_positive_link(net: Network, rec, a: str, b: str, g: float, path: str,
         Zone record whose ``links`` list gets the name.
     a, b : str
         Nodes or boundaries.
-    g : float
-        Conductance [W/K]; nothing is added for g ≤ 0.
+    g : float or Expr
+        Conductance [W/K]; nothing is added for g ≤ 0 (a parameter expression: at its
+        defaults).
     path, name : str
         Heat path and link name.
     """
-    if g > 0.0:
+    if default(g) > 0.0:
         rec.links.append(net.add_link(a, b, conductance=g, path=path, name=name))
 
 

@@ -16,12 +16,14 @@ from thermonet import solar as _solar
 from thermonet.builders.common import (
     check_num,
     check_orientation,
+    number,
     outdoor_boundary,
     site_solar_position,
 )
 from thermonet.controls import above, below
-from thermonet.errors import NetworkError
+from thermonet.errors import NetworkError, ParameterError
 from thermonet.network import Network
+from thermonet.parameters import ScaledSeries, default, is_parametric
 
 __all__ = ["AddedWindow", "Door", "Window", "add_window", "window_solar_gain",
            "window_u_value"]
@@ -35,12 +37,13 @@ class Window:
     ----------
     name : str
         Unique within the room.
-    area : float
-        Area of the opening including the frame [m²], > 0.
-    u_value : float
+    area : float or Expr
+        Area of the opening including the frame [m²], > 0 (a parameter expression varies
+        it per row of a study, :mod:`thermonet.parameters`).
+    u_value : float or Expr
         Thermal transmittance U_w of the whole window, glazing and frame [W/(m²K)], air to
         air (as declared, e.g. per EN ISO 10077-1), > 0.
-    g_value : float
+    g_value : float or Expr
         Total solar energy transmittance of the glazing at normal incidence [-], 0 … 1.
     frame_fraction : float, default 0.3
         Frame share of ``area`` [-], 0 ≤ f < 1 (0.3 is the default frame fraction of
@@ -136,8 +139,11 @@ def window_solar_gain(weather, window: Window, tilt: float, azimuth: float, *, s
 
     Returns
     -------
-    pandas.Series
-        Transmitted gain [W] on the weather index.
+    pandas.Series or ScaledSeries
+        Transmitted gain [W] on the weather index; with a parametric area or g-value, the
+        gain of 1 m² at g = 1 times ``area × g_value`` (a
+        :class:`~thermonet.parameters.ScaledSeries`, exact since the gain is proportional
+        to both).
 
     Notes
     -----
@@ -150,6 +156,20 @@ def window_solar_gain(weather, window: Window, tilt: float, azimuth: float, *, s
     external shading.
     """
     tilt, azimuth = check_orientation(tilt, azimuth, f"window {window.name!r}")
+    if is_parametric(window.area) or is_parametric(window.g_value):
+        import dataclasses
+
+        unit = window_solar_gain(weather, dataclasses.replace(window, area=1.0, g_value=1.0),
+                                 tilt, azimuth, solpos=solpos, latitude=latitude,
+                                 longitude=longitude, sky_model=sky_model,
+                                 with_device=with_device)
+        return ScaledSeries(unit, number(window.area) * number(window.g_value))
+    if is_parametric(window.shading.factor if window.shading is not None else None) and \
+            with_device and window.shading.control != "temperature":
+        raise ParameterError(
+            f"window {window.name!r}: a parametric shading factor ({window.shading.factor!r}) "
+            "needs control='temperature' (a switch on the solar sources); for "
+            f"{window.shading.control!r} control give a number")
     if solpos is None:
         solpos = site_solar_position(weather, latitude, longitude)
     irr = _solar.surface_irradiance(weather, tilt, azimuth, model=sky_model, solpos=solpos)
@@ -339,9 +359,10 @@ def add_window(net: Network, node: str, window: Window, *, tilt: float = 90.0,
     out = outdoor_boundary(net, outdoor, outdoor_temperature, "air", what)
     path = "opaque" if window.is_door else "glazing"
     rec = AddedWindow(window.name, net.add_link(
-        out, node, conductance=float(window.u_value) * float(window.area), path=path,
+        out, node, conductance=number(window.u_value) * number(window.area), path=path,
         name=f"{window.name}:transmission"))
-    if weather is None or float(window.g_value) == 0.0:
+    check_parametric_g(window, what)
+    if weather is None or default(window.g_value) == 0.0:
         return rec
     if not isinstance(weather, pd.DataFrame):
         raise TypeError("weather must be a pandas DataFrame")
@@ -357,6 +378,21 @@ def add_window(net: Network, node: str, window: Window, *, tilt: float = 90.0,
     if dev is not None and dev.control == "temperature":
         rec.switches.append(add_shading_switch(net, dev, rec.sources, f"{window.name}:shading"))
     return rec
+
+
+def check_parametric_g(window: Window, what: str) -> None:
+    """Refuse a parametric g-value whose default is 0 (no solar source would be made).
+
+    Parameters
+    ----------
+    window : Window or Door
+    what : str
+        The window, for the message.
+    """
+    if is_parametric(window.g_value) and default(window.g_value) == 0.0:
+        raise ParameterError(f"{what}: the g-value {window.g_value!r} is 0 at its defaults, so "
+                             "no solar source is added and other rows' g-values would have no "
+                             "effect; give the parameter a default > 0")
 
 
 def check_free_node(net: Network, node: str, role: str, what: str) -> str:
@@ -427,6 +463,6 @@ def add_shading_switch(net: Network, device, sources, name: str) -> str:
     """
     return net.add_switch(on=above(device.node, device.on_above),
                           off=below(device.node, device.off_below),
-                          sources={s: float(device.factor) for s in sources}, name=name)
+                          sources={s: number(device.factor) for s in sources}, name=name)
 
 

@@ -66,7 +66,8 @@ DEFAULT_MAX_BYTES = 200e6
 #: Largest number of variants stepped in one kernel call.
 MAX_CHUNK = 4096
 
-__all__ = ["BatchOutput", "run_batch", "structure_key", "bytes_per_variant", "DEFAULT_MAX_BYTES"]
+__all__ = ["BatchOutput", "run_batch", "run_values", "structure_key", "bytes_per_variant",
+           "DEFAULT_MAX_BYTES"]
 
 
 # =============================================================================== structure
@@ -534,3 +535,87 @@ def _assemble(parts, N) -> pd.DataFrame:
             # no link of this path crosses this variant's control volume
             data[k][finished & np.isnan(data[k])] = 0.0
     return pd.DataFrame(data, index=pd.RangeIndex(N), columns=columns)
+
+
+def run_values(st, vals: list, store: ColumnStore, *, warmup_days: float = 14.0,
+               comfort_node: str | None = None, hours_above=(25.0, 26.0),
+               degree_hours_above=(), balance_nodes=None, link_energy: bool = False,
+               max_bytes: float = DEFAULT_MAX_BYTES, on_error=None,
+               kernel: str = "auto") -> BatchOutput:
+    """Step variants given by their compiled numbers (one structure), as :func:`run_batch`.
+
+    The path of a parametric network (:func:`thermonet.engine.compile.parametric_values`):
+    no network per variant, the same chunks, kernel and annual columns as
+    :func:`run_batch` (hourly traces are not kept).
+
+    Parameters
+    ----------
+    st : Structure
+        The variants' structure.
+    vals : list of Values or Exception
+        The variants' numbers; an exception in place of a variant (a row whose values
+        failed their checks) is passed through to :attr:`BatchOutput.errors`.
+    store : ColumnStore
+        The time series the variants' specs refer to (its weather was checked by the caller).
+    warmup_days, comfort_node, hours_above, degree_hours_above, balance_nodes, link_energy
+        As for :func:`run_batch` ([days], node name, [°C], [°C], nodes, bool).
+    max_bytes : float, default 200e6
+        Memory budget [bytes] of one kernel call.
+    on_error : callable, optional
+        ``on_error(position, exception)`` as soon as a variant fails.
+    kernel : {"auto", "numba"}, default "auto"
+        The compiled kernel (annual sums inside the loop).
+
+    Returns
+    -------
+    BatchOutput
+        ``traces`` are all None.
+    """
+    if not (isinstance(warmup_days, (int, float)) and math.isfinite(warmup_days)
+            and warmup_days >= 0):
+        raise ValueError(f"warmup_days must be a finite number ≥ 0 [days], got {warmup_days!r}")
+    n = len(store.index)
+    warm = min(int(round(warmup_days * 86400.0 / store.step_s)), n)
+    opts = dict(comfort_node=comfort_node, hours_above=tuple(hours_above),
+                degree_hours_above=tuple(degree_hours_above), keep_traces=False,
+                balance_sets=_balance_sets(balance_nodes), link_energy=link_energy,
+                kernel=resolve_kernel(kernel))
+    if opts["kernel"] == "numpy":
+        raise ValueError("run_values steps with the compiled kernel only; kernel='numpy' keeps "
+                         "traces, which need a network per variant (use run_batch)")
+    if comfort_node is not None:
+        _check_nodes(st, [comfort_node], "comfort_node")
+    for nodes in opts["balance_sets"].values():
+        _check_nodes(st, nodes, "balance_nodes")
+    opts["comfort"] = None if comfort_node is None else st.free.index(comfort_node)
+    N = len(vals)
+    errors: list = [None] * N
+
+    def fail(pos, exc):
+        errors[pos] = exc
+        if on_error is not None:
+            on_error(pos, exc)
+
+    positions = []
+    good = []
+    for pos, v in enumerate(vals):
+        if isinstance(v, BaseException):
+            fail(pos, v)
+        else:
+            positions.append(pos)
+            good.append(v)
+    parts: list = []
+    if good:
+        cap = bytes_per_variant(st, good[0].n_states, n + warm, False,
+                                max(p.own_columns for p in good))
+        size = int(max(1, min(MAX_CHUNK, max_bytes // cap)))
+        for a in range(0, len(good), size):
+            chunk = good[a:a + size]
+            res, errs, _ = _run_chunk(st, chunk, [None] * len(chunk), store, warm, opts)
+            pos = np.asarray(positions[a:a + size], dtype=np.int64)
+            ok = np.array([e is None for e in errs], dtype=bool)
+            for i in np.flatnonzero(~ok):
+                fail(int(pos[i]), errs[i])
+            if ok.any():
+                parts.append((int(pos[ok].min()), pos[ok], ok, res))
+    return BatchOutput(table=_assemble(parts, N), errors=errors, traces=[None] * N)

@@ -604,6 +604,10 @@ def compile_structure(net, store: ColumnStore) -> Structure:
     NetworkError
         No free node or no boundary.
     """
+    if getattr(net, "parameters", None):
+        from thermonet.parameters import refuse_parameters
+
+        refuse_parameters(net)
     if not net.nodes:
         raise NetworkError("the network has no free nodes; add_node() first")
     if not net.boundaries:
@@ -1030,3 +1034,279 @@ def compile_network(net, weather: pd.DataFrame, *, step=None, interpolate=None) 
     val = compile_values(net, st, store)
     return Compiled(st, val, store,
                     initial={k: v.initial for k, v in net.nodes.items() if v.initial is not None})
+
+
+# ======================================================================= parametric networks
+@dataclass
+class ParametricCompiled:
+    """A parametric network compiled once at its parameters' defaults, with the places its
+    expressions take in the compiled arrays (see :func:`compile_parametric`).
+
+    Attributes
+    ----------
+    st : Structure
+        The structure (decided at the defaults).
+    base : Values
+        The numbers at the defaults, sources' series unscaled (``source_factor`` without the
+        sources' parametric scales).
+    store : ColumnStore
+        The time series the specs of ``base`` refer to.
+    parameters : dict of str to Param
+        The network's parameters.
+    sites : dict of str to list
+        Per kind, ``(position, what, expression)``: ``"C"`` capacitive node index,
+        ``"C0"`` massless node index, ``"G"`` link index, ``"lf"``/``"sf"`` ``(on, switch,
+        link or source)`` factor, ``"scale"`` source index, ``"u"`` input column of a
+        constant source power, ``"h"``/``"c"``/``"qh"``/``"qc"`` thermostat index,
+        ``"thr"`` condition term index.
+    base_g : ndarray (nl,)
+        Conductances at the defaults before switch factors [W/K] (NaN for scheduled links).
+    sched_rows : ndarray (n_sched, n_sched_links)
+        Distinct rows of the scheduled conductances [W/K].
+    lf, sf : ndarray (2, nsw, nl), ndarray (2, nsw, nsrc)
+        Switch factors at the defaults [-] (``[0]`` off, ``[1]`` on).
+    """
+
+    st: Structure
+    base: Values
+    store: ColumnStore
+    parameters: dict
+    sites: dict
+    base_g: np.ndarray
+    sched_rows: np.ndarray
+    lf: np.ndarray
+    sf: np.ndarray
+
+
+def _parameter_sites(net, st: Structure) -> dict:
+    """Where the expressions of a parametric network go in the compiled arrays."""
+    from thermonet.parameters import Expr, ScaledSeries
+
+    sites: dict = {k: [] for k in ("C", "C0", "G", "lf", "sf", "scale", "u", "h", "c", "qh",
+                                   "qc", "thr")}
+    for i, n in enumerate(st.free):
+        c = net.nodes[n].capacitance
+        if isinstance(c, Expr):
+            sites["C" if i < st.nc else "C0"].append((i, f"node {n!r} capacitance [J/K]", c))
+    for j, link in enumerate(net.links.values()):
+        if isinstance(link.conductance, Expr):
+            sites["G"].append((j, f"link {link.name!r} conductance [W/K]", link.conductance))
+    link_pos = {n: i for i, n in enumerate(st.link_names)}
+    src_pos = {n: i for i, n in enumerate(st.source_names)}
+    for k, s in enumerate(net.switches.values()):
+        for table, pos, key in ((s.link_factors, link_pos, "lf"), (s.source_factors, src_pos,
+                                                                    "sf")):
+            for target, pair in table.items():
+                for on, f in enumerate(pair):
+                    if isinstance(f, Expr):
+                        sites[key].append(((on, k, pos[target]), f"switch {s.name!r} factor_"
+                                           f"{'on' if on else 'off'} on {target!r} [-]", f))
+    for j, src in enumerate(net.sources.values()):
+        if isinstance(src.power, ScaledSeries) and isinstance(src.power.scale, Expr):
+            sites["scale"].append((j, f"source {src.name!r} power scale [-]", src.power.scale))
+        elif isinstance(src.power, Expr):
+            sites["u"].append((st.nb + j, f"source {src.name!r} power [W]", src.power))
+    for j, t in enumerate(net.thermostats.values()):
+        for key, attr, unit in (("h", "heating_setpoint", "°C"), ("c", "cooling_setpoint", "°C"),
+                                ("qh", "max_heating_w", "W"), ("qc", "max_cooling_w", "W")):
+            v = getattr(t, attr)
+            if isinstance(v, Expr):
+                sites[key].append((j, f"thermostat {t.name!r} {attr} [{unit}]", v))
+    i = 0
+    for s in net.switches.values():          # the order of condition_terms(net)
+        for which, cond in (("on", s.on), ("off", s.off)):
+            for term in [t for clause in (cond.clauses if cond else ()) for t in clause]:
+                if isinstance(term.threshold, Expr):
+                    sites["thr"].append((i, f"switch {s.name!r} {which} threshold",
+                                         term.threshold))
+                i += 1
+    return sites
+
+
+def compile_parametric(net, store: ColumnStore) -> ParametricCompiled:
+    """Compile a parametric network once, at its parameters' defaults.
+
+    The structure and the numbers at the defaults come from :func:`compile_structure` and
+    :func:`compile_values` of ``net.with_values(scale_series=False)``; the returned record
+    also says where each parameter expression goes, so that :func:`parametric_values` makes
+    the numbers of many rows by patching copies of the arrays.
+
+    Parameters
+    ----------
+    net : Network
+        A network with parameters (:mod:`thermonet.parameters`).
+    store : ColumnStore
+        Where its time series are stored.
+
+    Returns
+    -------
+    ParametricCompiled
+
+    Raises
+    ------
+    NetworkError, WeatherError, ScheduleError
+        As :func:`compile_structure` and :func:`compile_values` at the defaults.
+    """
+    plain = net.with_values(scale_series=False)
+    st = compile_structure(plain, store)
+    base = compile_values(plain, st, store)
+    base_g, uniq, _ = _scheduled_rows(plain, st, store, list(plain.links.values()))
+    lf, sf = _switch_factors(plain, st)
+    return ParametricCompiled(st, base, store, dict(net.parameters),
+                              _parameter_sites(net, st), base_g, uniq, lf, sf)
+
+
+def _state_products_rows(f: np.ndarray, nsw: int) -> np.ndarray:
+    """(R, 2^nsw, k) products of switch factors per row (f: (R, 2, nsw, k))."""
+    out = np.ones((f.shape[0], 1 << nsw, f.shape[3]))
+    for bits in range(1 << nsw):
+        for k in range(nsw):
+            out[:, bits] *= f[:, bits >> k & 1, k]
+    return out
+
+
+def _patched(R: int, base: np.ndarray, sites: list, ev: dict) -> np.ndarray:
+    """(R, *base.shape) copies of ``base`` with the sites' values per row."""
+    out = np.broadcast_to(base, (R,) + base.shape).copy()
+    for pos, _, x in sites:
+        out[(slice(None),) + (pos if isinstance(pos, tuple) else (pos,))] = ev[id(x)]
+    return out
+
+
+def _row_arrays(pc: ParametricCompiled, ev: dict, R: int) -> dict:
+    """Per-row C, G, source factors, thermostat numbers and thresholds (arrays over rows)."""
+    st, base, s = pc.st, pc.base, pc.sites
+    out = {"C": _patched(R, base.C, s["C"], ev) if s["C"] else None}
+    nsw = st.nsw
+    if s["G"] or s["lf"]:
+        g = _patched(R, np.nan_to_num(pc.base_g), s["G"], ev)
+        lf = _patched(R, pc.lf, s["lf"], ev) if s["lf"] else pc.lf[None]
+        link_f = _state_products_rows(lf, nsw)
+        G = np.empty((R, base.G.shape[0], st.nl))
+        for si in range(max(pc.sched_rows.shape[0], 1)):
+            gs = g.copy()
+            if pc.sched_rows.shape[1]:
+                gs[:, st.sched_links] = pc.sched_rows[si]
+            G[:, si << nsw:(si + 1) << nsw] = gs[:, None, :] * link_f
+        out["G"] = G
+    if s["sf"] or s["scale"]:
+        sf = _patched(R, pc.sf, s["sf"], ev) if s["sf"] else pc.sf[None]
+        n_sched = base.source_factor.shape[0] >> nsw
+        F = np.tile(_state_products_rows(sf, nsw), (1, n_sched, 1))
+        F = np.broadcast_to(F, (R,) + F.shape[1:]).copy()
+        for j, _, x in s["scale"]:
+            F[:, :, j] *= ev[id(x)][:, None]
+        out["source_factor"] = F
+    for key, attr in (("qh", "qh"), ("qc", "qc"), ("thr", "thresholds")):
+        out[attr] = _patched(R, getattr(base, attr), s[key], ev) if s[key] else None
+    return out
+
+
+#: Allowed values per kind of parameter site: (text, vectorised test).
+_SITE_RULES = {
+    "G": ("a finite number ≥ 0 and ≤ 1e12 W/K", lambda v: (v >= 0) & (v <= 1e12)),
+    "C": ("> 0 (the node is capacitive at the defaults)", lambda v: v > 0),
+    "C0": ("0 (the node is massless at the defaults)", lambda v: v == 0),
+    "lf": ("a finite number ≥ 0", lambda v: (v >= 0) & np.isfinite(v)),
+    "sf": ("a finite number ≥ 0", lambda v: (v >= 0) & np.isfinite(v)),
+    "scale": ("a finite number", np.isfinite),
+    "u": ("a finite number", np.isfinite),
+    "h": ("a finite number ≥ −273.15 °C", lambda v: (v >= -273.15) & np.isfinite(v)),
+    "c": ("a finite number ≥ −273.15 °C", lambda v: (v >= -273.15) & np.isfinite(v)),
+    "qh": ("> 0 W", lambda v: v > 0),
+    "qc": ("> 0 W", lambda v: v > 0),
+    "thr": ("a finite number", np.isfinite),
+}
+
+
+def _row_errors(pc: ParametricCompiled, labels, arrays: dict, ev: dict) -> dict:
+    """Row position -> the first problem of that row (naming the row and the element)."""
+    from thermonet.errors import ParameterError
+
+    errors: dict = {}
+    for kind, (allowed, test) in _SITE_RULES.items():
+        for _, what, x in pc.sites[kind]:
+            v = ev[id(x)]
+            for r in np.flatnonzero(~test(v)):
+                errors.setdefault(int(r), ParameterError(
+                    f"row {labels[r]!r}: {what} = {float(v[r])!r} from {x!r}; allowed: "
+                    f"{allowed}. Change the row's values (or the expression)"))
+    G = arrays.get("G")
+    if G is not None:
+        for r in np.flatnonzero(~(G > 0).all(axis=(1, 2))):
+            if int(r) in errors:
+                continue
+            try:
+                _check_connected(pc.st, G[r])
+            except NetworkError as exc:
+                errors[int(r)] = ParameterError(f"row {labels[r]!r}: {exc}")
+    return errors
+
+
+def _row_inputs(pc: ParametricCompiled, r: int, ev: dict):
+    """ucols, hcols, ccols of row ``r`` (the base lists when nothing there is parametric)."""
+    base, s = pc.base, pc.sites
+    lists = []
+    for key, specs in (("u", base.ucols), ("h", base.hcols), ("c", base.ccols)):
+        if s[key]:
+            specs = list(specs)
+            for pos, _, x in s[key]:
+                specs[pos] = float(ev[id(x)][r])
+        lists.append(specs)
+    return lists
+
+
+def parametric_values(pc: ParametricCompiled, values: dict, labels) -> tuple[list, list]:
+    """The numbers of every row of a table of parameter values, by patching copies of the
+    defaults' arrays (no network is built or compiled per row).
+
+    Parameters
+    ----------
+    pc : ParametricCompiled
+        From :func:`compile_parametric`.
+    values : dict of str to ndarray (R,)
+        Each parameter's value per row [its unit] (checked:
+        :func:`thermonet.parameters.table_values`).
+    labels : sequence
+        Row labels (R), named in errors.
+
+    Returns
+    -------
+    values : list of Values or None
+        Per row; None where the row fails.
+    errors : list of Exception or None
+        Per row; the first problem of a failed row (a
+        :class:`~thermonet.errors.ParameterError` naming the row, the node, link, source,
+        thermostat or switch, the value and what is allowed).
+    """
+    import dataclasses
+
+    from thermonet.errors import ParameterError
+    from thermonet.parameters import evaluate_many
+
+    R = len(labels)
+    exprs = [x for sites in pc.sites.values() for _, _, x in sites]
+    ev = {id(x): a for x, a in zip(exprs, evaluate_many(exprs, values, R), strict=True)}
+    arrays = _row_arrays(pc, ev, R)
+    out: list = [None] * R
+    errors: list = [None] * R
+    row_errors = _row_errors(pc, labels, arrays, ev)
+    for r in range(R):
+        err = row_errors.get(r)
+        if err is None:
+            ucols, hcols, ccols = _row_inputs(pc, r, ev)
+            for j in {pos for key in ("h", "c") for pos, _, _ in pc.sites[key]}:
+                h = np.asarray(pc.store.value(hcols[j]), dtype=float)
+                c = np.asarray(pc.store.value(ccols[j]), dtype=float)
+                if np.any(h > c):
+                    err = ParameterError(
+                        f"row {labels[r]!r}: thermostat {pc.st.thermostat_names[j]!r} heating "
+                        f"setpoint ({np.max(h):g} °C at most) exceeds its cooling setpoint "
+                        f"({np.min(c):g} °C at least) in some step; keep heating ≤ cooling")
+                    break
+        if err is not None:
+            errors[r] = err
+            continue
+        kw = {k: a[r] for k, a in arrays.items() if a is not None}
+        out[r] = dataclasses.replace(pc.base, ucols=ucols, hcols=hcols, ccols=ccols, **kw)
+    return out, errors

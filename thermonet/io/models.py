@@ -532,10 +532,20 @@ def to_dict(net: Network, *, weather_columns=None) -> dict:
     ModelFileError
         If something of the network cannot be written faithfully (a Series without a
         tz-aware index, a link whose conductance was edited after it was added, non-JSON
-        ``meta``), or ``weather_columns`` omits a column a boundary reads.
+        ``meta``), or ``weather_columns`` omits a column a boundary reads, or the network
+        has parameters (:mod:`thermonet.parameters`): model files hold plain numbers.
     """
     from thermonet import __version__
 
+    if getattr(net, "parameters", None):
+        shown = ", ".join(f"{k} [{p.unit}] (default {p.default:g})"
+                          for k, p in net.parameters.items())
+        raise ModelFileError(
+            f"network {net.name!r} has parameters: {shown}. Model files hold plain numbers, "
+            "not parameter expressions; save one set of values instead, e.g. "
+            "save_model(net.with_values(), path) for the defaults or "
+            "net.with_values(name=value, ...), and keep the parametric network in the script "
+            "that builds it")
     used = required_weather_columns(net)
     if weather_columns is None:
         cols = used

@@ -149,9 +149,46 @@ _FORMAT = 1
 
 # ================================================================================ checks
 def _check_build(build):
+    from thermonet.network import Network
+
+    if isinstance(build, Network):
+        return
     if not callable(build):
-        raise TypeError(f"build must be a function returning a thermonet Network, got "
-                        f"{type(build).__name__}")
+        raise TypeError(f"build must be a function returning a thermonet Network, or a "
+                        f"parametric Network, got {type(build).__name__}")
+
+
+def _check_parametric(build, params: pd.DataFrame, weather) -> None:
+    """A parametric network: it has parameters, the table names exactly those, weather."""
+    from thermonet.network import Network
+    from thermonet.parameters import table_values
+
+    if not isinstance(build, Network):
+        return
+    if not build.parameters:
+        raise StudyError(f"network {build.name!r} has no parameters, so every row would be the "
+                         "same; declare parameters (thermonet.parameters.Param) where its "
+                         "numbers vary, or pass a build function")
+    if weather is None:
+        raise StudyError("a parametric network needs weather=")
+    table_values(build.parameters, params)
+
+
+def _build_name(build) -> str:
+    """How a study folder names its build function or parametric network."""
+    from thermonet.network import Network
+
+    if isinstance(build, Network):
+        from thermonet.io.models import dumps
+
+        ps = ", ".join(f"{k} [{p.unit}] = {p!r}" for k, p in build.parameters.items())
+        try:      # the network at its defaults, so that a changed model is another study
+            digest = hashlib.sha256(dumps(build.with_values()).encode()).hexdigest()[:16]
+        except Exception as exc:  # noqa: BLE001 - a network no model file can hold
+            digest = f"unhashable ({type(exc).__name__})"
+        return f"parametric network {build.name!r} ({ps}; model {digest})"
+    return (f"{getattr(build, '__module__', '?')}."
+            f"{getattr(build, '__qualname__', type(build).__name__)}")
 
 
 def _check_params(params) -> pd.DataFrame:
@@ -272,9 +309,65 @@ def _run_chunk(build, params: pd.DataFrame, weather, sim: dict) -> pd.DataFrame:
     """Build and simulate the variants of one chunk (runs in a worker process or thread).
 
     Returns a table indexed like ``params``: result columns and an ``error`` column
-    (None where the variant finished).
+    (None where the variant finished). A parametric network in place of ``build`` runs
+    the rows without building a network per row (:func:`run_parametric_chunk`).
     """
+    from thermonet.network import Network
+
+    if isinstance(build, Network):
+        return run_parametric_chunk(build, params, weather, sim)
     return _simulate_chunk(_build_chunk(build, params), weather, sim)
+
+
+def run_parametric_chunk(net, params: pd.DataFrame, weather, sim: dict) -> pd.DataFrame:
+    """Run the rows of ``params`` on the parametric network ``net`` (one compile at the
+    defaults, the rows' numbers patched into copies of its arrays, one batch).
+
+    Parameters
+    ----------
+    net : Network
+        A network with parameters (:mod:`thermonet.parameters`).
+    params : pandas.DataFrame
+        One row per variant, one column per parameter [the parameter's unit].
+    weather : pandas.DataFrame
+        As for :func:`thermonet.simulate`.
+    sim : dict
+        Simulation options of :func:`run_variants` (``comfort_node``, ``hours_above``,
+        ``degree_hours_above``, ``balance_nodes``, ``link_energy``, ``warmup_days``,
+        ``step``, ``max_bytes``, ``interpolate``).
+
+    Returns
+    -------
+    pandas.DataFrame
+        Indexed like ``params``: the result columns of :func:`run_variants` and ``error``.
+    """
+    from thermonet.checks import check_weather_frame
+    from thermonet.engine.batch import run_values
+    from thermonet.engine.compile import ColumnStore, compile_parametric, parametric_values
+    from thermonet.parameters import table_values
+
+    n = len(params)
+    errs: list = [None] * n
+    cols: dict[str, np.ndarray] = {}
+    if weather is None:
+        errs = [_row_error("simulate", StudyError("a parametric network needs weather="))] * n
+    else:
+        values = table_values(net.parameters, params)
+        store = ColumnStore.for_weather(weather, sim.get("step"), sim.get("interpolate"))
+        check_weather_frame(weather, stacklevel=4)
+        pc = compile_parametric(net, store)
+        vals, verrs = parametric_values(pc, values, list(params.index))
+        vals = [v if e is None else e for v, e in zip(vals, verrs, strict=True)]
+        opts = {k: sim[k] for k in ("warmup_days", "comfort_node", "hours_above",
+                                     "degree_hours_above", "balance_nodes", "link_energy",
+                                     "max_bytes")}
+        with _gc_paused():
+            out = run_values(pc.st, vals, store, **opts)
+        cols = {k: out.table[k].to_numpy() for k in out.table.columns}
+        errs = [None if e is None else _row_error("simulate", e) for e in out.errors]
+    table = pd.DataFrame(cols, index=params.index)
+    table[ERROR] = pd.Series(errs, index=params.index, dtype=object)
+    return table
 
 
 # ============================================================================= executors
@@ -619,14 +712,19 @@ def run_variants(build, params: pd.DataFrame, weather: pd.DataFrame | None = Non
 
     Parameters
     ----------
-    build : callable
+    build : callable or Network
         ``build(**row)`` → :class:`thermonet.Network`, called with one row's values as
         keyword arguments (column name → value). It may instead return a dict of named
         numbers: the row is then not simulated and those are its results (a model computed
-        outside thermonet, or an analytic function that checks a study's wiring).
+        outside thermonet, or an analytic function that checks a study's wiring). Or a
+        *parametric* network (:mod:`thermonet.parameters`): then no network is built per
+        row — it is compiled once at its defaults and each row's numbers are patched into
+        copies of its arrays (same columns as the ``build`` form; a row whose values fail a
+        check, e.g. a negative conductance, is reported in ``error`` naming the link).
     params : pandas.DataFrame
-        One row per variant, one column per argument of ``build``; the index labels the
-        variants (unique).
+        One row per variant, one column per argument of ``build`` (for a parametric network:
+        exactly one column per parameter, in its unit); the index labels the variants
+        (unique).
     weather : pandas.DataFrame, optional
         As for :func:`thermonet.simulate` (required when ``build`` returns networks).
     outputs : str or list of str, optional
@@ -677,6 +775,9 @@ def run_variants(build, params: pd.DataFrame, weather: pd.DataFrame | None = Non
 
     Raises
     ------
+    ParameterError
+        A parametric network's table has a column that is no parameter, lacks a parameter,
+        or holds a non-finite or out-of-bounds value (named with its row).
     StudyError
         Bad parameter table, unknown output names, a different study in ``out``, an
         unreadable part or ``study.json`` in ``out`` (named, with the fix), or (with
@@ -688,6 +789,7 @@ def run_variants(build, params: pd.DataFrame, weather: pd.DataFrame | None = Non
     params = _check_params(params)
     _check_weather(weather)
     _check_errors(errors)
+    _check_parametric(build, params, weather)
     if chunk_size is not None and (not isinstance(chunk_size, (int, np.integer))
                                    or chunk_size < 1):
         raise ValueError(f"chunk_size must be a positive integer [variants], got {chunk_size!r}")
@@ -698,8 +800,7 @@ def run_variants(build, params: pd.DataFrame, weather: pd.DataFrame | None = Non
     store = None
     keys = None
     if out is not None:
-        fp = {"build": f"{getattr(build, '__module__', '?')}."
-                       f"{getattr(build, '__qualname__', type(build).__name__)}",
+        fp = {"build": _build_name(build),
               "weather": _digest_frame(weather), "simulation": _json_safe(sim)}
         fp["simulation"].pop("max_bytes")
         store = _PartStore(out, fp)
@@ -790,7 +891,8 @@ def variant_traces(build, params: pd.DataFrame, weather: pd.DataFrame, *, step=N
     Parameters
     ----------
     build, params, weather, step, warmup_days
-        As for :func:`run_variants`; keep ``params`` to the few variants whose traces you
+        As for :func:`run_variants` (a parametric network gives each row's plain network,
+        ``net.with_values(row)``); keep ``params`` to the few variants whose traces you
         want (a year of a 10-node room with its flows is a few MB).
 
     Returns
@@ -799,12 +901,15 @@ def variant_traces(build, params: pd.DataFrame, weather: pd.DataFrame, *, step=N
         ``{row label: thermonet.Results}``; a variant that fails raises
         :class:`~thermonet.errors.StudyError` naming its row.
     """
+    from thermonet.network import Network
+
     _check_build(build)
     params = _check_params(params)
+    _check_parametric(build, params, weather)
     nets = []
     for label, kw in zip(params.index, params.to_dict("records"), strict=True):
         try:
-            nets.append(build(**kw))
+            nets.append(build.with_values(kw) if isinstance(build, Network) else build(**kw))
         except Exception as exc:
             raise StudyError(f"variant row {label!r} failed: {_row_error('build', exc)}") \
                 from exc
@@ -1267,12 +1372,14 @@ def calibrate(build, parameters: Mapping, weather: pd.DataFrame, measured: pd.Da
 
     Parameters
     ----------
-    build : callable
+    build : callable or Network
         ``build(**values)`` → :class:`thermonet.Network`, called with the parameters being
         fitted as keyword arguments (fix the others with defaults or
         :func:`functools.partial`). Any number can be a parameter: conductances [W/K],
         capacitances [J/K], a solar aperture [m²] scaling an irradiance source, an
-        infiltration rate [1/h] ...
+        infiltration rate [1/h] ... Or a parametric network (:mod:`thermonet.parameters`):
+        each trial is ``net.with_values(values)`` (parameters not fitted keep their
+        defaults).
     parameters : dict
         ``{name: initial}`` or ``{name: (initial, low, high)}`` in the parameter's unit;
         bounds default to (−inf, inf).
@@ -1321,6 +1428,7 @@ def calibrate(build, parameters: Mapping, weather: pd.DataFrame, measured: pd.Da
     from scipy.optimize import least_squares
 
     from thermonet.engine.compile import sim_index
+    from thermonet.network import Network
 
     _check_build(build)
     if not isinstance(weather, pd.DataFrame):
@@ -1366,7 +1474,7 @@ def calibrate(build, parameters: Mapping, weather: pd.DataFrame, measured: pd.Da
     def build_net(p):
         kw = dict(zip(names, (float(v) for v in p), strict=True))
         try:
-            return build(**kw)
+            return build.with_values(kw) if isinstance(build, Network) else build(**kw)
         except Exception as exc:
             raise StudyError(f"calibrate: build failed at {kw}: {_row_error('build', exc)}") \
                 from exc
