@@ -119,6 +119,13 @@ import pandas as pd
 from thermonet.engine.batch import DEFAULT_MAX_BYTES, run_batch
 from thermonet.errors import StudyError, StudyWarning
 from thermonet.io.files import pid_alive, write_file_atomic
+from thermonet.studies.rows import (
+    check_warming,
+    judge_values,
+    merge_balance_sets,
+    room_balance_sets,
+    warmed_weather,
+)
 
 __all__ = [
     "run_variants",
@@ -206,26 +213,53 @@ def _gc_paused():
             gc.enable()
 
 
-def _build_chunk(build, params: pd.DataFrame) -> dict:
+def _row_weathers(params: pd.DataFrame, weather, sim: dict) -> list:
+    """Per row of a chunk: ``(key, weather)``, the key grouping rows that share a weather."""
+    col = sim.get("warming")
+    if col is None or weather is None:
+        return [(None, weather)] * len(params)
+    cache: dict = {}
+    out = []
+    for off in params[col].to_numpy(dtype=float):
+        if off not in cache:
+            cache[off] = warmed_weather(weather, off, sim["warming_columns"])
+        out.append((off, cache[off]))
+    return out
+
+
+def _build_chunk(build, params: pd.DataFrame, weather=None, sim: dict | None = None) -> dict:
     """Call ``build`` for every row of a chunk; networks, direct results and build errors."""
     from thermonet.network import Network
 
+    sim = sim or {}
     n = len(params)
     errs: list = [None] * n
     direct: dict[int, dict] = {}
     nets: list = []
     net_pos: list[int] = []
+    handles: dict[int, object] = {}
+    rows = params.to_dict("records")
+    weathers = _row_weathers(params, weather, sim)
+    skip = sim.get("warming")
     with _gc_paused():
         objs = []
-        for i, kw in enumerate(params.to_dict("records")):
+        for i, kw in enumerate(rows):
+            if skip is not None:
+                kw = {k: v for k, v in kw.items() if k != skip}
+            if sim.get("pass_weather"):
+                kw["weather"] = weathers[i][1]
             try:
                 objs.append(build(**kw))
             except Exception as exc:  # noqa: BLE001 - reported per row
                 errs[i] = _row_error("build", exc)
                 objs.append(None)
+    judged = sim.get("judge") is not None
     for i, obj in enumerate(objs):
         if errs[i] is not None:
             continue
+        if (judged and isinstance(obj, tuple) and len(obj) == 2
+                and isinstance(obj[0], Network)):
+            obj, handles[i] = obj
         if isinstance(obj, Network):
             nets.append(obj)
             net_pos.append(i)
@@ -236,10 +270,32 @@ def _build_chunk(build, params: pd.DataFrame) -> dict:
                 errs[i] = _row_error("build", TypeError(
                     f"build returned a dict whose values must be numbers ({exc})"))
         else:
+            also = " or a tuple (Network, handles)" if judged else ""
             errs[i] = _row_error("build", TypeError(
-                f"build returned {type(obj).__name__}; return a thermonet Network (or a dict "
-                "of named numbers for a model computed outside thermonet)"))
-    return dict(index=params.index, errs=errs, direct=direct, nets=nets, net_pos=net_pos)
+                f"build returned {type(obj).__name__}; return a thermonet Network{also} (or a "
+                "dict of named numbers for a model computed outside thermonet)"))
+    return dict(index=params.index, errs=errs, direct=direct, nets=nets, net_pos=net_pos,
+                handles=handles, rows=rows, weathers=weathers)
+
+
+#: Keys of a study's simulation options that are not arguments of ``run_batch``.
+_STUDY_KEYS = ("judge", "warming", "warming_columns", "pass_weather", "balance_rooms")
+
+
+def _batch_groups(built: dict, sim: dict) -> dict:
+    """Networks of a chunk grouped by (weather key, room balance sets), or an error per row."""
+    groups: dict = {}
+    for j, i in enumerate(built["net_pos"]):
+        sets: dict = {}
+        if sim.get("balance_rooms") is not None:
+            try:
+                sets = room_balance_sets(built["nets"][j], sim["balance_rooms"])
+            except Exception as exc:  # noqa: BLE001 - reported per row
+                built["errs"][i] = _row_error("outputs", exc)
+                continue
+        key = (built["weathers"][i][0], tuple((k, tuple(v)) for k, v in sets.items()))
+        groups.setdefault(key, (sets, []))[1].append(j)
+    return groups
 
 
 def _simulate_chunk(built: dict, weather, sim: dict) -> pd.DataFrame:
@@ -247,22 +303,42 @@ def _simulate_chunk(built: dict, weather, sim: dict) -> pd.DataFrame:
     index, errs, nets, net_pos = built["index"], built["errs"], built["nets"], built["net_pos"]
     n = len(index)
     cols: dict[str, np.ndarray] = {}
-    if nets:
-        if weather is None:
-            for i in net_pos:
-                errs[i] = _row_error("simulate", StudyError(
-                    "build returned a Network but weather is None; pass weather="))
-        else:
+    judge = sim.get("judge")
+    kw = {k: v for k, v in sim.items() if k not in _STUDY_KEYS}
+    if nets and weather is None:
+        for i in net_pos:
+            errs[i] = _row_error("simulate", StudyError(
+                "build returned a Network but weather is None; pass weather="))
+    elif nets:
+        for sets, js in _batch_groups(built, sim).values():
+            pos = [net_pos[j] for j in js]
+            w = built["weathers"][pos[0]][1]
             with _gc_paused():
-                out = run_batch(nets, weather, **sim)
+                out = run_batch([nets[j] for j in js], w, keep_traces=judge is not None,
+                                **{**kw, "balance_nodes": merge_balance_sets(
+                                    kw.get("balance_nodes"), sets)})
             for k in out.table.columns:
-                cols.setdefault(k, np.full(n, np.nan))[net_pos] = out.table[k].to_numpy()
-            for i, e in zip(net_pos, out.errors, strict=True):
+                cols.setdefault(k, np.full(n, np.nan))[pos] = out.table[k].to_numpy()
+            for i, e, res in zip(pos, out.errors, out.traces, strict=True):
                 if e is not None:
                     errs[i] = _row_error("simulate", e)
+                elif judge is not None:
+                    try:
+                        vals = judge_values(judge, res, built["handles"].get(i),
+                                            built["rows"][i], w)
+                    except Exception as exc:  # noqa: BLE001 - reported per row
+                        errs[i] = _row_error("judge", exc)
+                        continue
+                    for k, v in vals.items():
+                        cols.setdefault(k, np.full(n, np.nan))[i] = v
+            del out
     for i, row in built["direct"].items():
         for k, v in row.items():
             cols.setdefault(k, np.full(n, np.nan))[i] = v
+    for i, e in enumerate(errs):     # a row that failed late (judge, outputs) keeps no values
+        if e is not None:
+            for a in cols.values():
+                a[i] = np.nan
     table = pd.DataFrame(cols, index=index)
     table[ERROR] = pd.Series(errs, index=index, dtype=object)
     return table
@@ -274,7 +350,7 @@ def _run_chunk(build, params: pd.DataFrame, weather, sim: dict) -> pd.DataFrame:
     Returns a table indexed like ``params``: result columns and an ``error`` column
     (None where the variant finished).
     """
-    return _simulate_chunk(_build_chunk(build, params), weather, sim)
+    return _simulate_chunk(_build_chunk(build, params, weather, sim), weather, sim)
 
 
 # ============================================================================= executors
@@ -586,14 +662,22 @@ def _chunks(positions: list[int], size: int) -> list[list[int]]:
 
 
 def _sim_options(comfort_node, hours_above, degree_hours_above, balance_nodes, link_energy,
-                 warmup_days, step, max_bytes, interpolate=None) -> dict:
+                 warmup_days, step, max_bytes, interpolate=None, **study) -> dict:
     out = dict(comfort_node=comfort_node, hours_above=tuple(hours_above),
                degree_hours_above=tuple(degree_hours_above), balance_nodes=balance_nodes,
                link_energy=bool(link_energy), warmup_days=warmup_days, step=step,
                max_bytes=max_bytes)
     if interpolate is not None:     # (absent by default: study folders keep their fingerprint)
         out["interpolate"] = tuple(interpolate)
+    for k, v in study.items():      # (likewise: only the options a study uses)
+        if v is not None and v is not False:
+            out[k] = v
     return out
+
+
+def _callable_name(obj) -> str:
+    return (f"{getattr(obj, '__module__', '?')}."
+            f"{getattr(obj, '__qualname__', type(obj).__name__)}")
 
 
 def _warn_failed(table: pd.DataFrame, stacklevel: int):
@@ -614,7 +698,8 @@ def run_variants(build, params: pd.DataFrame, weather: pd.DataFrame | None = Non
                  warmup_days: float = 14.0, step=None, executor=None,
                  chunk_size: int | None = None, max_bytes: float = DEFAULT_MAX_BYTES,
                  progress="auto", out=None, errors: str = "collect",
-                 interpolate=None) -> pd.DataFrame:
+                 interpolate=None, balance_rooms=None, judge=None, warming: str | None = None,
+                 warming_columns=("temp_air",), pass_weather: bool = False) -> pd.DataFrame:
     """Simulate one network per row of a parameter table; one row of annual results each.
 
     Parameters
@@ -650,6 +735,30 @@ def run_variants(build, params: pd.DataFrame, weather: pd.DataFrame | None = Non
     interpolate : collection of str, optional
         Instantaneous weather columns, as for :func:`thermonet.simulate` (``()`` holds every
         input over its step).
+    balance_rooms : "all", str or list of str, optional
+        Rooms whose annual balance by path [kWh] is reported, by the names given to
+        :func:`thermonet.builders.add_room` / ``add_buffer`` (``"all"``: every room the
+        builders recorded in the variant's network). Each room's control volume is its
+        recorded ``Room.nodes``; columns ``balance[<room>]:<path>``,
+        ``balance[<room>]:heating``, ``…:cooling``, ``…:storage``, ``…:residual`` — the
+        column sums of ``Results.balance(room.nodes)``. A room missing from a variant fails
+        that variant (``error`` names the rooms it has).
+    judge : callable, optional
+        ``judge(results, handles, row, weather) -> {name: number}``, called on each
+        variant's hourly :class:`thermonet.Results` (the batch keeps the traces of a chunk
+        for it, then drops them); its values become result columns. ``handles`` is the
+        second item when ``build`` returns ``(Network, handles)`` (else None), ``row`` the
+        variant's parameters, ``weather`` the weather it ran with. For ``out=`` folders its
+        ``__module__`` and ``__qualname__`` identify the study; for a process pool it must
+        be picklable.
+    warming : str, optional
+        Name of a ``params`` column holding a warming offset [K] per variant, added to the
+        weather's ``warming_columns`` for that variant (not passed to ``build``). Variants
+        of a chunk with the same offset are stepped together.
+    warming_columns : tuple of str, default ("temp_air",)
+        Weather columns the offset is added to.
+    pass_weather : bool, default False
+        Also call ``build`` with ``weather=`` the variant's (warmed) weather.
     executor : None, concurrent.futures.Executor or dask.distributed.Client
         Where chunks run (see the module docstring).
     chunk_size : int, optional
@@ -691,8 +800,17 @@ def run_variants(build, params: pd.DataFrame, weather: pd.DataFrame | None = Non
     if chunk_size is not None and (not isinstance(chunk_size, (int, np.integer))
                                    or chunk_size < 1):
         raise ValueError(f"chunk_size must be a positive integer [variants], got {chunk_size!r}")
+    wcols = check_warming(params, weather, warming, warming_columns)
+    if pass_weather and "weather" in params.columns:
+        raise StudyError("pass_weather=True passes 'weather' to build, which is also a column "
+                         "of params; rename that column")
+    if judge is not None and not callable(judge):
+        raise TypeError(f"judge must be a function (results, handles, row, weather) -> dict, "
+                        f"got {type(judge).__name__}")
     sim = _sim_options(comfort_node, hours_above, degree_hours_above, balance_nodes,
-                       link_energy, warmup_days, step, max_bytes, interpolate)
+                       link_energy, warmup_days, step, max_bytes, interpolate,
+                       balance_rooms=balance_rooms, judge=judge, warming=warming,
+                       warming_columns=wcols or None, pass_weather=bool(pass_weather))
     N = len(params)
     done: dict[int, pd.DataFrame] = {}
     store = None
@@ -700,7 +818,9 @@ def run_variants(build, params: pd.DataFrame, weather: pd.DataFrame | None = Non
     if out is not None:
         fp = {"build": f"{getattr(build, '__module__', '?')}."
                        f"{getattr(build, '__qualname__', type(build).__name__)}",
-              "weather": _digest_frame(weather), "simulation": _json_safe(sim)}
+              "weather": _digest_frame(weather),
+              "simulation": _json_safe({k: _callable_name(v) if k == "judge" else v
+                                        for k, v in sim.items()})}
         fp["simulation"].pop("max_bytes")
         store = _PartStore(out, fp)
         keys = _row_keys(params)
