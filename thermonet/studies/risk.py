@@ -212,10 +212,15 @@ class RiskRun:
             The outputs (names of the glossary, "Study outputs per variant").
         """
         spec = self.default_temperature if spec is None else spec
-        key = (spec if isinstance(spec, str) else id(spec), comfort_key(options))
+        ck = comfort_key(options)
+        merged = self.plan.get(ck)
+        if merged is None:     # not planned: this call's own thresholds are part of the key
+            merged = options
+            ck = (ck, tuple(tuple(options.get(k, ())) for k in MERGED_OPTIONS))
+        key = (spec if isinstance(spec, str) else id(spec), ck)
         if key not in self._cache:
             t = self.temperature(spec)
-            opts = dict(self.plan.get(key[1], options))
+            opts = dict(merged)
             opts["occupied"] = occupied_rows(opts.get("occupied"), t.index)
             self._cache[key] = comfort_outputs(t, self.weather["temp_air"], **opts)
         return self._cache[key]

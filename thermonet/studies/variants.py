@@ -253,12 +253,10 @@ def _build_chunk(build, params: pd.DataFrame, weather=None, sim: dict | None = N
             except Exception as exc:  # noqa: BLE001 - reported per row
                 errs[i] = _row_error("build", exc)
                 objs.append(None)
-    judged = sim.get("judge") is not None
     for i, obj in enumerate(objs):
         if errs[i] is not None:
             continue
-        if (judged and isinstance(obj, tuple) and len(obj) == 2
-                and isinstance(obj[0], Network)):
+        if isinstance(obj, tuple) and len(obj) == 2 and isinstance(obj[0], Network):
             obj, handles[i] = obj
         if isinstance(obj, Network):
             nets.append(obj)
@@ -270,10 +268,10 @@ def _build_chunk(build, params: pd.DataFrame, weather=None, sim: dict | None = N
                 errs[i] = _row_error("build", TypeError(
                     f"build returned a dict whose values must be numbers ({exc})"))
         else:
-            also = " or a tuple (Network, handles)" if judged else ""
             errs[i] = _row_error("build", TypeError(
-                f"build returned {type(obj).__name__}; return a thermonet Network{also} (or a "
-                "dict of named numbers for a model computed outside thermonet)"))
+                f"build returned {type(obj).__name__}; return a thermonet Network, a tuple "
+                "(Network, handles) or a dict of named numbers for a model computed outside "
+                "thermonet"))
     return dict(index=params.index, errs=errs, direct=direct, nets=nets, net_pos=net_pos,
                 handles=handles, rows=rows, weathers=weathers)
 
@@ -706,9 +704,11 @@ def run_variants(build, params: pd.DataFrame, weather: pd.DataFrame | None = Non
     ----------
     build : callable
         ``build(**row)`` → :class:`thermonet.Network`, called with one row's values as
-        keyword arguments (column name → value). It may instead return a dict of named
-        numbers: the row is then not simulated and those are its results (a model computed
-        outside thermonet, or an analytic function that checks a study's wiring).
+        keyword arguments (column name → value), or ``(Network, handles)`` where
+        ``handles`` (e.g. a builder's room record) is passed to ``judge``. It may instead
+        return a dict of named numbers: the row is then not simulated and those are its
+        results (a model computed outside thermonet, or an analytic function that checks a
+        study's wiring).
     params : pandas.DataFrame
         One row per variant, one column per argument of ``build``; the index labels the
         variants (unique).
