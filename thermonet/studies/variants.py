@@ -21,7 +21,9 @@ Functions
 ---------
 :func:`run_variants`
     one row of annual results per variant (heating and cooling energy and peaks,
-    overheating hours and degree-hours, the annual balance by path), as a tidy table.
+    overheating hours and degree-hours, the annual balance by path of node sets or of rooms
+    named by the builders' records, values of a ``judge`` function on each variant's hourly
+    results), as a tidy table; a row may carry its own warming offset of the weather.
 :func:`variant_traces`
     hourly :class:`thermonet.Results` of chosen variants (traces are kept only when asked).
 :func:`one_at_a_time`, :func:`tornado_plot`
