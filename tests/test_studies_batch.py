@@ -185,3 +185,16 @@ def test_judge_values_become_columns_and_warming_reaches_the_weather():
     np.testing.assert_array_equal(t["dt_seen_k"], [0.0, 2.0])
     # a warmer outdoors warms the room (direction check)
     assert t.loc[1, "mean_operative_c"] > t.loc[0, "mean_operative_c"] + 0.5
+
+
+def test_judged_values_do_not_depend_on_how_the_traces_are_batched():
+    params = pd.DataFrame({"g_value": [0.3, 0.5, 0.7], "gains_w": [100.0, 300.0, 500.0]})
+
+    def judge(res, handles, row, weather):
+        return {"mean_operative_c": float(operative(res, handles).mean())}
+
+    kw = dict(judge=judge, balance_rooms="all", warmup_days=1.0, progress=False)
+    whole = studies.run_variants(flat, params, WEATHER, **kw)
+    # a budget below one variant's traces: every variant is judged in its own batch
+    one_by_one = studies.run_variants(flat, params, WEATHER, max_bytes=1.0, **kw)
+    pd.testing.assert_frame_equal(whole, one_by_one)

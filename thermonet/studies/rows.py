@@ -28,6 +28,7 @@ from thermonet.errors import StudyError
 
 __all__ = [
     "check_warming",
+    "judged_batches",
     "judge_values",
     "merge_balance_sets",
     "room_balance_sets",
@@ -185,6 +186,41 @@ def merge_balance_sets(balance_nodes, room_sets: dict):
                          "balance[<label>]:<path>)")
     base.update(room_sets)
     return base
+
+
+def judged_batches(positions: list, net, n_steps: int, max_bytes: float) -> list:
+    """Split a group of variants whose traces a judge reads into batches within a budget.
+
+    The traces of a batch are all held until they are judged, so a batch holds at most
+    ``max_bytes`` of them (at least one variant).
+
+    Parameters
+    ----------
+    positions : list
+        The variants of the group (any items; they are sliced in order).
+    net : thermonet.Network
+        One network of the group (all have the same size).
+    n_steps : int
+        Steps of the simulation, warm-up included.
+    max_bytes : float
+        Memory budget [bytes].
+
+    Returns
+    -------
+    list of list
+        ``positions`` cut into consecutive batches.
+
+    Notes
+    -----
+    A variant's traces take about 8 bytes × steps × (3 per node + 2 per boundary or source
+    + 1 per link): end and step-mean temperatures and the tables ``Results`` forms, the
+    inputs at both ends of each step, and a flow per link when asked (an estimate, not a
+    bound).
+    """
+    width = (3 * len(net.nodes) + 2 * (len(net.boundaries) + len(net.sources))
+             + len(net.links) + 1)
+    size = max(1, int(float(max_bytes) // (8.0 * max(1, n_steps) * width)))
+    return [positions[a:a + size] for a in range(0, len(positions), size)]
 
 
 def judge_values(judge, results, handles, row: dict, weather) -> dict:

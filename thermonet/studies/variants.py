@@ -124,6 +124,7 @@ from thermonet.io.files import pid_alive, write_file_atomic
 from thermonet.studies.rows import (
     check_warming,
     judge_values,
+    judged_batches,
     merge_balance_sets,
     room_balance_sets,
     warmed_weather,
@@ -298,6 +299,16 @@ def _batch_groups(built: dict, sim: dict) -> dict:
     return groups
 
 
+def _steps(weather: pd.DataFrame, kw: dict) -> int:
+    """Steps of a run on ``weather`` with its warm-up (for memory estimates only)."""
+    idx = weather.index
+    span = (idx[1] - idx[0]) * len(idx) if len(idx) > 1 else pd.Timedelta(hours=len(idx))
+    step = pd.Timedelta(kw["step"]) if kw.get("step") is not None else (
+        idx[1] - idx[0] if len(idx) > 1 else pd.Timedelta(hours=1))
+    warm = pd.Timedelta(days=float(kw.get("warmup_days") or 0.0))
+    return int(np.ceil((span + warm) / step))
+
+
 def _simulate_chunk(built: dict, weather, sim: dict) -> pd.DataFrame:
     """Simulate the networks of a built chunk; a table indexed like the chunk's rows."""
     index, errs, nets, net_pos = built["index"], built["errs"], built["nets"], built["net_pos"]
@@ -310,9 +321,14 @@ def _simulate_chunk(built: dict, weather, sim: dict) -> pd.DataFrame:
             errs[i] = _row_error("simulate", StudyError(
                 "build returned a Network but weather is None; pass weather="))
     elif nets:
+        batches = []
         for sets, js in _batch_groups(built, sim).values():
+            w = built["weathers"][net_pos[js[0]]][1]
+            cuts = ([js] if judge is None else
+                    judged_batches(js, nets[js[0]], _steps(w, kw), kw["max_bytes"]))
+            batches += [(sets, part, w) for part in cuts]
+        for sets, js, w in batches:
             pos = [net_pos[j] for j in js]
-            w = built["weathers"][pos[0]][1]
             with _gc_paused():
                 out = run_batch([nets[j] for j in js], w, keep_traces=judge is not None,
                                 **{**kw, "balance_nodes": merge_balance_sets(
