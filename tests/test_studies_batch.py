@@ -157,6 +157,12 @@ def test_named_rooms_are_checked_by_name():
                              progress=False)
     assert [c for c in t.columns if c.startswith("balance[stair]")] == []
     assert "balance[living]:storage" in t.columns
+    # a room's columns are selected by a pattern with its name in brackets
+    sel = studies.run_variants(flat, params, WEATHER, balance_rooms="all", warmup_days=0.0,
+                               outputs=["balance[stair]:*"], progress=False)
+    assert sorted(sel.columns[1:-1]) == sorted(c for c in sel.columns
+                                               if c.startswith("balance[stair]:"))
+    assert "balance[stair]:residual" in sel.columns
     with pytest.warns(studies.variants.StudyWarning, match="1 of 1 variants failed"):
         bad = studies.run_variants(flat, params, WEATHER, balance_rooms=["kitchen"],
                                    warmup_days=0.0, progress=False)

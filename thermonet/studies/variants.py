@@ -665,10 +665,13 @@ def _select_outputs(columns: list, outputs) -> list:
         outputs = [outputs]
     keep: list = []
     for pat in outputs:
-        hits = [pat] if pat in columns else [c for c in columns if fnmatch.fnmatchcase(c, pat)]
+        literal = "".join({"[": "[[]", "]": "[]]"}.get(ch, ch) for ch in pat)
+        hits = [pat] if pat in columns else [
+            c for c in columns if fnmatch.fnmatchcase(c, pat) or fnmatch.fnmatchcase(c, literal)]
         if not hits:
             raise StudyError(f"outputs: {pat!r} names no result column; available: "
-                             f"{', '.join(columns)} (glob patterns such as 'balance:*' work)")
+                             f"{', '.join(columns)} (glob patterns such as 'balance:*' or "
+                             "'balance[<room>]:*' work)")
         keep += [c for c in hits if c not in keep]
     return keep
 
@@ -734,7 +737,7 @@ def run_variants(build, params: pd.DataFrame, weather: pd.DataFrame | None = Non
         As for :func:`thermonet.simulate` (required when ``build`` returns networks).
     outputs : str or list of str, optional
         Result columns to keep (names or glob patterns, e.g. ``["heating_kwh",
-        "balance:*"]``); default all.
+        "balance:*", "balance[living]:*"]``; brackets also match literally); default all.
     comfort_node : str, optional
         Node whose end-of-step temperature [°C] gives ``hours_above_<T>`` [h],
         ``degree_hours_above_<T>`` [K·h] and ``max/min/mean_temperature_c`` [°C].
