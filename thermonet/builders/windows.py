@@ -53,8 +53,9 @@ class Window:
     horizon : (azimuths, elevations), optional
         Far-horizon profile [°], see :func:`thermonet.solar.horizon_shaded`.
     shading : thermonet.solar.MovableShading, optional
-        Movable device (blind, shutter); irradiance- or schedule-controlled ones become a
-        factor series, temperature-controlled ones a network switch.
+        Movable device (blind, shutter, curtain); external irradiance- or
+        schedule-controlled ones become a factor series, temperature-controlled and
+        internal ones (``position="internal"``) a network switch.
     iam_model : {"ashrae", "physical"}, default "ashrae"
         Incidence angle modifier of :func:`thermonet.solar.window_transmitted`.
     """
@@ -253,13 +254,15 @@ class AddedWindow:
     link : str
         Transmission link outdoor → node, conductance U_w·A [W/K].
     sources : list of str
-        Solar sources (path ``"solar"``), one per receiving node.
+        Solar sources (path ``"solar"``), one per receiving node; for an internal device
+        also the sources of the heat it absorbs (``<name>:device_convective>…`` on
+        ``node``, ``<name>:device_radiative>…`` on the receivers).
     switches : list of str
-        The shading switch of a temperature-controlled device (else empty).
+        The shading switch of a temperature-controlled or internal device (else empty).
     gain : pandas.Series or None
-        Transmitted solar gain [W] with external shading and any irradiance- or
-        schedule-controlled device applied (a temperature-controlled device acts through
-        the switch); None without weather or with g = 0.
+        Transmitted solar gain [W] with external shading and an external irradiance- or
+        schedule-controlled device applied (temperature-controlled and internal devices
+        act through the switch); None without weather or with g = 0.
     """
 
     name: str
@@ -279,7 +282,10 @@ def add_window(net: Network, node: str, window: Window, *, tilt: float = 90.0,
     ``"glazing"``, ``"opaque"`` for a :class:`Door`) and, with ``weather``, the transmitted
     solar gain as sources (path ``"solar"``) on the receiving nodes, including external
     shading (overhang, fins, far horizon) and movable shading; a temperature-controlled
-    device becomes a switch on those sources. Use it for networks wired by hand;
+    device, and an internal one (:attr:`thermonet.solar.MovableShading.internal`) with any
+    control, becomes a switch on those sources (an internal one with the sources of the
+    heat it absorbs: the convective part on ``node``, the long-wave part on the receivers
+    by their shares). Use it for networks wired by hand;
     :func:`add_room` does the same for the windows of its elements (with surface nodes and
     films instead of one air-to-air link).
 
@@ -366,13 +372,12 @@ def add_window(net: Network, node: str, window: Window, *, tilt: float = 90.0,
             rec.sources.append(net.add_source(n, power=gain * share, path="solar",
                                               name=f"{window.name}:solar>{n}"))
     if switched:
+        through = list(rec.sources)
         absorbed = internal_device_sources(net, dev, gain, {node: 1.0}, shares,
                                            window.name)
         rec.sources += absorbed
-        rec.switches.append(add_shading_switch(net, dev, rec.sources[:len(rec.sources)
-                                                                     - len(absorbed)],
-                                               f"{window.name}:shading", state=state,
-                                               absorbed=absorbed))
+        rec.switches.append(add_shading_switch(net, dev, through, f"{window.name}:shading",
+                                               state=state, absorbed=absorbed))
     return rec
 
 
