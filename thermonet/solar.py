@@ -33,6 +33,7 @@ Conventions (read this once)
 
 from __future__ import annotations
 
+import functools
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass
@@ -635,9 +636,16 @@ def diffuse_incidence_modifiers(surface_tilt, model="ashrae", param=None):
     """
     tilt = _finite_number("surface_tilt", surface_tilt, 0.0, 180.0)
     kwargs = _iam_kwargs(model, param)
+    return dict(_marion_diffuse(model, tilt, tuple(sorted(kwargs.items()))))
+
+
+@functools.lru_cache(maxsize=256)
+def _marion_diffuse(model: str, tilt: float, kwargs: tuple) -> tuple:
+    """``pvlib.iam.marion_diffuse`` as ((region, value), ...), kept per (model, tilt, params):
+    a pure function of numbers, integrated once however many windows share it."""
     with np.errstate(invalid="ignore", divide="ignore"):
-        res = pvlib.iam.marion_diffuse(model, tilt, **kwargs)
-    return {k: float(np.asarray(v)) for k, v in res.items()}
+        res = pvlib.iam.marion_diffuse(model, tilt, **dict(kwargs))
+    return tuple((k, float(np.asarray(v))) for k, v in res.items())
 
 
 def _factor_array(name: str, value: Any, n: int, index: pd.Index | None = None,
