@@ -19,7 +19,8 @@ Printed, per run (one option × one sample):
 * the ratio, the time spent building the networks alone (the same in both paths), and the
   largest difference between the two tables (must be rounding).
 
-Times are the best of ``--repeat`` runs (the machine may be shared).
+Times are the best of ``--repeat`` runs (the machine may be shared; on a loaded machine
+``OPENBLAS_NUM_THREADS=1`` gives steadier numbers for both paths).
 
 Run: ``python benchmarks/bench_risk.py [--samples N] [--repeat R]`` (default 8 samples, i.e.
 16 runs per case, 2 repeats).

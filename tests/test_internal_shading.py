@@ -154,3 +154,15 @@ def test_hand_built_window_and_temperature_control_and_bad_values():
                              absorptance=0.5)
     with pytest.raises(NetworkError, match="position must be one of"):
         solar.MovableShading(0.6, "schedule", schedule=ALWAYS, position="between")
+
+
+def test_irradiance_controlled_internal_blind_follows_the_irradiance_on_the_window():
+    dev = solar.MovableShading(0.3, "irradiance", on_above=300.0, off_below=200.0,
+                               position="internal", absorptance=0.2)
+    net, room = room_with(dev)
+    res = tn.simulate(net, W, warmup_days=0.0)
+    ratio = (res.sources[solar_sources(net, room)].sum(axis=1) / G0)[G0 > 1.0]
+    irr = solar.surface_irradiance(W, 90, 180)["total"]
+    down = dev.deployed(irradiance=irr)[G0 > 1.0]
+    np.testing.assert_allclose(ratio, np.where(down, 0.5, 1.0), rtol=1e-9)
+    assert down.any() and not down.all()
