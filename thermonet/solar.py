@@ -33,6 +33,7 @@ Conventions (read this once)
 
 from __future__ import annotations
 
+import functools
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass
@@ -69,7 +70,9 @@ __all__ = [
     "horizon_shaded",
     "horizon_diffuse_factor",
     "apply_external_shading",
+    "INTERNAL_CONVECTIVE_FRACTION",
     "MovableShading",
+    "internal_device_shares",
     "shading_state_from_irradiance",
     "solar_shares",
     "distribute_solar",
@@ -635,9 +638,16 @@ def diffuse_incidence_modifiers(surface_tilt, model="ashrae", param=None):
     """
     tilt = _finite_number("surface_tilt", surface_tilt, 0.0, 180.0)
     kwargs = _iam_kwargs(model, param)
+    return dict(_marion_diffuse(model, tilt, tuple(sorted(kwargs.items()))))
+
+
+@functools.lru_cache(maxsize=256)
+def _marion_diffuse(model: str, tilt: float, kwargs: tuple) -> tuple:
+    """``pvlib.iam.marion_diffuse`` as ((region, value), ...), kept per (model, tilt, params):
+    a pure function of numbers, integrated once however many windows share it."""
     with np.errstate(invalid="ignore", divide="ignore"):
-        res = pvlib.iam.marion_diffuse(model, tilt, **kwargs)
-    return {k: float(np.asarray(v)) for k, v in res.items()}
+        res = pvlib.iam.marion_diffuse(model, tilt, **dict(kwargs))
+    return tuple((k, float(np.asarray(v))) for k, v in res.items())
 
 
 def _factor_array(name: str, value: Any, n: int, index: pd.Index | None = None,
@@ -1560,6 +1570,12 @@ def apply_external_shading(irradiance_df, beam_shaded_fraction, diffuse_factor, 
 # movable shading
 # --------------------------------------------------------------------------------------------
 _CONTROLS = ("irradiance", "temperature", "schedule")
+_POSITIONS = ("external", "internal")
+
+#: Default share of the heat absorbed by an internal blind or curtain that reaches the room
+#: air by convection [-] (both faces in contact with room air in a gap open to the room; the
+#: rest leaves as long-wave radiation). Common practice, no source.
+INTERNAL_CONVECTIVE_FRACTION = 0.6
 
 
 def shading_state_from_irradiance(total_irradiance, on_above, off_below, *, initial=False):
@@ -1610,10 +1626,11 @@ class MovableShading:
     Parameters
     ----------
     factor : float or Expr
-        Share of the transmitted solar gain still admitted when deployed [-], 0 … 1
-        (external venetian blinds about 0.15–0.25, internal blinds 0.5–0.7; common
-        practice, no source). A parameter expression (:mod:`thermonet.parameters`) varies
-        it per row of a study, with ``control="temperature"`` only (a switch factor).
+        Share of the solar gain transmitted by the glazing that passes the deployed device
+        (its solar transmittance) [-], 0 … 1. For an external device this is all that
+        enters (external venetian blinds about 0.15–0.25; common practice, no source). A
+        parameter expression (:mod:`thermonet.parameters`) varies it per row of a study, with
+        ``control="temperature"`` only (a switch factor).
     control : {"irradiance", "temperature", "schedule"}, default "irradiance"
         ``"irradiance"``: by the irradiance on the window, decidable from the weather
         (:meth:`deployed`). ``"temperature"``: by the temperature of ``node`` — stored
@@ -1625,11 +1642,44 @@ class MovableShading:
         Node whose temperature switches the device (``control="temperature"`` only).
     schedule : pandas.Series, optional
         Deployed state per step (bool or 0/1, ``control="schedule"`` only).
+    position : {"external", "internal"}, default "external"
+        ``"external"``: the device rejects what it does not transmit (outdoors).
+        ``"internal"`` (a blind or curtain inside the glazing): of the gain the glazing
+        transmits, the share ``factor`` passes the device, the share ``absorptance`` is
+        absorbed by it and released to the room — ``convective_fraction`` of it to the room
+        air, the rest as long-wave radiation to the room's surfaces — and the remainder
+        ``1 − factor − absorptance`` is reflected back out through the glazing
+        (:func:`internal_device_shares`).
+    absorptance : float, default 0
+        Solar absorptance of an internal device [-], 0 … 1 − ``factor`` (light-coloured
+        roller blinds and curtains about 0.1–0.3, dark ones 0.5–0.7; common practice, no
+        source). Must stay 0 for an external device (its absorbed heat is taken as lost
+        outdoors; put any share it passes inwards into ``factor``).
+    convective_fraction : float, optional
+        Share of the heat absorbed by an internal device that goes to the room air by
+        convection [-], 0 … 1; default :data:`INTERNAL_CONVECTIVE_FRACTION`. Internal
+        devices only.
 
     Raises
     ------
     NetworkError
-        Factor out of range, unknown control, missing or superfluous parameters.
+        Factor, absorptance or convective fraction out of range, unknown control or
+        position, missing or superfluous parameters.
+
+    Notes
+    -----
+    EN 13363-1 gives a simplified method for the total solar energy transmittance of a
+    device combined with glazing, internal (gap ventilated to the room) or external [1]_;
+    its formulas (from memory) also credit part of the reflected share absorbed by the
+    glass on its way out, which this split leaves out. That an internal device admits more
+    heat than an external one of the same transmittance — its absorbed heat stays inside —
+    is the published qualitative fact checked in the tests (docs/references.md §10).
+
+    References
+    ----------
+    .. [1] EN 13363-1:2003+A1:2007, Solar protection devices combined with glazing —
+       Calculation of solar and light transmittance — Part 1: Simplified method
+       (docs/references.md §10).
     """
 
     factor: float
@@ -1638,9 +1688,13 @@ class MovableShading:
     off_below: float | None = None
     node: str | None = None
     schedule: pd.Series | None = None
+    position: str = "external"
+    absorptance: float = 0.0
+    convective_fraction: float | None = None
 
     def __post_init__(self) -> None:
         _finite_number("MovableShading factor", _default(self.factor), 0.0, 1.0)
+        self._check_position()
         if self.control not in _CONTROLS:
             raise NetworkError(f"MovableShading control must be one of {list(_CONTROLS)}, got "
                                f"{self.control!r}")
@@ -1674,6 +1728,36 @@ class MovableShading:
             vals = pd.to_numeric(s, errors="coerce").to_numpy(dtype=float)
             if not np.all(np.isin(vals, (0.0, 1.0))):
                 raise NetworkError("schedule values must be bool or 0/1 (NaN not allowed)")
+
+    def _check_position(self) -> None:
+        if self.position not in _POSITIONS:
+            raise NetworkError(f"MovableShading position must be one of {list(_POSITIONS)}, "
+                               f"got {self.position!r}")
+        a = _finite_number("MovableShading absorptance [-]", self.absorptance, 0.0, 1.0)
+        if self.position == "external":
+            if a != 0.0:
+                raise NetworkError(
+                    f"MovableShading absorptance={a:g} is used for internal devices only; an "
+                    "external device's absorbed heat is taken as lost outdoors: give the share "
+                    "it admits as factor, or position='internal'")
+            if self.convective_fraction is not None:
+                raise NetworkError("MovableShading convective_fraction is used for internal "
+                                   "devices only (position='internal')")
+            return
+        internal_device_shares(self.factor, a, self.convective)
+
+    @property
+    def internal(self) -> bool:
+        """Whether the device is inside the glazing (``position="internal"``)."""
+        return self.position == "internal"
+
+    @property
+    def convective(self) -> float:
+        """Convective share of the absorbed heat of an internal device [-] (0 if external)."""
+        if not self.internal:
+            return 0.0
+        f = self.convective_fraction
+        return INTERNAL_CONVECTIVE_FRACTION if f is None else float(f)
 
     def deployed(self, irradiance=None, index=None):
         """Deployed state per step (True = deployed).
@@ -1712,8 +1796,11 @@ class MovableShading:
         )
 
     def admitted_fraction(self, deployed):
-        """Share of the transmitted gain admitted per step [-]: ``factor`` where deployed, 1
-        elsewhere — for ``window_transmitted(..., shading=...)``.
+        """Share of the transmitted gain that enters the room per step [-] — for
+        ``window_transmitted(..., shading=...)``.
+
+        ``factor`` where deployed (internal devices: ``factor + absorptance``, the heat the
+        device absorbs is released inside), 1 elsewhere.
 
         Parameters
         ----------
@@ -1721,7 +1808,53 @@ class MovableShading:
             Whether the device is deployed in each step.
         """
         d = np.asarray(deployed, dtype=bool)
-        return _like(np.where(d, self.factor, 1.0), deployed, name="admitted_fraction")
+        on = self.factor + (self.absorptance if self.internal else 0.0)
+        return _like(np.where(d, on, 1.0), deployed, name="admitted_fraction")
+
+
+def internal_device_shares(transmittance, absorptance, convective_fraction=None) -> dict:
+    """Where the solar gain a glazing transmits goes when an internal device is deployed.
+
+    Parameters
+    ----------
+    transmittance : float
+        Solar transmittance of the device τ [-], 0 … 1.
+    absorptance : float
+        Solar absorptance of the device α [-], 0 … 1 − τ.
+    convective_fraction : float, optional
+        Share of the absorbed heat released to the room air by convection f_c [-], 0 … 1;
+        default :data:`INTERNAL_CONVECTIVE_FRACTION`.
+
+    Returns
+    -------
+    dict
+        Shares of the gain transmitted by the glazing [-]: ``"transmitted"`` τ (reaches the
+        room's surfaces and air as an undeployed gain would), ``"convective"`` α·f_c (to
+        the room air), ``"radiative"`` α·(1 − f_c) (long-wave to the room's surfaces),
+        ``"rejected"`` 1 − τ − α (reflected back out). The first three enter the room.
+
+    Raises
+    ------
+    NetworkError
+        A value out of range or τ + α > 1.
+
+    Notes
+    -----
+    An energy balance of the device with no storage: τ + α + ρ = 1 with ρ its solar
+    reflectance, the absorbed heat released at once (common practice, no source). The
+    reflected share is taken as leaving through the glazing; EN 13363-1's simplified
+    method (from memory) would return a part of it absorbed in the glass.
+    """
+    tau = _finite_number("internal device transmittance (factor) [-]", transmittance, 0.0, 1.0)
+    a = _finite_number("internal device absorptance [-]", absorptance, 0.0, 1.0)
+    fc = INTERNAL_CONVECTIVE_FRACTION if convective_fraction is None else convective_fraction
+    fc = _finite_number("internal device convective_fraction [-]", fc, 0.0, 1.0)
+    if tau + a > 1.0 + 1e-12:
+        raise NetworkError(f"internal device: transmittance {tau:g} + absorptance {a:g} = "
+                           f"{tau + a:g} exceeds 1; the reflectance 1 − τ − α cannot be "
+                           "negative — lower one of them")
+    return {"transmitted": tau, "convective": a * fc, "radiative": a * (1.0 - fc),
+            "rejected": max(0.0, 1.0 - tau - a)}
 
 
 # --------------------------------------------------------------------------------------------

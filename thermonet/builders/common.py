@@ -189,8 +189,35 @@ def site_solar_position(weather, latitude, longitude):
                            "the weather df.attrs['site'] = {'latitude': ..., 'longitude': ...}")
     pressure = weather["pressure"].to_numpy(dtype=float) if "pressure" in weather else None
     temp = weather["temp_air"].to_numpy(dtype=float) if "temp_air" in weather else None
-    return _solar.solar_position(weather.index, lat, lon, site.get("elevation") or 0.0,
-                                 pressure, temp)
+    elevation = site.get("elevation") or 0.0
+    key = _position_key(weather.index, lat, lon, elevation, pressure, temp)
+    if key not in SOLAR_POSITIONS:
+        if len(SOLAR_POSITIONS) >= SOLAR_POSITIONS_KEPT:
+            SOLAR_POSITIONS.pop(next(iter(SOLAR_POSITIONS)))
+        SOLAR_POSITIONS[key] = _solar.solar_position(weather.index, lat, lon, elevation,
+                                                     pressure, temp)
+    return SOLAR_POSITIONS[key].copy()
+
+
+#: Solar positions already computed, by a digest of everything they depend on (index, site,
+#: pressure and air temperature for refraction): a study that builds one network per variant
+#: on the same weather computes them once. The oldest is dropped beyond
+#: :data:`SOLAR_POSITIONS_KEPT`; a copy is returned, so callers cannot change the kept one.
+SOLAR_POSITIONS: dict = {}
+
+#: Number of solar-position tables kept (a year of hourly rows is about 0.5 MB each).
+SOLAR_POSITIONS_KEPT = 8
+
+
+def _position_key(index, lat, lon, elevation, pressure, temp) -> tuple:
+    import hashlib
+
+    h = hashlib.blake2b(digest_size=16)
+    h.update(np.ascontiguousarray(index.as_unit("ns").asi8).tobytes())
+    h.update(str(index.tz).encode())
+    for arr in (pressure, temp):
+        h.update(b"-" if arr is None else np.ascontiguousarray(arr).tobytes())
+    return (h.hexdigest(), float(lat), float(lon), float(elevation))
 
 
 def check_zone(zone, what):

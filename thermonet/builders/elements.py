@@ -351,7 +351,9 @@ class ZoneBuild:
     floors : set
         Those of them that are floors.
     window_gains : list
-        (window, transmitted gain [W]) of the windows to outdoor air.
+        (window, transmitted gain [W], deployed state or None) of the windows to outdoor
+        air; the gain is without the movable device where the network switches it
+        (temperature control, internal devices).
     """
 
     net: Network
@@ -578,9 +580,12 @@ def add_element_window(z: ZoneBuild, p: ElementPlan, win: Window, kind: str, oth
                           z.sky)
         check_parametric_g(win, f"window {win.name!r} in element {p.elem.name!r}")
         if z.weather is not None and default(win.g_value) > 0:
-            gain = window_solar_gain(z.weather, win, p.tilt, p.azimuth,
-                                     solpos=z.solar_position(), sky_model=z.sky_model)
-            z.window_gains.append((win, gain))
+            dev = win.shading
+            switched = dev is not None and (dev.control == "temperature" or dev.internal)
+            gain, state = window_solar_gain(z.weather, win, p.tilt, p.azimuth,
+                                            solpos=z.solar_position(), sky_model=z.sky_model,
+                                            with_device=not switched, return_state=True)
+            z.window_gains.append((win, gain, state))
     elif kind == "zone":
         add_films_to_zone(net, rec, wse, other, p.direction, wa, wpath, wb)
     else:

@@ -115,7 +115,7 @@ from thermonet.builders.elements import (
 )
 from thermonet.builders.ground import Soil
 from thermonet.builders.records import Room, keep_room
-from thermonet.builders.windows import add_shading_switch
+from thermonet.builders.windows import add_shading_switch, internal_device_sources
 from thermonet.constants import RHO_CP_AIR
 from thermonet.errors import NetworkError, WeatherError
 from thermonet.network import Network
@@ -357,9 +357,13 @@ def add_zone_air(net: Network, name: str, heated: bool, floor_area: float, heigh
 def distribute_window_solar(z: ZoneBuild, distribution) -> None:
     """Sources of the solar gain the zone's windows transmit, shared over its receivers.
 
-    Windows with a temperature-controlled shading device get their own sources and a switch;
-    so do windows whose gain depends on parameters (a series times an expression of the
-    window's area and g-value, :mod:`thermonet.parameters`); the others' gains are summed.
+    Windows with a shading device the network switches (temperature control, or an internal
+    blind or curtain, :attr:`thermonet.solar.MovableShading.internal`) get their own sources
+    and a switch; so do windows whose gain depends on parameters (a series times an
+    expression of the window's area and g-value, :mod:`thermonet.parameters`); the others'
+    gains are summed. An internal device adds two sources of the heat it absorbs while down:
+    the convective part on the room air, the long-wave part on the room's radiant star node
+    (:func:`thermonet.builders.windows.internal_device_sources`).
 
     Parameters
     ----------
@@ -373,11 +377,14 @@ def distribute_window_solar(z: ZoneBuild, distribution) -> None:
     net, rec = z.net, z.rec
     shares = room_solar_shares(rec, z.receivers, z.floors, distribution)
     groups: dict = {}
-    for win, gain in z.window_gains:
+    switched: dict = {}
+    for win, gain, state in z.window_gains:
         dev = win.shading
-        own = (dev is not None and dev.control == "temperature") or is_parametric(gain)
-        key = win.name if own else None
+        switches = dev is not None and (dev.control == "temperature" or dev.internal)
+        key = win.name if switches or is_parametric(gain) else None
         groups[key] = gain if key not in groups else groups[key] + gain
+        if key is not None:
+            switched[key] = (dev, state)
     for key, gain in groups.items():
         tag = f"{rec.name}.{key}" if key else rec.name
         srcs = []
@@ -386,10 +393,13 @@ def distribute_window_solar(z: ZoneBuild, distribution) -> None:
                 srcs.append(net.add_source(node, power=(gain * share).rename(None),
                                            path="solar", name=f"{tag}:solar>{node}"))
         rec.sources += srcs
-        dev = None if key is None else next(w for w, _ in z.window_gains
-                                            if w.name == key).shading
-        if dev is not None and dev.control == "temperature":
-            rec.switches.append(add_shading_switch(net, dev, srcs, f"{tag}:shading"))
+        dev, state = switched.get(key, (None, None))
+        if dev is not None and (dev.control == "temperature" or dev.internal):
+            absorbed = internal_device_sources(net, dev, gain, {rec.air: 1.0},
+                                               {rec.star: 1.0}, tag)
+            rec.sources += absorbed
+            rec.switches.append(add_shading_switch(net, dev, srcs, f"{tag}:shading",
+                                                   state=state, absorbed=absorbed))
 
 
 def room_solar_shares(rec: Room, receivers, floors, distribution) -> dict:

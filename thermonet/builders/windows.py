@@ -20,7 +20,7 @@ from thermonet.builders.common import (
     outdoor_boundary,
     site_solar_position,
 )
-from thermonet.controls import above, below
+from thermonet.controls import above, below, when
 from thermonet.errors import NetworkError, ParameterError
 from thermonet.network import Network
 from thermonet.parameters import ScaledSeries, default, is_parametric
@@ -56,8 +56,9 @@ class Window:
     horizon : (azimuths, elevations), optional
         Far-horizon profile [°], see :func:`thermonet.solar.horizon_shaded`.
     shading : thermonet.solar.MovableShading, optional
-        Movable device (blind, shutter); irradiance- or schedule-controlled ones become a
-        factor series, temperature-controlled ones a network switch.
+        Movable device (blind, shutter, curtain); external irradiance- or
+        schedule-controlled ones become a factor series, temperature-controlled and
+        internal ones (``position="internal"``) a network switch.
     iam_model : {"ashrae", "physical"}, default "ashrae"
         Incidence angle modifier of :func:`thermonet.solar.window_transmitted`.
     """
@@ -118,7 +119,8 @@ def check_window(win, elem_name):
 
 
 def window_solar_gain(weather, window: Window, tilt: float, azimuth: float, *, solpos=None,
-                      latitude=None, longitude=None, sky_model="perez", with_device=True):
+                      latitude=None, longitude=None, sky_model="perez", with_device=True,
+                      return_state=False):
     """Solar gain transmitted by one window [W], with external and movable shading.
 
     Parameters
@@ -134,8 +136,11 @@ def window_solar_gain(weather, window: Window, tilt: float, azimuth: float, *, s
         Site [°] when ``solpos`` is not given and the weather has no site.
     sky_model : {"isotropic", "haydavies", "perez"}
     with_device : bool, default True
-        Apply an irradiance- or schedule-controlled :class:`~thermonet.solar.MovableShading`;
-        a temperature-controlled one is never applied here (the network switches it).
+        Apply an irradiance- or schedule-controlled :class:`~thermonet.solar.MovableShading`
+        (an internal device by the share that enters, ``factor + absorptance``); a
+        temperature-controlled one is never applied here (the network switches it).
+    return_state : bool, default False
+        Also return the device's deployed state.
 
     Returns
     -------
@@ -144,6 +149,9 @@ def window_solar_gain(weather, window: Window, tilt: float, azimuth: float, *, s
         gain of 1 m² at g = 1 times ``area × g_value`` (a
         :class:`~thermonet.parameters.ScaledSeries`, exact since the gain is proportional
         to both).
+    pandas.Series of bool or None
+        With ``return_state``: the deployed state per step of an irradiance- or
+        schedule-controlled device (None without one, or for temperature control).
 
     Notes
     -----
@@ -193,15 +201,16 @@ def window_solar_gain(weather, window: Window, tilt: float, azimuth: float, *, s
                                         az_p, el_p)
         fd = _solar.horizon_diffuse_factor(tilt, azimuth, az_p, el_p)
         irr = _solar.apply_external_shading(irr, blocked, fd)
-    admitted = None
     dev = window.shading
-    if with_device and dev is not None and dev.control != "temperature":
+    state = None
+    if dev is not None and dev.control != "temperature":
         state = (dev.deployed(irradiance=irr["total"]) if dev.control == "irradiance"
                  else dev.deployed(index=weather.index))
-        admitted = dev.admitted_fraction(state)
-    return _solar.window_transmitted(irr, area=window.area, g_value=window.g_value,
+    admitted = dev.admitted_fraction(state) if with_device and state is not None else None
+    gain = _solar.window_transmitted(irr, area=window.area, g_value=window.g_value,
                                      frame_fraction=window.frame_fraction,
                                      iam_model=window.iam_model, shading=admitted)
+    return (gain, state) if return_state else gain
 
 
 def window_u_value(glazing_u, frame_u, frame_fraction, *, psi=0.0, glazing_perimeter=0.0,
@@ -265,13 +274,15 @@ class AddedWindow:
     link : str
         Transmission link outdoor → node, conductance U_w·A [W/K].
     sources : list of str
-        Solar sources (path ``"solar"``), one per receiving node.
+        Solar sources (path ``"solar"``), one per receiving node; for an internal device
+        also the sources of the heat it absorbs (``<name>:device_convective>…`` on
+        ``node``, ``<name>:device_radiative>…`` on the receivers).
     switches : list of str
-        The shading switch of a temperature-controlled device (else empty).
+        The shading switch of a temperature-controlled or internal device (else empty).
     gain : pandas.Series or None
-        Transmitted solar gain [W] with external shading and any irradiance- or
-        schedule-controlled device applied (a temperature-controlled device acts through
-        the switch); None without weather or with g = 0.
+        Transmitted solar gain [W] with external shading and an external irradiance- or
+        schedule-controlled device applied (temperature-controlled and internal devices
+        act through the switch); None without weather or with g = 0.
     """
 
     name: str
@@ -291,7 +302,10 @@ def add_window(net: Network, node: str, window: Window, *, tilt: float = 90.0,
     ``"glazing"``, ``"opaque"`` for a :class:`Door`) and, with ``weather``, the transmitted
     solar gain as sources (path ``"solar"``) on the receiving nodes, including external
     shading (overhang, fins, far horizon) and movable shading; a temperature-controlled
-    device becomes a switch on those sources. Use it for networks wired by hand;
+    device, and an internal one (:attr:`thermonet.solar.MovableShading.internal`) with any
+    control, becomes a switch on those sources (an internal one with the sources of the
+    heat it absorbs: the convective part on ``node``, the long-wave part on the receivers
+    by their shares). Use it for networks wired by hand;
     :func:`add_room` does the same for the windows of its elements (with surface nodes and
     films instead of one air-to-air link).
 
@@ -368,15 +382,23 @@ def add_window(net: Network, node: str, window: Window, *, tilt: float = 90.0,
         raise TypeError("weather must be a pandas DataFrame")
     if solpos is None:
         solpos = site_solar_position(weather, latitude, longitude)
-    gain = window_solar_gain(weather, window, tilt, azimuth, solpos=solpos,
-                             sky_model=sky_model).rename(None)
+    switched = dev is not None and (dev.control == "temperature" or dev.internal)
+    gain, state = window_solar_gain(weather, window, tilt, azimuth, solpos=solpos,
+                                    sky_model=sky_model, with_device=not switched,
+                                    return_state=True)
+    gain = gain.rename(None)
     rec.gain = gain
     for n, share in shares.items():
         if share > 0.0:
             rec.sources.append(net.add_source(n, power=gain * share, path="solar",
                                               name=f"{window.name}:solar>{n}"))
-    if dev is not None and dev.control == "temperature":
-        rec.switches.append(add_shading_switch(net, dev, rec.sources, f"{window.name}:shading"))
+    if switched:
+        through = list(rec.sources)
+        absorbed = internal_device_sources(net, dev, gain, {node: 1.0}, shares,
+                                           window.name)
+        rec.sources += absorbed
+        rec.switches.append(add_shading_switch(net, dev, through, f"{window.name}:shading",
+                                               state=state, absorbed=absorbed))
     return rec
 
 
@@ -442,27 +464,84 @@ def receiver_shares(net: Network, node: str, receivers: Mapping | None, what: st
     return shares
 
 
-def add_shading_switch(net: Network, device, sources, name: str) -> str:
-    """Switch of a temperature-controlled shading device on solar ``sources``.
+def internal_device_sources(net: Network, device, gain: pd.Series, air: Mapping,
+                            surfaces: Mapping, tag: str) -> list:
+    """Sources of the heat an internal device absorbs (at full power; the switch gates them).
+
+    Parameters
+    ----------
+    net : Network
+    device : thermonet.solar.MovableShading
+        The device; nothing is added for an external one or one that absorbs nothing.
+    gain : pandas.Series
+        Solar gain the glazing transmits with the device up [W].
+    air : mapping of str to float
+        Node(s) receiving the convective part, with shares summing to 1 (the room air).
+    surfaces : mapping of str to float
+        Node(s) receiving the long-wave part, with shares summing to 1 (the room's radiant
+        star node, or the window's receivers in a hand-built network).
+    tag : str
+        Prefix of the source names (``<tag>:device_convective>…``,
+        ``<tag>:device_radiative>…``).
+
+    Returns
+    -------
+    list of str
+        The sources added (path ``"solar"``), powers ``gain × α·f_c × share`` and
+        ``gain × α·(1 − f_c) × share`` [W] (:func:`thermonet.solar.internal_device_shares`).
+    """
+    if device is None or not device.internal:
+        return []
+    split = _solar.internal_device_shares(device.factor, device.absorptance, device.convective)
+    out = []
+    for part, receivers in (("convective", air), ("radiative", surfaces)):
+        for node, share in receivers.items():
+            if split[part] * share > 0.0:
+                out.append(net.add_source(node, power=(gain * (split[part] * share)).rename(
+                    None), path="solar", name=f"{tag}:device_{part}>{node}"))
+    return out
+
+
+def add_shading_switch(net: Network, device, sources, name: str, *, state=None,
+                       absorbed=()) -> str:
+    """Switch of a movable shading device on solar ``sources``.
 
     Parameters
     ----------
     net : Network
     device : thermonet.solar.MovableShading
         With ``control="temperature"``: down above ``on_above`` [°C] at ``node``, up below
-        ``off_below`` [°C]; while down the sources are scaled by ``factor`` [-].
+        ``off_below`` [°C]. Irradiance- or schedule-controlled devices (switched here when
+        internal) follow ``state``. While down the sources are scaled by ``factor`` [-].
     sources : list of str
-        Solar sources the device acts on.
+        Solar sources the device acts on (the gain the glazing transmits).
     name : str
         Switch name.
+    state : pandas.Series of bool, optional
+        Deployed state per step (required unless ``control="temperature"``).
+    absorbed : sequence of str
+        Sources of the heat an internal device absorbs (:func:`internal_device_sources`):
+        off (factor 0) while the device is up, at full power while it is down.
 
     Returns
     -------
     str
         The switch name.
+
+    Raises
+    ------
+    NetworkError
+        An irradiance- or schedule-controlled device without ``state``.
     """
-    return net.add_switch(on=above(device.node, device.on_above),
-                          off=below(device.node, device.off_below),
-                          sources={s: number(device.factor) for s in sources}, name=name)
+    if device.control == "temperature":
+        on, off = above(device.node, device.on_above), below(device.node, device.off_below)
+    elif state is None:
+        raise NetworkError(f"shading switch {name!r}: a {device.control}-controlled device "
+                           "needs state= its deployed state per step")
+    else:
+        on, off = when(state.rename(f"{name}:deployed")), None
+    factors = {s: number(device.factor) for s in sources}
+    factors.update({s: (0.0, 1.0) for s in absorbed})
+    return net.add_switch(on=on, off=off, sources=factors, name=name)
 
 

@@ -26,9 +26,13 @@ How it works
    precisely than each risk alone.
 2. **Runs**: one row per (option, sample) goes through :func:`thermonet.studies.run_variants`
    (executors, progress bar, ``out=`` folders that resume, failed runs collected). Each row
-   calls ``build(**option_parameters, **sampled_inputs)``, simulates the network with
-   :func:`thermonet.simulate` on the weather (its ``temp_air`` raised by the sampled warming
-   offset, if any) and evaluates every :class:`Criterion` on the run.
+   calls ``build(**option_parameters, **sampled_inputs)``; the networks of a chunk are
+   stepped together by the engine's batch path (:func:`thermonet.engine.batch.run_batch`,
+   the same numbers as :func:`thermonet.simulate` one by one, tested), on the weather with
+   its ``temp_air`` raised by each run's sampled warming offset, if any (runs with the same
+   offset share a batch: with a sampled offset these are the options of one sample). The
+   hourly traces of the chunk are kept for :class:`RiskJudge`, which evaluates every
+   :class:`Criterion` on each run, and dropped after.
 3. **Probability of failing** per option and criterion: the share of runs that fail, with a
    binomial confidence interval (:func:`binomial_interval`): Wilson's score interval [4]_
    (default) or the Clopper–Pearson interval [5]_.
@@ -90,7 +94,6 @@ References
 
 from __future__ import annotations
 
-import hashlib
 import math
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
@@ -154,6 +157,11 @@ class RiskRun:
     default_temperature : str or callable
         The study's ``temperature=``, used by :meth:`temperature` when a criterion names
         none.
+    plan : dict
+        ``{comfort key: options}`` (:func:`comfort_plan`): the options of
+        :func:`~thermonet.studies.outputs.comfort_outputs` calls merged across the
+        study's criteria, so that one call per judged temperature and setting serves
+        them all (default: each criterion calls it with its own options).
     _cache : dict
         Internal: judged temperatures already formed by :meth:`temperature`, by spec
         (leave it to its default).
@@ -164,6 +172,7 @@ class RiskRun:
     weather: pd.DataFrame
     inputs: dict
     default_temperature: object = None
+    plan: dict = field(default_factory=dict, repr=False)
     _cache: dict = field(default_factory=dict, repr=False)
 
     def temperature(self, spec=None) -> pd.Series:
@@ -185,6 +194,87 @@ class RiskRun:
         if key not in self._cache:
             self._cache[key] = temperature_of(spec, self.results, self.handles)
         return self._cache[key]
+
+    def comfort(self, spec, options: dict) -> dict:
+        """:func:`~thermonet.studies.outputs.comfort_outputs` of a judged temperature.
+
+        Parameters
+        ----------
+        spec : str or callable or None
+            Judged temperature (see :meth:`temperature`).
+        options : dict
+            Keyword arguments of ``comfort_outputs`` (``occupied`` may be a clock window);
+            replaced by the merged options of :attr:`plan` when it holds them.
+
+        Returns
+        -------
+        dict
+            The outputs (names of the glossary, "Study outputs per variant").
+        """
+        spec = self.default_temperature if spec is None else spec
+        ck = comfort_key(options)
+        merged = self.plan.get(ck)
+        if merged is None:     # not planned: this call's own thresholds are part of the key
+            merged = options
+            ck = (ck, tuple(tuple(options.get(k, ())) for k in MERGED_OPTIONS))
+        key = (spec if isinstance(spec, str) else id(spec), ck)
+        if key not in self._cache:
+            t = self.temperature(spec)
+            opts = dict(merged)
+            opts["occupied"] = occupied_rows(opts.get("occupied"), t.index)
+            self._cache[key] = comfort_outputs(t, self.weather["temp_air"], **opts)
+        return self._cache[key]
+
+
+#: Options of :func:`~thermonet.studies.outputs.comfort_outputs` that list thresholds: calls
+#: that differ only in them are merged (each threshold's value does not depend on the others).
+MERGED_OPTIONS = ("hours_above", "degree_hours_above")
+
+
+def comfort_key(options: dict) -> tuple:
+    """Key of a ``comfort_outputs`` call up to its threshold lists (see :data:`MERGED_OPTIONS`).
+
+    Parameters
+    ----------
+    options : dict
+        Keyword arguments of :func:`~thermonet.studies.outputs.comfort_outputs`.
+
+    Returns
+    -------
+    tuple
+        Hashable; objects other than numbers, strings and tuples (e.g. an occupancy Series)
+        enter by identity.
+    """
+    def part(v):
+        return v if isinstance(v, (str, int, float, tuple, type(None))) else ("id", id(v))
+
+    return tuple(sorted((k, part(v)) for k, v in options.items() if k not in MERGED_OPTIONS))
+
+
+def comfort_plan(criteria) -> dict:
+    """Merged ``comfort_outputs`` options of the criteria that read them (:class:`ComfortValue`).
+
+    Parameters
+    ----------
+    criteria : sequence of Criterion
+
+    Returns
+    -------
+    dict
+        ``{comfort_key(options): options}`` with the union of the thresholds of every
+        criterion of that key, in the order first met.
+    """
+    plan: dict = {}
+    for c in criteria:
+        f = c.function
+        if not isinstance(f, ComfortValue):
+            continue
+        key = comfort_key(f.options)
+        merged = plan.setdefault(key, dict(f.options))
+        for k in MERGED_OPTIONS:
+            have = list(merged.get(k, ()))
+            merged[k] = tuple(have + [x for x in f.options.get(k, ()) if x not in have])
+    return plan
 
 
 def temperature_of(spec, results, handles) -> pd.Series:
@@ -330,11 +420,7 @@ class ComfortValue:
     scale: float = 1.0
 
     def __call__(self, run: RiskRun) -> float:
-        t = run.temperature(self.temperature)
-        opts = dict(self.options)
-        opts["occupied"] = occupied_rows(opts.get("occupied"), t.index)
-        out = comfort_outputs(t, run.weather["temp_air"], **opts)
-        return float(out[self.column]) * self.scale
+        return float(run.comfort(self.temperature, self.options)[self.column]) * self.scale
 
 
 @dataclass(frozen=True)
@@ -738,34 +824,6 @@ def failure_drivers(inputs: pd.DataFrame, failed, values=None) -> pd.DataFrame:
 
 
 # ============================================================================ the runs
-def split_built(obj):
-    """``(network, handles)`` from what ``build`` returned (a Network or a 2-tuple).
-
-    Parameters
-    ----------
-    obj : Network or tuple
-
-    Returns
-    -------
-    (Network, object or None)
-    """
-    from thermonet.network import Network
-
-    if isinstance(obj, Network):
-        return obj, None
-    if isinstance(obj, tuple) and len(obj) == 2 and isinstance(obj[0], Network):
-        return obj
-    raise StudyError(f"build returned {type(obj).__name__}; return a thermonet Network or a "
-                     "tuple (Network, handles) whose handles the temperature function reads")
-
-
-def _weather_digest(weather: pd.DataFrame) -> str:
-    h = hashlib.blake2b(digest_size=8)
-    h.update(",".join(map(str, weather.columns)).encode())
-    h.update(pd.util.hash_pandas_object(weather, index=True).to_numpy().tobytes())
-    return h.hexdigest()
-
-
 def _name_of(obj) -> str:
     if isinstance(obj, str):
         return obj
@@ -773,68 +831,58 @@ def _name_of(obj) -> str:
             f"{getattr(obj, '__qualname__', type(obj).__name__)}")
 
 
-class RiskEvaluator:
-    """Build, simulate and judge one run: the function :func:`run_variants` calls per row.
+class RiskJudge:
+    """Judge one run on its hourly results: the ``judge=`` of :func:`run_variants`.
 
-    It returns ``{criterion key: value}`` (the "dict of named numbers" form of
-    :func:`thermonet.studies.run_variants`), so the study gets the executors, progress bar,
-    ``out=`` folders and failure handling of ``run_variants``. Its ``__qualname__`` names
-    the build function, the criteria, the judged temperature, the simulation options and a
-    digest of the weather, so an ``out=`` folder refuses a different study.
+    :func:`overheating_risk` sends every (option, sample) through
+    :func:`thermonet.studies.run_variants`: the networks of a chunk are stepped together by
+    the engine's batch path (:func:`thermonet.engine.batch.run_batch`, traces kept for the
+    chunk), and this object evaluates every :class:`Criterion` on each run. It returns
+    ``{criterion key: value}``. The ``comfort_outputs`` calls of the criteria are merged
+    (:func:`comfort_plan`), one per judged temperature and setting. Its ``__qualname__``
+    names the criteria and the judged temperature, so an ``out=`` folder refuses a
+    different study.
 
     Parameters
     ----------
-    build : callable
-        ``build(**row)`` → Network or (Network, handles).
-    weather : pandas.DataFrame
-        The weather before any warming offset.
     criteria : sequence of Criterion
     temperature : str or callable
         The study's judged temperature (see :class:`RiskRun`).
-    warming_columns : tuple of str
-        Weather columns the sampled :data:`WARMING` offset [K] is added to.
-    pass_weather : bool
-        Call ``build`` with ``weather=`` the run's (warmed) weather too.
-    warmup_days, step
-        As for :func:`thermonet.simulate`.
     """
 
-    def __init__(self, build, weather, criteria, temperature, *, warming_columns,
-                 pass_weather, warmup_days, step):
-        self.build = build
-        self.weather = weather
+    def __init__(self, criteria, temperature):
         self.criteria = tuple(criteria)
         self.temperature = temperature
-        self.warming_columns = tuple(warming_columns)
-        self.pass_weather = bool(pass_weather)
-        self.warmup_days = warmup_days
-        self.step = step
+        self.plan = comfort_plan(self.criteria)
         crit = ",".join(f"{c.key}>{c.limit:g}" for c in self.criteria)
-        self.__qualname__ = (f"overheating_risk[build={_name_of(build)}; criteria={crit}; "
-                             f"temperature={_name_of(temperature)}; warmup_days={warmup_days}; "
-                             f"step={step}; warming={','.join(self.warming_columns)}; "
-                             f"pass_weather={self.pass_weather}; "
-                             f"weather={_weather_digest(weather)}]")
+        self.__qualname__ = (f"overheating_risk[criteria={crit}; "
+                             f"temperature={_name_of(temperature)}]")
         self.__module__ = __name__
 
-    def __call__(self, **row) -> dict:
-        import thermonet as tn
+    def __call__(self, results, handles, row: dict, weather: pd.DataFrame) -> dict:
+        """``{criterion key: value}`` of one run.
 
-        inputs = dict(row)
-        offset = row.pop(WARMING, None)
-        weather = self.weather
-        if offset is not None:
-            weather = weather.copy()
-            for c in self.warming_columns:
-                weather[c] = weather[c] + float(offset)
-        if self.pass_weather:
-            row["weather"] = weather
-        net, handles = split_built(self.build(**row))
-        try:
-            res = tn.simulate(net, weather, step=self.step, warmup_days=self.warmup_days)
-        except Exception as exc:
-            raise StudyError(f"simulate failed: {type(exc).__name__}: {exc}") from exc
-        run = RiskRun(res, handles, weather, inputs, self.temperature)
+        Parameters
+        ----------
+        results : thermonet.Results
+            The run's hourly results.
+        handles : object
+            What ``build`` returned beside the network, or None.
+        row : dict
+            The run's build arguments and, when sampled, :data:`WARMING` [K].
+        weather : pandas.DataFrame
+            The weather the run was simulated with.
+
+        Returns
+        -------
+        dict
+
+        Raises
+        ------
+        StudyError
+            A criterion failed (its key and the cause are named).
+        """
+        run = RiskRun(results, handles, weather, dict(row), self.temperature, self.plan)
         out = {}
         for c in self.criteria:
             try:
@@ -1031,11 +1079,11 @@ def overheating_risk(build, options: Mapping, uncertain: Mapping, weather: pd.Da
         seed = int(np.random.SeedSequence().entropy)
     samples = sample_inputs(spec, n_samples, sampler=sampler, seed=seed)
     params = _run_table(opts, samples)
-    evaluator = RiskEvaluator(build, weather, crits, temperature,
-                              warming_columns=warming_columns, pass_weather=pass_weather,
-                              warmup_days=warmup_days, step=step)
-    runs = run_variants(evaluator, params, None, executor=executor, chunk_size=chunk_size,
-                        progress=progress, out=out, errors=errors)
+    runs = run_variants(build, params, weather, judge=RiskJudge(crits, temperature),
+                        outputs=[c.key for c in crits], warming=WARMING if warming is not None
+                        else None, warming_columns=warming_columns, pass_weather=pass_weather,
+                        warmup_days=warmup_days, step=step, executor=executor,
+                        chunk_size=chunk_size, progress=progress, out=out, errors=errors)
     dists = {k: _describe(_distribution(k, v)) for k, v in spec.items()}
     return _tabulate(runs, opts, crits, samples, dists, dict(
         seed=seed, sampler=sampler, confidence=confidence, interval=interval))

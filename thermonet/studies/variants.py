@@ -21,7 +21,9 @@ Functions
 ---------
 :func:`run_variants`
     one row of annual results per variant (heating and cooling energy and peaks,
-    overheating hours and degree-hours, the annual balance by path), as a tidy table.
+    overheating hours and degree-hours, the annual balance by path of node sets or of rooms
+    named by the builders' records, values of a ``judge`` function on each variant's hourly
+    results), as a tidy table; a row may carry its own warming offset of the weather.
 :func:`variant_traces`
     hourly :class:`thermonet.Results` of chosen variants (traces are kept only when asked).
 :func:`one_at_a_time`, :func:`tornado_plot`
@@ -119,6 +121,14 @@ import pandas as pd
 from thermonet.engine.batch import DEFAULT_MAX_BYTES, run_batch
 from thermonet.errors import StudyError, StudyWarning
 from thermonet.io.files import pid_alive, write_file_atomic
+from thermonet.studies.rows import (
+    check_warming,
+    judge_values,
+    judged_batches,
+    merge_balance_sets,
+    room_balance_sets,
+    warmed_weather,
+)
 
 __all__ = [
     "run_variants",
@@ -243,18 +253,41 @@ def _gc_paused():
             gc.enable()
 
 
-def _build_chunk(build, params: pd.DataFrame) -> dict:
+def _row_weathers(params: pd.DataFrame, weather, sim: dict) -> list:
+    """Per row of a chunk: ``(key, weather)``, the key grouping rows that share a weather."""
+    col = sim.get("warming")
+    if col is None or weather is None:
+        return [(None, weather)] * len(params)
+    cache: dict = {}
+    out = []
+    for off in params[col].to_numpy(dtype=float):
+        if off not in cache:
+            cache[off] = warmed_weather(weather, off, sim["warming_columns"])
+        out.append((off, cache[off]))
+    return out
+
+
+def _build_chunk(build, params: pd.DataFrame, weather=None, sim: dict | None = None) -> dict:
     """Call ``build`` for every row of a chunk; networks, direct results and build errors."""
     from thermonet.network import Network
 
+    sim = sim or {}
     n = len(params)
     errs: list = [None] * n
     direct: dict[int, dict] = {}
     nets: list = []
     net_pos: list[int] = []
+    handles: dict[int, object] = {}
+    rows = params.to_dict("records")
+    weathers = _row_weathers(params, weather, sim)
+    skip = sim.get("warming")
     with _gc_paused():
         objs = []
-        for i, kw in enumerate(params.to_dict("records")):
+        for i, kw in enumerate(rows):
+            if skip is not None:
+                kw = {k: v for k, v in kw.items() if k != skip}
+            if sim.get("pass_weather"):
+                kw["weather"] = weathers[i][1]
             try:
                 objs.append(build(**kw))
             except Exception as exc:  # noqa: BLE001 - reported per row
@@ -263,6 +296,8 @@ def _build_chunk(build, params: pd.DataFrame) -> dict:
     for i, obj in enumerate(objs):
         if errs[i] is not None:
             continue
+        if isinstance(obj, tuple) and len(obj) == 2 and isinstance(obj[0], Network):
+            obj, handles[i] = obj
         if isinstance(obj, Network):
             nets.append(obj)
             net_pos.append(i)
@@ -274,9 +309,41 @@ def _build_chunk(build, params: pd.DataFrame) -> dict:
                     f"build returned a dict whose values must be numbers ({exc})"))
         else:
             errs[i] = _row_error("build", TypeError(
-                f"build returned {type(obj).__name__}; return a thermonet Network (or a dict "
-                "of named numbers for a model computed outside thermonet)"))
-    return dict(index=params.index, errs=errs, direct=direct, nets=nets, net_pos=net_pos)
+                f"build returned {type(obj).__name__}; return a thermonet Network, a tuple "
+                "(Network, handles) or a dict of named numbers for a model computed outside "
+                "thermonet"))
+    return dict(index=params.index, errs=errs, direct=direct, nets=nets, net_pos=net_pos,
+                handles=handles, rows=rows, weathers=weathers)
+
+
+#: Keys of a study's simulation options that are not arguments of ``run_batch``.
+_STUDY_KEYS = ("judge", "warming", "warming_columns", "pass_weather", "balance_rooms")
+
+
+def _batch_groups(built: dict, sim: dict) -> dict:
+    """Networks of a chunk grouped by (weather key, room balance sets), or an error per row."""
+    groups: dict = {}
+    for j, i in enumerate(built["net_pos"]):
+        sets: dict = {}
+        if sim.get("balance_rooms") is not None:
+            try:
+                sets = room_balance_sets(built["nets"][j], sim["balance_rooms"])
+            except Exception as exc:  # noqa: BLE001 - reported per row
+                built["errs"][i] = _row_error("outputs", exc)
+                continue
+        key = (built["weathers"][i][0], tuple((k, tuple(v)) for k, v in sets.items()))
+        groups.setdefault(key, (sets, []))[1].append(j)
+    return groups
+
+
+def _steps(weather: pd.DataFrame, kw: dict) -> int:
+    """Steps of a run on ``weather`` with its warm-up (for memory estimates only)."""
+    idx = weather.index
+    span = (idx[1] - idx[0]) * len(idx) if len(idx) > 1 else pd.Timedelta(hours=len(idx))
+    step = pd.Timedelta(kw["step"]) if kw.get("step") is not None else (
+        idx[1] - idx[0] if len(idx) > 1 else pd.Timedelta(hours=1))
+    warm = pd.Timedelta(days=float(kw.get("warmup_days") or 0.0))
+    return int(np.ceil((span + warm) / step))
 
 
 def _simulate_chunk(built: dict, weather, sim: dict) -> pd.DataFrame:
@@ -284,22 +351,47 @@ def _simulate_chunk(built: dict, weather, sim: dict) -> pd.DataFrame:
     index, errs, nets, net_pos = built["index"], built["errs"], built["nets"], built["net_pos"]
     n = len(index)
     cols: dict[str, np.ndarray] = {}
-    if nets:
-        if weather is None:
-            for i in net_pos:
-                errs[i] = _row_error("simulate", StudyError(
-                    "build returned a Network but weather is None; pass weather="))
-        else:
+    judge = sim.get("judge")
+    kw = {k: v for k, v in sim.items() if k not in _STUDY_KEYS}
+    if nets and weather is None:
+        for i in net_pos:
+            errs[i] = _row_error("simulate", StudyError(
+                "build returned a Network but weather is None; pass weather="))
+    elif nets:
+        batches = []
+        for sets, js in _batch_groups(built, sim).values():
+            w = built["weathers"][net_pos[js[0]]][1]
+            cuts = ([js] if judge is None else
+                    judged_batches(js, nets[js[0]], _steps(w, kw), kw["max_bytes"]))
+            batches += [(sets, part, w) for part in cuts]
+        for sets, js, w in batches:
+            pos = [net_pos[j] for j in js]
             with _gc_paused():
-                out = run_batch(nets, weather, **sim)
+                out = run_batch([nets[j] for j in js], w, keep_traces=judge is not None,
+                                **{**kw, "balance_nodes": merge_balance_sets(
+                                    kw.get("balance_nodes"), sets)})
             for k in out.table.columns:
-                cols.setdefault(k, np.full(n, np.nan))[net_pos] = out.table[k].to_numpy()
-            for i, e in zip(net_pos, out.errors, strict=True):
+                cols.setdefault(k, np.full(n, np.nan))[pos] = out.table[k].to_numpy()
+            for i, e, res in zip(pos, out.errors, out.traces, strict=True):
                 if e is not None:
                     errs[i] = _row_error("simulate", e)
+                elif judge is not None:
+                    try:
+                        vals = judge_values(judge, res, built["handles"].get(i),
+                                            built["rows"][i], w)
+                    except Exception as exc:  # noqa: BLE001 - reported per row
+                        errs[i] = _row_error("judge", exc)
+                        continue
+                    for k, v in vals.items():
+                        cols.setdefault(k, np.full(n, np.nan))[i] = v
+            del out
     for i, row in built["direct"].items():
         for k, v in row.items():
             cols.setdefault(k, np.full(n, np.nan))[i] = v
+    for i, e in enumerate(errs):     # a row that failed late (judge, outputs) keeps no values
+        if e is not None:
+            for a in cols.values():
+                a[i] = np.nan
     table = pd.DataFrame(cols, index=index)
     table[ERROR] = pd.Series(errs, index=index, dtype=object)
     return table
@@ -315,8 +407,13 @@ def _run_chunk(build, params: pd.DataFrame, weather, sim: dict) -> pd.DataFrame:
     from thermonet.network import Network
 
     if isinstance(build, Network):
+        extra = [k for k in _STUDY_KEYS if sim.get(k) not in (None, False, ())]
+        if extra and extra != ["warming_columns"]:
+            raise StudyError(f"{', '.join(extra)} work with the build(**row) form of "
+                             "run_variants, not with a parametric network; pass a function "
+                             "that returns net.with_values(**row)")
         return run_parametric_chunk(build, params, weather, sim)
-    return _simulate_chunk(_build_chunk(build, params), weather, sim)
+    return _simulate_chunk(_build_chunk(build, params, weather, sim), weather, sim)
 
 
 def run_parametric_chunk(net, params: pd.DataFrame, weather, sim: dict) -> pd.DataFrame:
@@ -666,10 +763,13 @@ def _select_outputs(columns: list, outputs) -> list:
         outputs = [outputs]
     keep: list = []
     for pat in outputs:
-        hits = [pat] if pat in columns else [c for c in columns if fnmatch.fnmatchcase(c, pat)]
+        literal = "".join({"[": "[[]", "]": "[]]"}.get(ch, ch) for ch in pat)
+        hits = [pat] if pat in columns else [
+            c for c in columns if fnmatch.fnmatchcase(c, pat) or fnmatch.fnmatchcase(c, literal)]
         if not hits:
             raise StudyError(f"outputs: {pat!r} names no result column; available: "
-                             f"{', '.join(columns)} (glob patterns such as 'balance:*' work)")
+                             f"{', '.join(columns)} (glob patterns such as 'balance:*' or "
+                             "'balance[<room>]:*' work)")
         keep += [c for c in hits if c not in keep]
     return keep
 
@@ -679,14 +779,22 @@ def _chunks(positions: list[int], size: int) -> list[list[int]]:
 
 
 def _sim_options(comfort_node, hours_above, degree_hours_above, balance_nodes, link_energy,
-                 warmup_days, step, max_bytes, interpolate=None) -> dict:
+                 warmup_days, step, max_bytes, interpolate=None, **study) -> dict:
     out = dict(comfort_node=comfort_node, hours_above=tuple(hours_above),
                degree_hours_above=tuple(degree_hours_above), balance_nodes=balance_nodes,
                link_energy=bool(link_energy), warmup_days=warmup_days, step=step,
                max_bytes=max_bytes)
     if interpolate is not None:     # (absent by default: study folders keep their fingerprint)
         out["interpolate"] = tuple(interpolate)
+    for k, v in study.items():      # (likewise: only the options a study uses)
+        if v is not None and v is not False:
+            out[k] = v
     return out
+
+
+def _callable_name(obj) -> str:
+    return (f"{getattr(obj, '__module__', '?')}."
+            f"{getattr(obj, '__qualname__', type(obj).__name__)}")
 
 
 def _warn_failed(table: pd.DataFrame, stacklevel: int):
@@ -707,20 +815,23 @@ def run_variants(build, params: pd.DataFrame, weather: pd.DataFrame | None = Non
                  warmup_days: float = 14.0, step=None, executor=None,
                  chunk_size: int | None = None, max_bytes: float = DEFAULT_MAX_BYTES,
                  progress="auto", out=None, errors: str = "collect",
-                 interpolate=None) -> pd.DataFrame:
+                 interpolate=None, balance_rooms=None, judge=None, warming: str | None = None,
+                 warming_columns=("temp_air",), pass_weather: bool = False) -> pd.DataFrame:
     """Simulate one network per row of a parameter table; one row of annual results each.
 
     Parameters
     ----------
     build : callable or Network
         ``build(**row)`` → :class:`thermonet.Network`, called with one row's values as
-        keyword arguments (column name → value). It may instead return a dict of named
-        numbers: the row is then not simulated and those are its results (a model computed
-        outside thermonet, or an analytic function that checks a study's wiring). Or a
-        *parametric* network (:mod:`thermonet.parameters`): then no network is built per
-        row — it is compiled once at its defaults and each row's numbers are patched into
-        copies of its arrays (same columns as the ``build`` form; a row whose values fail a
-        check, e.g. a negative conductance, is reported in ``error`` naming the link).
+        keyword arguments (column name → value), or ``(Network, handles)`` where
+        ``handles`` (e.g. a builder's room record) is passed to ``judge``. It may instead
+        return a dict of named numbers: the row is then not simulated and those are its
+        results (a model computed outside thermonet, or an analytic function that checks a
+        study's wiring). Or a *parametric* network (:mod:`thermonet.parameters`): then no
+        network is built per row — it is compiled once at its defaults and each row's
+        numbers are patched into copies of its arrays (same columns as the ``build`` form; a
+        row whose values fail a check, e.g. a negative conductance, is reported in ``error``
+        naming the link).
     params : pandas.DataFrame
         One row per variant, one column per argument of ``build`` (for a parametric network:
         exactly one column per parameter, in its unit); the index labels the variants
@@ -729,7 +840,7 @@ def run_variants(build, params: pd.DataFrame, weather: pd.DataFrame | None = Non
         As for :func:`thermonet.simulate` (required when ``build`` returns networks).
     outputs : str or list of str, optional
         Result columns to keep (names or glob patterns, e.g. ``["heating_kwh",
-        "balance:*"]``); default all.
+        "balance:*", "balance[living]:*"]``; brackets also match literally); default all.
     comfort_node : str, optional
         Node whose end-of-step temperature [°C] gives ``hours_above_<T>`` [h],
         ``degree_hours_above_<T>`` [K·h] and ``max/min/mean_temperature_c`` [°C].
@@ -748,6 +859,30 @@ def run_variants(build, params: pd.DataFrame, weather: pd.DataFrame | None = Non
     interpolate : collection of str, optional
         Instantaneous weather columns, as for :func:`thermonet.simulate` (``()`` holds every
         input over its step).
+    balance_rooms : "all", str or list of str, optional
+        Rooms whose annual balance by path [kWh] is reported, by the names given to
+        :func:`thermonet.builders.add_room` / ``add_buffer`` (``"all"``: every room the
+        builders recorded in the variant's network). Each room's control volume is its
+        recorded ``Room.nodes``; columns ``balance[<room>]:<path>``,
+        ``balance[<room>]:heating``, ``…:cooling``, ``…:storage``, ``…:residual`` — the
+        column sums of ``Results.balance(room.nodes)``. A room missing from a variant fails
+        that variant (``error`` names the rooms it has).
+    judge : callable, optional
+        ``judge(results, handles, row, weather) -> {name: number}``, called on each
+        variant's hourly :class:`thermonet.Results` (the batch keeps the traces of a chunk
+        for it, then drops them); its values become result columns. ``handles`` is the
+        second item when ``build`` returns ``(Network, handles)`` (else None), ``row`` the
+        variant's parameters, ``weather`` the weather it ran with. For ``out=`` folders its
+        ``__module__`` and ``__qualname__`` identify the study; for a process pool it must
+        be picklable.
+    warming : str, optional
+        Name of a ``params`` column holding a warming offset [K] per variant, added to the
+        weather's ``warming_columns`` for that variant (not passed to ``build``). Variants
+        of a chunk with the same offset are stepped together.
+    warming_columns : tuple of str, default ("temp_air",)
+        Weather columns the offset is added to.
+    pass_weather : bool, default False
+        Also call ``build`` with ``weather=`` the variant's (warmed) weather.
     executor : None, concurrent.futures.Executor or dask.distributed.Client
         Where chunks run (see the module docstring).
     chunk_size : int, optional
@@ -793,15 +928,26 @@ def run_variants(build, params: pd.DataFrame, weather: pd.DataFrame | None = Non
     if chunk_size is not None and (not isinstance(chunk_size, (int, np.integer))
                                    or chunk_size < 1):
         raise ValueError(f"chunk_size must be a positive integer [variants], got {chunk_size!r}")
+    wcols = check_warming(params, weather, warming, warming_columns)
+    if pass_weather and "weather" in params.columns:
+        raise StudyError("pass_weather=True passes 'weather' to build, which is also a column "
+                         "of params; rename that column")
+    if judge is not None and not callable(judge):
+        raise TypeError(f"judge must be a function (results, handles, row, weather) -> dict, "
+                        f"got {type(judge).__name__}")
     sim = _sim_options(comfort_node, hours_above, degree_hours_above, balance_nodes,
-                       link_energy, warmup_days, step, max_bytes, interpolate)
+                       link_energy, warmup_days, step, max_bytes, interpolate,
+                       balance_rooms=balance_rooms, judge=judge, warming=warming,
+                       warming_columns=wcols or None, pass_weather=bool(pass_weather))
     N = len(params)
     done: dict[int, pd.DataFrame] = {}
     store = None
     keys = None
     if out is not None:
         fp = {"build": _build_name(build),
-              "weather": _digest_frame(weather), "simulation": _json_safe(sim)}
+              "weather": _digest_frame(weather),
+              "simulation": _json_safe({k: _callable_name(v) if k == "judge" else v
+                                        for k, v in sim.items()})}
         fp["simulation"].pop("max_bytes")
         store = _PartStore(out, fp)
         keys = _row_keys(params)
