@@ -167,11 +167,12 @@ def window_solar_gain(weather, window: Window, tilt: float, azimuth: float, *, s
     if is_parametric(window.area) or is_parametric(window.g_value):
         import dataclasses
 
-        unit = window_solar_gain(weather, dataclasses.replace(window, area=1.0, g_value=1.0),
-                                 tilt, azimuth, solpos=solpos, latitude=latitude,
-                                 longitude=longitude, sky_model=sky_model,
-                                 with_device=with_device)
-        return ScaledSeries(unit, number(window.area) * number(window.g_value))
+        unit, state = window_solar_gain(
+            weather, dataclasses.replace(window, area=1.0, g_value=1.0), tilt, azimuth,
+            solpos=solpos, latitude=latitude, longitude=longitude, sky_model=sky_model,
+            with_device=with_device, return_state=True)
+        scaled = ScaledSeries(unit, number(window.area) * number(window.g_value))
+        return (scaled, state) if return_state else scaled
     if is_parametric(window.shading.factor if window.shading is not None else None) and \
             with_device and window.shading.control != "temperature":
         raise ParameterError(
