@@ -158,3 +158,31 @@ def test_first_run_steps_with_the_reference_while_the_kernel_compiles(monkeypatc
     assert compiled.info["kernel_used"] == "numba"
     np.testing.assert_allclose(first.temperatures, compiled.temperatures, rtol=0, atol=1e-9)
     jobs[0]()          # the background job itself runs the compiled kernel on a copy
+
+
+@pytest.mark.parametrize("case", ["free", "one"])
+def test_lane_kernel_is_bit_identical_to_the_variant_kernel(case, monkeypatch):
+    # Groups in one state with at most one thermostat step on SIMD lanes (16 variants a
+    # block, kernels.step_lanes); the same operations in the same order as the per-variant
+    # kernel, so every sum must agree bit for bit — including the pad lanes of a last,
+    # partial block (37 variants) and a thermostat that hits both capacities.
+    from thermonet.engine import run as run_mod
+
+    from thermonet.engine import kernels
+
+    nets = [network(case, scale=0.5 + 0.04 * k) for k in range(37)]
+    opts = dict(warmup_days=1, comfort_node="a", hours_above=(24.0, 26.0),
+                degree_hours_above=(25.0,), balance_nodes=["a", "b"], link_energy=True)
+    calls = []
+    lane_kernel = kernels.step_lanes_nb
+    monkeypatch.setattr(kernels, "step_lanes_nb",
+                        lambda *a: calls.append(a[0]) or lane_kernel(*a))
+    lanes = run_batch(nets, WEATHER, **opts).table
+    assert calls, "the lane kernel was not used"
+    monkeypatch.setattr(run_mod, "LANES_MIN", 10**9)            # per-variant kernel
+    plain = run_batch(nets, WEATHER, **opts).table
+    assert list(lanes.columns) == list(plain.columns)
+    for col in lanes.columns:
+        assert np.array_equal(lanes[col].to_numpy(), plain[col].to_numpy(), equal_nan=True), col
+    if case == "one":
+        assert (lanes["peak_heating_w"] == 300.0).any() and (lanes["cooling_kwh"] > 0).any()

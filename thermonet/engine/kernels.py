@@ -745,6 +745,221 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
         tstat[v, 2] = tsum
 
 
+def step_lanes(LW, aL, bcL, BTL, BTpL, rampq, PL, OxT, OuT, ocT, M00, OxC, OuC, OuCP, ocC,
+               vcolL, upL, z0L, x0L, QxL, bank, hcolL, hconstL, ccolL, cconstL, qhL, qcL,
+               warm, has_th, c_on, thr_h, thr_d,
+               heat, cool, peak_h, peak_c, hrs, dgh, tstat, zs_sum, us_sum, up_sum, cnt,
+               x_first, x_last, lane_v, js, nin):  # pragma: no cover - compiled
+    """The stepping loop of :func:`step_modal` on SIMD lanes: blocks of ``LW`` variants.
+
+    For groups in one state with at most one thermostat (no switches, no scheduled
+    conductances, no window links, modal coordinates) and only sums kept: the same operations
+    in the same order as :func:`step_modal`, with the variant innermost so the compiler
+    vectorises across variants; the results are bit-identical (tested). Arrays of a block are
+    lane-last: ``aL`` (nblocks, nc, LW), ``BTL`` (nblocks, k, nc, LW), ... (each the state-0
+    slice of the :class:`thermonet.engine.run.Operators` array named alike, for the varying
+    inputs ``js``); pad lanes repeat a variant and are not written (``lane_v`` −1).
+
+    Parameters
+    ----------
+    LW : int
+        Lanes per block.
+    aL, bcL : ndarray (nb, nc, LW)
+        Modal decay [-] and constant inputs' end coordinates.
+    BTL, BTpL : ndarray (nb, k, nc, LW)
+        Rows of the varying inputs on this step's and the previous step's value.
+    rampq : ndarray (k,) of bool
+        Varying inputs that follow a straight line over the step.
+    PL : ndarray (nb, nc, LW)
+        Row of the thermostat's power [per W].
+    OxT, OuT, ocT, M00 : ndarray
+        The thermostat node's observed row (nb, nc, LW), (nb, k, LW), constant part (nb, LW)
+        [°C] and its end response to 1 W (nb, LW) [K/W].
+    OxC, OuC, OuCP, ocC : ndarray
+        The comfort node's observed row, its part from the thermostat's power, constant part.
+    vcolL : ndarray (nb, k, LW) of int
+        Column of each varying input in ``bank``.
+    upL : ndarray (nb, k, LW)
+        Varying inputs before the first row.
+    z0L, x0L : ndarray (nb, nc, LW)
+        Start coordinates and start temperatures [°C].
+    QxL : ndarray (nb, nc, nc, LW)
+        ``x = Qx z``.
+    bank : ndarray (n, ncols)
+        The group's time series [SI].
+    hcolL, hconstL, ccolL, cconstL : ndarray (nb, LW)
+        Heating and cooling setpoints [°C]: column or constant.
+    qhL, qcL : ndarray (nb, LW)
+        Capacities [W].
+    warm : int
+        Warm-up rows.
+    has_th, c_on : bool
+        A thermostat; a comfort node.
+    thr_h, thr_d : ndarray
+        Thresholds [°C] of the comfort node's hours and degree-hours.
+    heat, cool, peak_h, peak_c, hrs, dgh, tstat, zs_sum, us_sum, up_sum, cnt, x_first, x_last
+        Outputs as in :func:`step_modal` (variant-first).
+    lane_v : ndarray (nb, LW) of int
+        Variant of each lane (−1: a pad lane).
+    js : ndarray (k,) of int
+        Input index of each varying input.
+    nin : int
+        Number of boundary and source inputs (the thermostat's power follows them).
+    """
+    nb_ = aL.shape[0]
+    nc = aL.shape[1]
+    nq = BTL.shape[1]
+    n = bank.shape[0]
+    nth = thr_h.shape[0]
+    ndh = thr_d.shape[0]
+    for b in numba.prange(nb_):
+        z = z0L[b].copy()                 # (nc, LW)
+        z1 = np.zeros((nc, LW))
+        up = upL[b].copy()                # (nq, LW)
+        u = np.zeros((nq, LW))
+        P = np.zeros(LW)
+        T0 = np.zeros(LW)
+        hs = np.zeros(LW)
+        cs = np.zeros(LW)
+        tmax = np.full(LW, -np.inf)
+        tmin = np.full(LW, np.inf)
+        tsum = np.zeros(LW)
+        zs = np.zeros((nc, LW))
+        us = np.zeros((nq, LW))
+        ups = np.zeros((nq, LW))
+        ps = np.zeros(LW)
+        hsum = np.zeros(LW)
+        csum = np.zeros(LW)
+        pkh = np.zeros(LW)
+        pkc = np.zeros(LW)
+        hr = np.zeros((nth, LW))
+        dg = np.zeros((ndh, LW))
+        for k in range(n):
+            if k == warm and k > 0:
+                for l in range(LW):
+                    v = lane_v[b, l]
+                    if v < 0:
+                        continue
+                    for i in range(nc):
+                        acc = 0.0
+                        for j in range(nc):
+                            acc += QxL[b, i, j, l] * z[j, l]
+                        x_first[v, i] = acc
+            for i in range(nc):
+                for l in range(LW):
+                    z1[i, l] = aL[b, i, l] * z[i, l] + bcL[b, i, l]
+            for q in range(nq):
+                for l in range(LW):
+                    u[q, l] = bank[k, vcolL[b, q, l]]
+                for i in range(nc):
+                    for l in range(LW):
+                        z1[i, l] += BTL[b, q, i, l] * u[q, l]
+                if rampq[q]:
+                    for i in range(nc):
+                        for l in range(LW):
+                            z1[i, l] += BTpL[b, q, i, l] * up[q, l]
+            if has_th:
+                for l in range(LW):
+                    T0[l] = ocT[b, l]
+                for i in range(nc):
+                    for l in range(LW):
+                        T0[l] += OxT[b, i, l] * z1[i, l]
+                for q in range(nq):
+                    for l in range(LW):
+                        T0[l] += OuT[b, q, l] * u[q, l]
+                for l in range(LW):
+                    hc = hcolL[b, l]
+                    cc = ccolL[b, l]
+                    hs[l] = bank[k, hc] if hc >= 0 else hconstL[b, l]
+                    cs[l] = bank[k, cc] if cc >= 0 else cconstL[b, l]
+                    t0 = T0[l]
+                    mm = M00[b, l]
+                    if not np.isnan(hs[l]) and t0 < hs[l]:
+                        P[l] = min((hs[l] - t0) / mm, qhL[b, l])
+                    elif not np.isnan(cs[l]) and t0 > cs[l]:
+                        P[l] = -min((t0 - cs[l]) / mm, qcL[b, l])
+                    else:
+                        P[l] = 0.0
+                for i in range(nc):
+                    for l in range(LW):
+                        z1[i, l] += PL[b, i, l] * P[l]
+            if k >= warm:
+                for i in range(nc):
+                    for l in range(LW):
+                        zs[i, l] += z[i, l]
+                for q in range(nq):
+                    for l in range(LW):
+                        us[q, l] += u[q, l]
+                        ups[q, l] += up[q, l]
+                for l in range(LW):
+                    ps[l] += P[l]
+                    if P[l] > 0.0:
+                        hsum[l] += P[l]
+                    elif P[l] < 0.0:
+                        csum[l] -= P[l]
+                    th_ = P[l] if P[l] > 0.0 else 0.0
+                    tc_ = -P[l] if P[l] < 0.0 else 0.0
+                    if th_ > pkh[l]:
+                        pkh[l] = th_
+                    if tc_ > pkc[l]:
+                        pkc[l] = tc_
+                if c_on:
+                    for l in range(LW):
+                        T0[l] = ocC[b, l]
+                    for i in range(nc):
+                        for l in range(LW):
+                            T0[l] += OxC[b, i, l] * z1[i, l]
+                    for q in range(nq):
+                        for l in range(LW):
+                            T0[l] += OuC[b, q, l] * u[q, l]
+                    for l in range(LW):
+                        t = T0[l] + OuCP[b, l] * P[l]
+                        for q in range(nth):
+                            if t > thr_h[q]:
+                                hr[q, l] += 1.0
+                        for q in range(ndh):
+                            if t > thr_d[q]:
+                                dg[q, l] += t - thr_d[q]
+                        tmax[l] = max(tmax[l], t)
+                        tmin[l] = min(tmin[l], t)
+                        tsum[l] += t
+            for i in range(nc):
+                for l in range(LW):
+                    z[i, l] = z1[i, l]
+            for q in range(nq):
+                for l in range(LW):
+                    up[q, l] = u[q, l]
+        for l in range(LW):
+            v = lane_v[b, l]
+            if v < 0:
+                continue
+            for i in range(nc):
+                zs_sum[v, 0, i] = zs[i, l]
+                acc = 0.0
+                for j in range(nc):
+                    acc += QxL[b, i, j, l] * z[j, l]
+                x_last[v, i] = acc
+                if warm == 0:
+                    x_first[v, i] = x0L[b, i, l]
+            for q in range(nq):
+                us_sum[v, 0, js[q]] = us[q, l]
+                up_sum[v, 0, js[q]] = ups[q, l]
+            if has_th:
+                us_sum[v, 0, nin] = ps[l]
+                heat[v, 0] = hsum[l]
+                cool[v, 0] = csum[l]
+            peak_h[v] = pkh[l]
+            peak_c[v] = pkc[l]
+            cnt[v, 0] = float(n - warm)
+            for q in range(nth):
+                hrs[v, q] = hr[q, l]
+            for q in range(ndh):
+                dgh[v, q] = dg[q, l]
+            tstat[v, 0] = tmax[l]
+            tstat[v, 1] = tmin[l]
+            tstat[v, 2] = tsum[l]
+
+
 def _node_row(i, nc, nu, Yx, Yu):
     """A free node's temperature as ``rx @ x + ru @ u`` (capacitive or massless)."""
     if i < nc:
@@ -948,5 +1163,7 @@ if HAVE_NUMBA:
         return bits
 
     step_modal_nb = numba.njit(parallel=True, cache=True, nogil=True)(step_modal)
+    step_lanes_nb = numba.njit(parallel=True, cache=True, nogil=True)(step_lanes)
 else:  # pragma: no cover
     step_modal_nb = None
+    step_lanes_nb = None

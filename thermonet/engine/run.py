@@ -719,6 +719,87 @@ def _modal_to_nodes(Z, S, Qx):
     return X
 
 
+#: Variants per block of the lane kernel (:func:`thermonet.engine.kernels.step_lanes`), and
+#: the fewest variants of a group that use it.
+LANES, LANES_MIN = 16, 8
+
+
+def lanes_eligible(st, ops: Operators, keep: bool, sel: np.ndarray) -> bool:
+    """Whether the variants ``sel`` can be stepped on SIMD lanes (see ``step_lanes``).
+
+    Parameters
+    ----------
+    st : Structure
+        The group's structure.
+    ops : Operators
+        Their kernel arrays.
+    keep : bool
+        Traces kept (lanes keep sums only).
+    sel : ndarray of int
+        The usable variants.
+
+    Returns
+    -------
+    bool
+    """
+    if keep or sel.size < LANES_MIN or st.nsw or st.nfl or st.m > 1 or ops.a.shape[1] != 1:
+        return False
+    if ops.dense[sel].any():
+        return False
+    nv = ops.nvar[sel]
+    if (nv != nv[0]).any():
+        return False
+    k = int(nv[0])
+    return bool((ops.vj[sel, :k] == ops.vj[sel[0], :k]).all()
+                and (ops.rampv[sel, :k] == ops.rampv[sel[0], :k]).all())
+
+
+def _lanes(arr: np.ndarray, src: np.ndarray) -> np.ndarray:
+    """(V, ...) → (nblocks, ..., LW): the variants of each block on the last axis."""
+    return np.ascontiguousarray(np.moveaxis(arr[src], 1, -1))
+
+
+def _step_lanes(st, ops: Operators, bank: Bank, vals, sel, z0, x0, warm, c_obs, thr_h,
+                thr_d, u_before, outs: dict) -> None:
+    """Step the variants ``sel`` on lanes, writing the sums ``outs`` (variant-first)."""
+    lw = LANES if sel.size >= 4 * LANES else LANES_MIN
+    nbk = -(-sel.size // lw)
+    lane_v = np.full(nbk * lw, -1, dtype=np.int64)
+    lane_v[:sel.size] = np.arange(sel.size)
+    lane_v = lane_v.reshape(nbk, lw)
+    src = sel[np.where(lane_v >= 0, lane_v, 0)]          # pad lanes repeat the first
+    k = int(ops.nvar[sel[0]])
+    js = ops.vj[sel[0], :k].astype(np.int64)
+    nin, m = st.nb + st.nsrc, st.m
+    o = 0                                   # the thermostat's node is observed point 0
+    c = max(int(c_obs), 0)
+    V = len(vals)
+    qh = np.array([p.qh for p in vals]).reshape(V, m)
+    qc = np.array([p.qc for p in vals]).reshape(V, m)
+
+    def col(arr, j):
+        return arr[:, j] if m else np.zeros(arr.shape[0], dtype=arr.dtype)
+
+    kernels.step_lanes_nb(
+        lw, _lanes(ops.a[:, 0], src), _lanes(ops.bconst[:, 0], src),
+        _lanes(ops.BT[:, 0][:, js, :], src), _lanes(ops.BTp[:, 0][:, js, :], src),
+        ops.rampv[sel[0], :k].astype(np.bool_),
+        _lanes(ops.BT[:, 0, nin, :] if m else np.zeros((V, st.nc)), src),
+        _lanes(ops.Ox[:, 0, o, :], src), _lanes(ops.Ou[:, 0, o][:, js], src),
+        _lanes(ops.oconst[:, 0, o], src),
+        _lanes(ops.M[:, 0, 0, 0] if m else np.ones(V), src),
+        _lanes(ops.Ox[:, 0, c, :], src), _lanes(ops.Ou[:, 0, c][:, js], src),
+        _lanes(ops.Ou[:, 0, c, nin] if m else np.zeros(V), src),
+        _lanes(ops.oconst[:, 0, c], src), _lanes(ops.vcol[:, :k], src),
+        _lanes(u_before[:, js], src), _lanes(z0, src), _lanes(x0, src),
+        _lanes(ops.Qx[:, 0], src), bank.data, _lanes(col(bank.hcol, 0), src),
+        _lanes(col(bank.hconst, 0), src), _lanes(col(bank.ccol, 0), src),
+        _lanes(col(bank.cconst, 0), src), _lanes(col(qh, 0), src), _lanes(col(qc, 0), src),
+        int(warm), m > 0, int(c_obs) >= 0, np.asarray(thr_h, dtype=float),
+        np.asarray(thr_d, dtype=float), *[outs[k_] for k_ in SUMS + ("x_first", "x_last")],
+        np.where(lane_v >= 0, sel[np.maximum(lane_v, 0)], -1).astype(np.int64), js, int(nin))
+
+
 def _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep, comfort, thr_h, thr_d,
                 errors, ramp, u_before):
     V, nc, m, ns = len(vals), st.nc, st.m, vals[0].n_states
@@ -748,6 +829,10 @@ def _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep, comfort, thr_h,
     for v, p in enumerate(vals):
         tv[v, :, 5] = p.thresholds
     sel = np.flatnonzero(ok)
+    if sel.size and lanes_eligible(st, ops, keep, sel):
+        _step_lanes(st, ops, bank, vals, sel, z0, x0, warm, c_obs, thr_h, thr_d, u_before,
+                    dict(sums, x_first=x_first, x_last=x_last))
+        sel = sel[:0]
     if sel.size:
         def pick(arr):
             return np.ascontiguousarray(arr[sel]) if sel.size < V else arr
