@@ -166,9 +166,8 @@ def test_lane_kernel_is_bit_identical_to_the_variant_kernel(case, monkeypatch):
     # block, kernels.step_lanes); the same operations in the same order as the per-variant
     # kernel, so every sum must agree bit for bit — including the pad lanes of a last,
     # partial block (37 variants) and a thermostat that hits both capacities.
-    from thermonet.engine import run as run_mod
-
     from thermonet.engine import kernels
+    from thermonet.engine import run as run_mod
 
     nets = [network(case, scale=0.5 + 0.04 * k) for k in range(37)]
     opts = dict(warmup_days=1, comfort_node="a", hours_above=(24.0, 26.0),
