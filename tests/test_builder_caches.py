@@ -55,3 +55,20 @@ def test_kept_diffuse_modifiers_equal_pvlib():
         with np.errstate(invalid="ignore", divide="ignore"):
             ref = pvlib.iam.marion_diffuse(model, tilt, **kw)
         assert got == {k: float(np.asarray(v)) for k, v in ref.items()}
+
+
+def test_kept_plane_irradiance_equals_fresh_and_follows_the_weather():
+    w = _weather()
+    sp = common.site_solar_position(w, None, None)
+    kept = common.kept_surface_irradiance(w, 90.0, 200.0, model="perez", solpos=sp)
+    fresh = solar.surface_irradiance(w, 90.0, 200.0, model="perez", solpos=sp)
+    pd.testing.assert_frame_equal(kept, fresh)
+    kept.iloc[:, :] = np.nan                         # the caller's copy only
+    again = common.kept_surface_irradiance(w, 90.0, 200.0, model="perez", solpos=sp)
+    pd.testing.assert_frame_equal(again, fresh)
+    dull = w.copy()
+    dull["dni"] = dull["dni"] * 0.5                  # other weather: another entry
+    other = common.kept_surface_irradiance(dull, 90.0, 200.0, model="perez", solpos=sp)
+    pd.testing.assert_frame_equal(
+        other, solar.surface_irradiance(dull, 90.0, 200.0, model="perez", solpos=sp))
+    assert not np.allclose(other["total"], fresh["total"])

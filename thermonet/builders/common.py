@@ -209,6 +209,61 @@ SOLAR_POSITIONS: dict = {}
 SOLAR_POSITIONS_KEPT = 8
 
 
+#: Plane-of-array irradiance already computed, by a digest of everything it depends on (the
+#: weather's index and irradiance columns, albedo, the solar position, the site, the plane
+#: and the sky model): a study that builds one network per variant on the same weather
+#: transposes each orientation once. A copy is returned; the oldest is dropped beyond
+#: :data:`SURFACE_IRRADIANCE_KEPT`.
+SURFACE_IRRADIANCE: dict = {}
+
+#: Number of plane-of-array tables kept (a year of hourly rows is about 0.3 MB each).
+SURFACE_IRRADIANCE_KEPT = 64
+
+
+def kept_surface_irradiance(weather, tilt: float, azimuth: float, *, model: str,
+                            solpos: pd.DataFrame) -> pd.DataFrame:
+    """:func:`thermonet.solar.surface_irradiance`, computed once per distinct input.
+
+    Parameters
+    ----------
+    weather : pandas.DataFrame
+        ``ghi``, ``dni``, ``dhi`` [W/m²] (optional ``albedo`` [-]) on a tz-aware index; site
+        in ``attrs["site"]``.
+    tilt, azimuth : float
+        Plane [°].
+    model : str
+        Sky-diffuse model.
+    solpos : pandas.DataFrame
+        Solar position on the weather index.
+
+    Returns
+    -------
+    pandas.DataFrame
+        A copy of the kept table (same columns and ``attrs`` as a fresh call).
+    """
+    import hashlib
+
+    h = hashlib.blake2b(digest_size=16)
+    h.update(np.ascontiguousarray(weather.index.as_unit("ns").asi8).tobytes())
+    h.update(str(weather.index.tz).encode())
+    for col in ("ghi", "dni", "dhi", "albedo"):
+        if col in weather.columns:
+            h.update(col.encode())
+            h.update(np.ascontiguousarray(pd.to_numeric(weather[col], errors="coerce")
+                                          .to_numpy(dtype=float)).tobytes())
+    h.update(repr(sorted(solpos.columns)).encode())
+    h.update(np.ascontiguousarray(solpos.to_numpy(dtype=float)).tobytes())
+    site = weather.attrs.get("site", {})
+    h.update(repr(sorted(site.items()) if isinstance(site, Mapping) else site).encode())
+    key = (h.hexdigest(), float(tilt), float(azimuth), str(model))
+    if key not in SURFACE_IRRADIANCE:
+        if len(SURFACE_IRRADIANCE) >= SURFACE_IRRADIANCE_KEPT:
+            SURFACE_IRRADIANCE.pop(next(iter(SURFACE_IRRADIANCE)))
+        SURFACE_IRRADIANCE[key] = _solar.surface_irradiance(weather, tilt, azimuth,
+                                                            model=model, solpos=solpos)
+    return SURFACE_IRRADIANCE[key].copy()
+
+
 def _position_key(index, lat, lon, elevation, pressure, temp) -> tuple:
     import hashlib
 

@@ -12,10 +12,10 @@ from dataclasses import dataclass, field
 
 import pandas as pd
 
-from thermonet import solar as _solar
 from thermonet.builders.common import (
     check_num,
     check_orientation,
+    kept_surface_irradiance,
     number,
     outdoor_boundary,
     resolve_construction,
@@ -392,7 +392,7 @@ class ZoneBuild:
         key = (tilt, azimuth)
         if key not in self.irradiance_cache:
             solpos = self.solar_position()
-            self.irradiance_cache[key] = _solar.surface_irradiance(
+            self.irradiance_cache[key] = kept_surface_irradiance(
                 self.weather, tilt, azimuth, model=self.sky_model, solpos=solpos)["total"]
         return self.irradiance_cache[key]
 

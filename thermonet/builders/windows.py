@@ -16,6 +16,7 @@ from thermonet import solar as _solar
 from thermonet.builders.common import (
     check_num,
     check_orientation,
+    kept_surface_irradiance,
     number,
     outdoor_boundary,
     site_solar_position,
@@ -181,7 +182,7 @@ def window_solar_gain(weather, window: Window, tilt: float, azimuth: float, *, s
             f"{window.shading.control!r} control give a number")
     if solpos is None:
         solpos = site_solar_position(weather, latitude, longitude)
-    irr = _solar.surface_irradiance(weather, tilt, azimuth, model=sky_model, solpos=solpos)
+    irr = kept_surface_irradiance(weather, tilt, azimuth, model=sky_model, solpos=solpos)
     if window.overhang is not None or window.fins is not None:
         if abs(tilt - 90.0) > 1e-6:
             raise NetworkError(f"window {window.name!r}: overhangs and fins need a vertical "
