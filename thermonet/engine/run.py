@@ -375,6 +375,21 @@ def _observe(nodes: list, i: int) -> int:
     return nodes.index(i)
 
 
+_NO_FLOW_LINKS: dict = {}
+
+
+def _empty_flow_links(V: int, ns: int, m: int) -> FlowLinks:
+    """The empty window-link arrays of a group without window links (kept per shape; the
+    kernel only reads them)."""
+    i0 = np.zeros(0, dtype=np.int64)
+    z = np.zeros((V, 0))
+    arrays = [np.arange(m, dtype=np.int64), np.zeros((V, 0, 9)), np.zeros((V, ns, 0)), i0,
+              i0, i0, i0, i0, i0, np.zeros((V, 0), dtype=np.int64), z,
+              np.zeros((V, 0), dtype=np.bool_), np.zeros((V, 0), dtype=np.int64), z,
+              np.zeros((V, 0), dtype=np.bool_)]
+    return FlowLinks(*arrays)
+
+
 def flow_links(st, vals: list, bank: Bank, nodes: list, ramp: np.ndarray) -> FlowLinks:
     """The window links' kernel arrays; their room and far nodes are added to ``nodes``.
 
@@ -396,6 +411,9 @@ def flow_links(st, vals: list, bank: Bank, nodes: list, ramp: np.ndarray) -> Flo
     FlowLinks
     """
     nfl, V, ns = st.nfl, len(vals), vals[0].n_states
+    if not nfl:
+        return _NO_FLOW_LINKS.get((V, ns, st.m)) or _NO_FLOW_LINKS.setdefault(
+            (V, ns, st.m), _empty_flow_links(V, ns, st.m))
     bk, a, b, bj = (np.zeros(nfl, dtype=np.int64) for _ in range(4))
     for f, li in enumerate(st.flow_links):
         a[f] = _observe(nodes, int(st.link_a[li]))
