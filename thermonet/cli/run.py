@@ -152,6 +152,10 @@ OUTPUT_TABLES = {
                         "(positive into the building; storage = −increase of stored heat)",
                         "kWh"),
     "balance_annual": ("energy balance of all free nodes by heat path per year", "kWh"),
+    "balance_rooms": ("energy balance of each room the builders recorded (rows, named by the "
+                      "room records) by heat path over the run; the numbers of a study's "
+                      "balance[<room>]:<path> columns; written when the model has rooms",
+                      "kWh"),
     "comfort": ("per air node: hours above 25/26/28 °C [h], degree-hours above 26 °C [K·h], "
                 "overheating frequency above 25 °C [-], max and mean [°C], from step-mean "
                 "air temperatures", "mixed, see column names"),
@@ -813,6 +817,33 @@ def comfort_table(res, net) -> pd.DataFrame:
     return out
 
 
+def room_balance_table(res, net) -> pd.DataFrame | None:
+    """Balance of each room of the builders' records by heat path over the run [kWh].
+
+    Parameters
+    ----------
+    res : thermonet.Results
+        The run.
+    net : thermonet.Network
+        Its network (rooms from :func:`thermonet.builders.rooms`).
+
+    Returns
+    -------
+    pandas.DataFrame or None
+        One row per room (index ``room``), one column per path plus ``heating``,
+        ``cooling``, ``storage`` and ``residual``; None when no room is recorded.
+    """
+    from thermonet.builders import rooms
+
+    recorded = rooms(net)
+    if not recorded:
+        return None
+    out = pd.DataFrame({name: res.balance(room.nodes).sum() for name, room in
+                        recorded.items()}).T.fillna(0.0)
+    out.index.name = "room"
+    return out
+
+
 def _tables(res, net) -> dict[str, pd.DataFrame]:
     nodes = list(net.nodes)
     th = pd.concat([res.heating_by_thermostat.add_suffix(" heating_w"),
@@ -837,6 +868,9 @@ def _tables(res, net) -> dict[str, pd.DataFrame]:
         "comfort": comfort_table(res, net),
         "summary": summary,
     }
+    rooms_table = room_balance_table(res, net)
+    if rooms_table is not None:
+        tables["balance_rooms"] = rooms_table
     for key in ("temperatures", "temperatures_mean", "flows", "sources", "thermostats"):
         tables[key] = tables[key].rename_axis("time")
     for key in ("balance_monthly", "balance_annual"):
