@@ -256,3 +256,39 @@ def test_errors_name_the_link():
         net.add_window_flow("wall", "out", law="de_gids_phaff", area=1.0, height=1.0)
     with pytest.raises(tn.errors.WeatherError, match="wind_speed"):
         tn.simulate(net, WEATHER.drop(columns="wind_speed"), warmup_days=1)
+
+
+def test_wind_direction_through_an_effective_cross_wind_speed():
+    # BS 5925 cross ventilation with direction-dependent C_p: U_eff = U·√|C_p,1(θ₁) − C_p,2(θ₂)|
+    # with θ the angle between the wind's origin and each façade's normal. The table is an
+    # invented example for the arithmetic (angles 0/90/180° → C_p 0.6/−0.4/−0.3), not data.
+    idx = WEATHER.index[:4]
+    u = pd.Series([4.0, 4.0, 4.0, 0.0], index=idx)
+    d = pd.Series([270.0, 0.0, 315.0, 90.0], index=idx)
+    table = ([0.0, 90.0, 180.0], [0.6, -0.4, -0.3])
+    eff = af.cross_wind_speed(u, d, (270.0, 90.0), table)
+    # west façade windward (0.6) and east leeward (−0.3); both side-on (−0.4 each);
+    # 45° → 0.6 − 0.5·1.0 = 0.1 and 135° → −0.4 + 0.5·0.1 = −0.35; no wind
+    np.testing.assert_allclose(eff.to_numpy(), [4 * 0.9 ** 0.5, 0.0, 4 * 0.45 ** 0.5, 0.0],
+                               rtol=1e-12)
+    coef = af.flow_law_coefficients("cross_wind", area_1=0.4, area_2=0.6, cp_1=1.0, cp_2=0.0)
+    ref = af.cross_flow_wind(0.4, 0.6, 4.0, 0.1, -0.35)
+    assert af.law_flow(coef, 25.0, 20.0, float(eff.iloc[2])) == pytest.approx(float(ref),
+                                                                            rel=1e-12)
+    # a window link reads such a Series as its wind; model files keep it
+    wind = af.cross_wind_speed(WEATHER["wind_speed"], pd.Series(250.0, index=IDX),
+                               (270.0, 90.0), table)
+    net = tn.Network()
+    net.add_boundary("out", temperature="temp_air")
+    net.add_node("room", kind="air", capacitance=3e5)
+    net.add_link("room", "out", conductance=40.0, path="opaque")
+    net.add_source("room", power=SUN * 0.5, path="solar")
+    net.add_window_flow("room", "out", law="cross_wind", wind=wind, area_1=0.4, area_2=0.6,
+                        cp_1=1.0, cp_2=0.0)
+    res = tn.simulate(net, WEATHER, warmup_days=1)
+    _closes(res, ["room"])
+    back = tn.io.loads(tn.io.dumps(net))
+    assert np.array_equal(tn.simulate(back, WEATHER, warmup_days=1).temperatures.to_numpy(),
+                          res.temperatures.to_numpy())
+    with pytest.raises(af.AirflowError, match="share one index"):
+        af.cross_wind_speed(u, d.iloc[:3], (270.0, 90.0), table)

@@ -668,7 +668,8 @@ class Network:
         self.links._store(name, Link(name, a, b, g, path, kind="airflow", params=params))
         return name
 
-    def add_window_flow(self, a: str, b: str, *, law: str, wind: str | float = "wind_speed",
+    def add_window_flow(self, a: str, b: str, *, law: str,
+                        wind: str | float | pd.Series = "wind_speed",
                         path: str = "window_ventilation", rho_cp: float = RHO_CP_AIR,
                         name: str | None = None, **law_params) -> str:
         """Add an airflow through an opening whose flow follows the two sides' temperatures
@@ -691,8 +692,10 @@ class Network:
             One of :data:`thermonet.airflow.FLOW_LAWS` (de Gids–Phaff single-sided,
             EN 16798-7 single-sided, BS 5925 single-opening stack, BS 5925 stack through two
             openings, BS 5925 cross ventilation by wind).
-        wind : str or float, default "wind_speed"
-            Weather column of the meteorological wind speed [m/s] (10 m), or a constant.
+        wind : str, float or pandas.Series, default "wind_speed"
+            Weather column of the meteorological wind speed [m/s] (10 m), a constant, or a
+            Series on the weather index — e.g. the wind-direction-dependent effective speed of
+            cross ventilation (:func:`thermonet.airflow.cross_wind_speed`).
         path : str, default "window_ventilation"
             Heat-path label for the balance.
         rho_cp : float, default 1200
@@ -740,6 +743,8 @@ class Network:
             raise NetworkError(f"window flow {name!r}: {exc}") from None
         if isinstance(wind, str):
             _check_name(wind, f"window flow {name!r} wind column")
+        elif isinstance(wind, pd.Series):
+            wind = _check_series(wind, f"window flow {name!r} wind [m/s]", minimum=0.0)
         else:
             wind = _check_number(wind, f"window flow {name!r} wind [m/s]")
         rho_cp = _check_number(rho_cp, f"window flow {name!r} rho_cp [J/(m³K)]", strict=True)

@@ -27,7 +27,8 @@ Schema, version 1
           {"kind": "radiation", "name", "a", "b", "path", "area" [m²], "emissivity_a"?,
            "emissivity_b"?, "view_factor"?, "area_b"?, "reference_temperature" [°C]?},
           {"kind": "window", "name", "a", "b", "path", "law": name, "law_params":
-           {parameter: number | bool}, "wind"?: column | [m/s], "rho_cp" [J/(m³K)]?}],
+           {parameter: number | bool}, "wind"?: column | [m/s] | schedule,
+           "rho_cp" [J/(m³K)]?}],
         "sources": [{"name", "node", "path", "power": [W] | schedule}],
         "thermostats": [{"name", "node", "heating_setpoint"?, "cooling_setpoint"?: [°C] |
                          schedule | null, "max_heating_w"?, "max_cooling_w"?: [W] | "inf"}],
@@ -469,7 +470,8 @@ def _encode_link(link, sched: _ScheduleTable) -> dict:
     if link.kind == "window":
         out["law"] = p["law"]
         out["law_params"] = dict(p["law_params"])
-        out["wind"] = p["wind"]
+        w = p["wind"]
+        out["wind"] = w if isinstance(w, str) else _value_out(w, sched, f"{label} wind")
         out["rho_cp"] = float(p["rho_cp"])
         return out
     raise ModelFileError(f"cannot save link {link.name!r}: unknown link kind {link.kind!r}; "
@@ -955,7 +957,7 @@ class _Builder:
             kw = {}
             if x.get("wind") is not None:
                 kw["wind"] = (r.string(x["wind"], f"{w}.wind") if isinstance(x["wind"], str)
-                              else r.number(x["wind"], f"{w}.wind"))
+                              else self.value(x["wind"], f"{w}.wind"))
             if x.get("rho_cp") is not None:
                 kw["rho_cp"] = r.number(x["rho_cp"], f"{w}.rho_cp")
             self.call(w, self.net.add_window_flow, law=r.string(x["law"], f"{w}.law"),
