@@ -41,12 +41,20 @@ from thermonet.airflow import law_flow
 
 try:  # numba is a declared dependency; the numpy path is the reference and the fallback
     import numba
+    from numba.extending import register_jitable
 
     HAVE_NUMBA = True
 except ImportError:  # pragma: no cover
     HAVE_NUMBA = False
 
+    def register_jitable(fn):
+        return fn
 
+# plain functions the compiled loops call as they are (the numpy reference calls them too)
+register_jitable(law_flow)
+
+
+@register_jitable
 def eval_condition(cond, terms, term_clause, clause_cond, temps, sig):
     """True if any clause of condition ``cond`` has all its terms true.
 
@@ -90,6 +98,34 @@ def eval_condition(cond, terms, term_clause, clause_cond, temps, sig):
     return False
 
 
+@register_jitable
+def clamped_power(rest, hsp, csp, mii, qh, qc):
+    """One thermostat's power [W] that brings its node from ``rest`` to the setpoint.
+
+    Parameters
+    ----------
+    rest : float
+        The node's end temperature without this thermostat's power [°C].
+    hsp, csp : float
+        Heating and cooling setpoints [°C] (NaN = none).
+    mii : float
+        The node's end-temperature response to 1 W of its own thermostat [K/W].
+    qh, qc : float
+        Heating and cooling capacities [W].
+
+    Returns
+    -------
+    float
+        Heating (> 0) or cooling (< 0) power, clamped to the capacity; 0 between the
+        setpoints.
+    """
+    if not np.isnan(hsp) and rest < hsp:
+        return min((hsp - rest) / mii, qh)
+    if not np.isnan(csp) and rest > csp:
+        return -min((rest - csp) / mii, qc)
+    return 0.0
+
+
 def control_powers(T0, M, hsp, csp, qh, qc, P):
     """Thermostat powers ``P`` [W] (in place) by projected Gauss–Seidel.
 
@@ -116,11 +152,7 @@ def control_powers(T0, M, hsp, csp, qh, qc, P):
             for j in range(m):
                 if j != i:
                     rest += M[i, j] * P[j]
-            new = 0.0
-            if not np.isnan(hsp[i]) and rest < hsp[i]:
-                new = min((hsp[i] - rest) / M[i, i], qh[i])
-            elif not np.isnan(csp[i]) and rest > csp[i]:
-                new = -min((rest - csp[i]) / M[i, i], qc[i])
+            new = clamped_power(rest, hsp[i], csp[i], M[i, i], qh[i], qc[i])
             change = max(change, abs(new - P[i]))
             P[i] = new
         if m == 1 or change <= 1e-9 * (1.0 + np.abs(P).max()):
@@ -218,11 +250,7 @@ def coupled_powers(T0, M, hsp, csp, qh, qc, dG, ta0, tb0, bk, m, PQ, Tend):
             for j in range(nu):
                 if j != r:
                     rest += M[r, j] * PQ[j]
-            new = 0.0
-            if not np.isnan(hsp[r]) and rest < hsp[r]:
-                new = min((hsp[r] - rest) / M[r, r], qh[r])
-            elif not np.isnan(csp[r]) and rest > csp[r]:
-                new = -min((rest - csp[r]) / M[r, r], qc[r])
+            new = clamped_power(rest, hsp[r], csp[r], M[r, r], qh[r], qc[r])
             change = max(change, abs(new - PQ[r]))
             PQ[r] = new
         for f in range(nfl):
@@ -651,14 +679,7 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
                     hs[r] = _column_nb(bank, k, hcol[v, r], hconst[v, r])
                     cs[r] = _column_nb(bank, k, ccol[v, r], cconst[v, r])
                 if m == 1:   # one thermostat: exact in one step, no iteration
-                    t0 = T0[0]
-                    mm = Ms[0, 0]
-                    if not np.isnan(hs[0]) and t0 < hs[0]:
-                        P[0] = min((hs[0] - t0) / mm, qh[v, 0])
-                    elif not np.isnan(cs[0]) and t0 > cs[0]:
-                        P[0] = -min((t0 - cs[0]) / mm, qc[v, 0])
-                    else:
-                        P[0] = 0.0
+                    P[0] = clamped_power(T0[0], hs[0], cs[0], Ms[0, 0], qh[v, 0], qc[v, 0])
                 else:
                     control_powers_nb(T0, Ms, hs, cs, qh[v], qc[v], P)
                 for r in range(m):
@@ -872,14 +893,7 @@ def step_lanes(LW, aL, bcL, BTL, BTpL, rampq, PL, OxT, OuT, ocT, M00, OxC, OuC, 
                     cc = ccolL[b, l]
                     hs[l] = bank[k, hc] if hc >= 0 else hconstL[b, l]
                     cs[l] = bank[k, cc] if cc >= 0 else cconstL[b, l]
-                    t0 = T0[l]
-                    mm = M00[b, l]
-                    if not np.isnan(hs[l]) and t0 < hs[l]:
-                        P[l] = min((hs[l] - t0) / mm, qhL[b, l])
-                    elif not np.isnan(cs[l]) and t0 > cs[l]:
-                        P[l] = -min((t0 - cs[l]) / mm, qcL[b, l])
-                    else:
-                        P[l] = 0.0
+                    P[l] = clamped_power(T0[l], hs[l], cs[l], M00[b, l], qhL[b, l], qcL[b, l])
                 for i in range(nc):
                     for l in range(LW):
                         z1[i, l] += PL[b, i, l] * P[l]
@@ -1133,34 +1147,11 @@ def step_reference(mats, Rx, Ru, Yx, Yu, factor, x0, s0, U, sched, hsp, csp, sig
 
 if HAVE_NUMBA:
     _column_nb = numba.njit(cache=True, inline="always")(_column)
-    eval_condition_nb = numba.njit(cache=True)(eval_condition)
     control_powers_nb = numba.njit(cache=True)(control_powers)
     coupled_powers_nb = numba.njit(cache=True)(coupled_powers)
-    law_flow_nb = numba.njit(cache=True)(law_flow)
     flow_drivers_nb = numba.njit(cache=True)(flow_drivers)
-
-    @numba.njit(cache=True)
-    def law_departure_nb(coef, fac, ta, tb, wnd, dG):  # pragma: no cover - compiled
-        for f in range(dG.shape[0]):
-            if fac[f] == 0.0:
-                dG[f] = 0.0
-            else:
-                dG[f] = fac[f] * (coef[f, 7] * law_flow_nb(coef[f, :7], ta[f], tb[f], wnd[f])
-                                  - coef[f, 8])
-
-    @numba.njit(cache=True)
-    def switch_bits_nb(on, has_off, terms, term_clause, clause_cond, temps, sig
-                       ):  # pragma: no cover - compiled
-        bits = 0
-        for w in range(on.shape[0]):
-            if on[w] and has_off[w]:
-                on[w] = not eval_condition_nb(2 * w + 1, terms, term_clause, clause_cond,
-                                              temps, sig)
-            else:
-                on[w] = eval_condition_nb(2 * w, terms, term_clause, clause_cond, temps, sig)
-            if on[w]:
-                bits += 1 << w
-        return bits
+    law_departure_nb = numba.njit(cache=True)(law_departure)
+    switch_bits_nb = numba.njit(cache=True)(switch_bits)
 
     step_modal_nb = numba.njit(parallel=True, cache=True, nogil=True)(step_modal)
     step_lanes_nb = numba.njit(parallel=True, cache=True, nogil=True)(step_lanes)

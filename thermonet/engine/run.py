@@ -390,6 +390,33 @@ def _empty_flow_links(V: int, ns: int, m: int) -> FlowLinks:
     return FlowLinks(*arrays)
 
 
+def window_ends(st) -> tuple:
+    """The window links' ends and inputs, in free-node and input indices.
+
+    Parameters
+    ----------
+    st : Structure
+        The group's structure.
+
+    Returns
+    -------
+    a, b : ndarray (nfl,) of int
+        Room node and far node (free-node indices; 0 where the far side is a boundary).
+    bk : ndarray (nfl,) of int
+        Far side's kind: 0 a free node, 1 a boundary.
+    bj : ndarray (nfl,) of int
+        Input index of a far boundary (0 otherwise).
+    ja, jb : ndarray (nfl,) of int
+        Input indices of the law sources into the room and out of a far node (−1: none).
+    """
+    ib = st.link_b[st.flow_links].astype(np.int64)
+    far_node = ib < st.nf
+    return (st.link_a[st.flow_links].astype(np.int64), np.where(far_node, ib, 0),
+            (~far_node).astype(np.int64), np.where(far_node, 0, ib - st.nf),
+            (st.nb + st.flow_src[:, 0]).astype(np.int64),
+            np.where(st.flow_src[:, 1] >= 0, st.nb + st.flow_src[:, 1], -1).astype(np.int64))
+
+
 def flow_links(st, vals: list, bank: Bank, nodes: list, ramp: np.ndarray) -> FlowLinks:
     """The window links' kernel arrays; their room and far nodes are added to ``nodes``.
 
@@ -414,22 +441,16 @@ def flow_links(st, vals: list, bank: Bank, nodes: list, ramp: np.ndarray) -> Flo
     if not nfl:
         return _NO_FLOW_LINKS.get((V, ns, st.m)) or _NO_FLOW_LINKS.setdefault(
             (V, ns, st.m), _empty_flow_links(V, ns, st.m))
-    bk, a, b, bj = (np.zeros(nfl, dtype=np.int64) for _ in range(4))
-    for f, li in enumerate(st.flow_links):
-        a[f] = _observe(nodes, int(st.link_a[li]))
-        ib = int(st.link_b[li])
-        if ib < st.nf:
-            b[f] = _observe(nodes, ib)
-        else:
-            bk[f], bj[f] = 1, ib - st.nf
+    room, far, bk, bj, ja, jb = window_ends(st)
+    a = np.array([_observe(nodes, int(i)) for i in room], dtype=np.int64)
+    b = np.array([_observe(nodes, int(i)) if k == 0 else 0 for i, k in zip(far, bk, strict=True)],
+                 dtype=np.int64)
     rows = np.concatenate([np.arange(st.m), a, np.where(bk == 0, b, -1)]).astype(np.int64)
-    nin = st.nb + st.nsrc
     return FlowLinks(
         rows, np.array([p.flow_coef for p in vals], dtype=float).reshape(V, nfl, 9),
         np.array([p.flow_fac for p in vals], dtype=float).reshape(V, ns, nfl),
-        bk, a, b, bj, (nin - st.nsrc + st.flow_src[:, 0]).astype(np.int64),
-        np.where(st.flow_src[:, 1] >= 0, st.nb + st.flow_src[:, 1], -1).astype(np.int64),
-        np.ascontiguousarray(bank.ucol[:, bj]), np.ascontiguousarray(bank.uconst[:, bj]),
+        bk, a, b, bj, ja, jb, np.ascontiguousarray(bank.ucol[:, bj]),
+        np.ascontiguousarray(bank.uconst[:, bj]),
         np.ascontiguousarray(ramp[:, bj]), bank.wcol, bank.wconst,
         np.array([p.flow_wind_ramp for p in vals], dtype=np.bool_).reshape(V, nfl))
 
@@ -895,16 +916,13 @@ def _reference_flow(st, val, bank: Bank, v: int, ramp: np.ndarray) -> dict | Non
     """The window links of variant ``v`` as :func:`kernels.step_reference` takes them."""
     if not st.nfl:
         return None
-    ib = st.link_b[st.flow_links]
-    bj = np.where(ib >= st.nf, ib - st.nf, 0)
+    room, far, bk, bj, ja, jb = window_ends(st)
     n = bank.data.shape[0]
     wind = np.where(bank.wcol[v] >= 0, bank.data[:, np.maximum(bank.wcol[v], 0)],
                     bank.wconst[v]).reshape(n, st.nfl)
-    return {"coef": val.flow_coef, "fac": val.flow_fac, "a": st.link_a[st.flow_links],
-            "b": np.where(ib < st.nf, ib, 0), "bk": (ib >= st.nf).astype(np.int64), "bj": bj,
-            "bramp": ramp[bj], "ja": st.nb + st.flow_src[:, 0],
-            "jb": np.where(st.flow_src[:, 1] >= 0, st.nb + st.flow_src[:, 1], -1),
-            "wind": wind, "wramp": val.flow_wind_ramp, "th": st.thermostat_node,
+    return {"coef": val.flow_coef, "fac": val.flow_fac, "a": room, "b": far, "bk": bk,
+            "bj": bj, "bramp": ramp[bj], "ja": ja, "jb": jb, "wind": wind,
+            "wramp": val.flow_wind_ramp, "th": st.thermostat_node,
             "pcols": st.nb + st.nsrc + np.arange(st.m)}
 
 
