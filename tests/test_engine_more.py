@@ -119,6 +119,29 @@ def test_sparse_free_running_march_agrees_with_exact(seed):
     assert np.abs(bal["residual"]).max() <= 1e-11 * bal.drop(columns="residual").abs().max().max()
 
 
+@pytest.mark.parametrize("interpolate", [(), None])
+def test_sparse_compiled_march_equals_the_general_loop(interpolate, monkeypatch):
+    # Twin test: the compiled free march (pole solves interleaved, step means solved a block
+    # of steps at a time) against the general sparse loop (one step at a time, the same
+    # factors) on the same random stiff networks with massless nodes, held and interpolated
+    # outdoor air; both meet the same equations, so they agree to rounding.
+    from thermonet.engine import sparse
+
+    for seed in (11, 12):
+        net, w, _ = random_network(seed, 14, thermostat=False)
+        opts = dict(method="sparse", sparse_tol=1e-9, warmup_days=1, interpolate=interpolate)
+        fast = tn.simulate(net, w, **opts)
+        monkeypatch.setattr(sparse, "COMPILED_FREE_MARCH", False)
+        loop = tn.simulate(net, w, **opts)
+        monkeypatch.setattr(sparse, "COMPILED_FREE_MARCH", True)
+        scale = max(1.0, float(np.abs(loop.temperatures.to_numpy()).max()))
+        np.testing.assert_allclose(fast.temperatures, loop.temperatures, rtol=0,
+                                   atol=1e-11 * scale)
+        np.testing.assert_allclose(fast.mean_temperatures, loop.mean_temperatures, rtol=0,
+                                   atol=1e-9 * scale)
+        assert fast.worst_residual() < 1e-9 and loop.worst_residual() < 1e-9
+
+
 def test_sparse_rational_error_bound():
     # The CF rational approximation of e^s on s ≤ 0 (Trefethen, Weideman & Schmelzer 2006,
     # BIT 46, 653–670): its uniform error falls geometrically, about 9.28^−n (the CF

@@ -129,8 +129,8 @@ def test_batch_kernel_equals_reference_and_single_runs(case):
 @pytest.mark.parametrize("case", ["free", "one", "several", "switched", "scheduled"])
 @pytest.mark.parametrize("superlu", [False, True])
 def test_sparse_method_equals_exact(case, superlu, monkeypatch):
-    if superlu:   # force the general sparse LU instead of the banded factorisation
-        monkeypatch.setattr(sparse_mod, "MAX_BANDWIDTH", -1)
+    if superlu:   # force the general sparse LU instead of the LDLᵀ factorisation
+        monkeypatch.setattr(sparse_mod, "MAX_FILL", -1)
     net = network(case)
     exact = tn.simulate(net, WEATHER, warmup_days=2, method="exact")
     sp = tn.simulate(net, WEATHER, warmup_days=2, method="sparse", sparse_tol=1e-9)

@@ -2,6 +2,6 @@
 
 Modules: :mod:`~thermonet.engine.compile` (network → arrays), :mod:`~thermonet.engine.simulate`
 (the method registry and :func:`simulate`), :mod:`~thermonet.engine.kernels` (the stepping
-loop), :mod:`~thermonet.engine.sparse` and :mod:`~thermonet.engine.banded` (large networks),
+loop), :mod:`~thermonet.engine.sparse` and :mod:`~thermonet.engine.ldl` (large networks),
 :mod:`~thermonet.engine.batch` (many variants).
 """

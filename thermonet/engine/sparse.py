@@ -12,8 +12,15 @@ the poles of a contour quadrature for the same accuracy. With ``s = −hC⁻¹L`
 .. math::  e^{−h C^{-1}L} v ≈ r_∞ v − 2\\,\\mathrm{Re} \\sum_{k=1}^{n/2} c_k (z_k C + hL)^{-1} C v ,
 
 one complex sparse factorisation per conjugate pair of poles, made once per state and reused
-every step (a banded LDLᵀ after reverse Cuthill–McKee ordering for building networks, else
-SuperLU); the pole solves of a step run in parallel. The approximation error is bounded
+every step (a sparse LDLᵀ after a fill-reducing ordering, :mod:`thermonet.engine.ldl`, else
+SuperLU); the pole solves of a step run interleaved. The residues are fitted with
+``r(0) = 1``, so that the step keeps an equilibrium exactly and the equilibrium itself is
+never solved for: with ``M_k = z_k C + hL`` and ``L T_eq = E u``,
+``M_k⁻¹ C T_eq = (T_eq − h M_k⁻¹ E u)/z_k``, hence
+
+.. math::  T(h) ≈ r_∞ T(0) − 2\\,\\mathrm{Re} \\sum_k c_k M_k^{-1} (C\\,T(0) + (h/z_k) E u) .
+
+The approximation error is bounded
 uniformly on the negative real axis (:func:`rational_exp` measures it), so the step is exact
 to that bound for any stiffness; massless nodes (rows with C = 0) are handled by the same
 formula. Step-mean temperatures follow from the integrated equation ``L T̄ = E u − C ΔT/h``,
@@ -37,20 +44,20 @@ import time
 import warnings
 from functools import cache
 
+import numba
 import numpy as np
 import scipy.linalg as sla
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
-from scipy.sparse.csgraph import reverse_cuthill_mckee
 
 from thermonet.engine import kernels
-from thermonet.engine.banded import (
-    expm_apply_band,
-    ldl_band,
-    march_free_band,
-    solve_band,
-    solve_band_many,
-    to_band,
+from thermonet.engine.ldl import (
+    fill_reducing_order,
+    ldl_numeric,
+    ldl_symbolic,
+    permuted_csc,
+    solve_columns,
+    solve_poles,
 )
 from thermonet.engine.compile import Compiled
 from thermonet.engine.discretise import input_matrix, laplacian_sparse
@@ -58,8 +65,10 @@ from thermonet.engine.start import apply_initial, steady_start
 from thermonet.engine.trajectory import NodeTrajectory
 from thermonet.errors import AccuracyWarning, NetworkError
 
-#: Largest bandwidth (after reverse Cuthill–McKee) for the banded LDLᵀ path; beyond it SuperLU.
-MAX_BANDWIDTH = 64
+#: Largest mean number of LDLᵀ factor entries per node for the compiled path; beyond it
+#: SuperLU (a network whose fill-reducing ordering still fills in that much is not
+#: building-like).
+MAX_FILL = 64
 
 #: Degrees n of the CF approximation offered (n/2 complex solves per step).
 DEGREES = (6, 8, 10, 12, 14)
@@ -98,25 +107,28 @@ def _samples(m: int = 6000) -> np.ndarray:
 
 @cache
 def rational_exp(n: int):
-    """CF rational approximation of e^s on s ≤ 0: (poles z, residues c, r_∞, error bound).
+    """CF rational approximation of e^s on s ≤ 0 with r(0) = 1: (poles z, residues c, r_∞,
+    error bound).
 
     ``r(s) = r_∞ + 2 Re Σ_k c_k/(s − z_k)`` over the n/2 poles ``z_k`` of the upper
-    half-plane. Residues and r_∞ are fitted to e^s by least squares reweighted towards the
-    minimax error (Lawson's iteration) on :func:`_samples`; the returned bound is the largest
-    |r(s) − e^s| measured on those points and on 20 000 log-spaced points of
-    [−1e8, −1e−10] (it is about twice the CF singular value, ~9.28^−n).
+    half-plane. The residues are fitted to e^s by least squares reweighted towards the
+    minimax error (Lawson's iteration) on :func:`_samples`, under the constraint
+    ``r(0) = 1`` (``r_∞ = 1 + 2 Re Σ_k c_k/z_k``): a step then keeps an equilibrium exactly
+    and needs no solve with ``L`` (:meth:`SparseState.advance`). The returned bound is the
+    largest |r(s) − e^s| measured on those points and on 20 000 log-spaced points of
+    [−1e8, −1e−10], plus 1 % (about 1.4 times the unconstrained fit's error, ~9.28^−n).
     """
     if n not in DEGREES:
         raise ValueError(f"degree n must be one of {DEGREES}, got {n!r}")
     z = _cf_poles(n)
     s = _samples()
 
-    def design(x):
-        inv = 1.0 / (x[:, None] - z[None, :])
-        return np.hstack([np.ones((len(x), 1)), 2 * inv.real, -2 * inv.imag])
+    def design(x):      # r(s) − 1 = 2 Re Σ c_k s / (z_k (s − z_k)), in Re c and Im c
+        inv = x[:, None] / (z[None, :] * (x[:, None] - z[None, :]))
+        return np.hstack([2 * inv.real, -2 * inv.imag])
 
     A = design(s)
-    target = np.exp(s)
+    target = np.expm1(s)
     wts = np.full(len(s), 1.0 / len(s))
     for _ in range(40):
         sw = np.sqrt(wts)[:, None]
@@ -125,9 +137,12 @@ def rational_exp(n: int):
         wts = wts * (err + 1e-300)
         wts /= wts.sum()
     k = len(z)
-    r_inf, c = float(sol[0]), sol[1:1 + k] + 1j * sol[1 + k:]
+    c = sol[:k] + 1j * sol[k:]
+    r_inf = 1.0 + 2.0 * float(np.sum(c / z).real)
     check = np.concatenate([s, -np.logspace(-10, 8, 20000)])
-    bound = float(np.abs(design(check) @ sol - np.exp(check)).max())
+    r = r_inf + 2 * np.real(np.sum(c[None, :] / (check[:, None] - z[None, :]), axis=1))
+    # + 1 %: a peak of the equioscillating error may fall between the measured points
+    bound = 1.01 * float(np.abs(r - np.exp(check)).max())
     return z, c, r_inf, bound
 
 
@@ -150,10 +165,11 @@ def degree_for(tol: float) -> int:
 
 
 class SparseState:
-    """Factorisations for one state: L (real) and z_k C + hL (complex), per pole.
+    """Factorisations for one state: ``L`` (real) and ``z_k C + hL`` (complex), per pole.
 
-    Banded LDLᵀ factors after reverse Cuthill–McKee ordering when the bandwidth is at most
-    :data:`MAX_BANDWIDTH` and the factorisation reproduces a test solve; SuperLU otherwise.
+    A sparse LDLᵀ after a fill-reducing ordering (:mod:`thermonet.engine.ldl`) when its
+    factor has at most :data:`MAX_FILL` entries per node and every factorisation passes a
+    residual check; SuperLU otherwise.
 
     Parameters
     ----------
@@ -171,52 +187,93 @@ class SparseState:
         self.E = sp.csr_matrix(input_matrix(comp.st, Lfb))
         self.c_full = np.zeros(comp.nf)
         self.c_full[:comp.nc] = comp.C
-        Cm = sp.diags(self.c_full)
         h = self.h = comp.step_s
-        self.lu_L = spla.splu(self.Lff)
         z, c, self.r_inf, _ = rational_exp(degree)
         self.z = z
         self.weights = -c             # r(−hC⁻¹L)v = r_∞ v − 2Re Σ c_k (z_k C + hL)⁻¹ C v
-        self.banded = False
-        perm = reverse_cuthill_mckee(self.Lff.tocsr(), symmetric_mode=True)
-        Lp = self.Lff.tocsr()[perm][:, perm]
-        i, j = Lp.nonzero()
-        bw = int(np.abs(i - j).max()) if len(i) else 0
-        if bw <= MAX_BANDWIDTH:
-            self.perm = perm
-            cp = self.c_full[perm]
-            Lbs, ds = [], []
-            for zk in z:
-                band = to_band((h * Lp).astype(complex), bw)
-                band[0] += zk * cp
-                Lb, d = ldl_band(band)
-                Lbs.append(Lb)
-                ds.append(d)
-            self.Lbs, self.ds = np.array(Lbs), np.array(ds)
-            self.Lb_real, self.d_real = ldl_band(to_band(Lp, bw))
-            # accept the no-pivot factorisation only if it reproduces a random solve
-            v = np.random.default_rng(0).standard_normal(comp.nf)
-            ok = np.allclose(self._expm_band(v), self._expm_lu(v), rtol=1e-9,
-                             atol=1e-9 * np.abs(v).max())
-            self.banded = bool(ok)
-        if not self.banded:
-            self.lus = [spla.splu((zk * Cm + h * self.Lff).astype(complex).tocsc()) for zk in z]
-        self.bandwidth = bw
+        self.hz = h / z
+        self.factored = self._factor_ldl(comp.nf)
+        if not self.factored:
+            Cm = sp.diags(self.c_full)
+            self.lu_L = spla.splu(self.Lff.tocsc())
+            self.lus = [spla.splu((zk * Cm + h * self.Lff).astype(complex).tocsc())
+                        for zk in z]
 
-    def _expm_lu(self, v):
-        Cm = sp.diags(self.c_full)
-        cv = (self.c_full * v).astype(complex)
+    def _factor_ldl(self, n: int) -> bool:
+        """LDLᵀ factors of ``L`` and of every ``z_k C + hL``; False if refused."""
+        if n == 0:
+            return False
+        self.order = fill_reducing_order(self.Lff)
+        A = permuted_csc(self.Lff, self.order)
+        Ap, Ai = A.indptr.astype(np.int64), A.indices.astype(np.int64)
+        self.Lp, parent = ldl_symbolic(Ap, Ai)
+        if self.Lp[-1] > MAX_FILL * n:
+            return False
+        cp = self.c_full[self.order]
+        diag = np.array([Ap[j] + np.searchsorted(Ai[Ap[j]:Ap[j + 1]], j) for j in range(n)])
+        self.Li, self.Lx_real, d = ldl_numeric(Ap, Ai, A.data.astype(float), self.Lp, parent)
+        mats, LX, DINV = [A], [], []
+        for zk in self.z:
+            M = A.astype(complex) * self.h
+            M.data[diag] += zk * cp
+            mats.append(M)
+            _, lx, dk = ldl_numeric(Ap, Ai, M.data, self.Lp, parent)
+            LX.append(lx)
+            DINV.append(1.0 / dk)
+        if (d == 0).any() or not np.all(np.isfinite(DINV)):
+            return False
+        self.dinv_real = 1.0 / d
+        self.LX = np.ascontiguousarray(np.array(LX).T)
+        self.DINV = np.ascontiguousarray(np.array(DINV).T)
+        self.cp = np.ascontiguousarray(cp)
+        return self._residuals_small(mats)
+
+    def _residuals_small(self, mats) -> bool:
+        """Componentwise backward error of a random solve with every factorisation ≤ 1e-9."""
+        n = len(self.order)
+        r = np.random.default_rng(0).standard_normal(n)
+        Y = np.repeat(r.astype(complex)[:, None], len(self.z), axis=1)
+        solve_poles(self.Lp, self.Li, self.LX, self.DINV, Y)
+        x = r[:, None].copy()
+        solve_columns(self.Lp, self.Li, self.Lx_real, self.dinv_real, x)
+        sols = [x[:, 0]] + [Y[:, k] for k in range(len(self.z))]
+        for M, y in zip(mats, sols, strict=True):
+            scale = abs(M) @ np.abs(y) + np.abs(r)
+            if not np.all(np.abs(M @ y - r) <= 1e-9 * scale):
+                return False
+        return True
+
+    def advance(self, v: np.ndarray, g: np.ndarray) -> np.ndarray:
+        """``w + r(−hC⁻¹L)(v − w)`` with ``L w = g``, by the pole solves alone.
+
+        With ``M_k = z_k C + hL`` one has ``M_k⁻¹ C w = (w − h M_k⁻¹ g)/z_k``, and the fit
+        makes ``r(0) = 1``, so the ``w`` terms cancel:
+        ``r_∞ v + 2 Re Σ_k w_k M_k⁻¹ (C v + (h/z_k) g)`` (no solve with ``L``).
+
+        Parameters
+        ----------
+        v : ndarray (nf,)
+            Temperatures the decay starts from [°C].
+        g : ndarray (nf,)
+            Heat into the free nodes held over the step [W] (``w`` is its equilibrium).
+
+        Returns
+        -------
+        ndarray (nf,)
+            The end-of-step temperatures [°C].
+        """
+        if self.factored:
+            o = self.order
+            Y = (self.cp * v[o])[:, None] + self.hz[None, :] * g[o][:, None]
+            solve_poles(self.Lp, self.Li, self.LX, self.DINV, Y)
+            out = np.empty_like(v)
+            out[o] = self.r_inf * v[o] + 2.0 * (Y @ self.weights).real
+            return out
+        cv = self.c_full * v
         acc = np.zeros(v.shape, dtype=complex)
-        for wk, zk in zip(self.weights, self.z, strict=True):
-            lu = spla.splu((zk * Cm + self.h * self.Lff).astype(complex).tocsc())
-            acc += wk * lu.solve(cv)
+        for wk, hz, lu in zip(self.weights, self.hz, self.lus, strict=True):
+            acc += wk * lu.solve((cv + hz * g).astype(complex))
         return self.r_inf * v + 2.0 * acc.real
-
-    def _expm_band(self, v):
-        cv = (self.c_full * v)[self.perm]
-        out = np.empty_like(v)
-        out[self.perm] = expm_apply_band(self.Lbs, self.ds, self.weights, cv)
-        return self.r_inf * v + out
 
     def expm_apply(self, v: np.ndarray) -> np.ndarray:
         """``e^{−hC⁻¹L} v`` (v of length nf) to the bound of :func:`rational_exp`.
@@ -231,13 +288,7 @@ class SparseState:
         ndarray (nf,)
             ``v`` after one step of free decay (massless nodes included) [same unit].
         """
-        if self.banded:
-            return self._expm_band(v)
-        cv = self.c_full * v
-        acc = np.zeros(v.shape, dtype=complex)
-        for wk, lu in zip(self.weights, self.lus, strict=True):
-            acc += wk * lu.solve(cv.astype(complex))
-        return self.r_inf * v + 2.0 * acc.real
+        return self.advance(v, np.zeros_like(v))
 
     def solve_many(self, R: np.ndarray) -> np.ndarray:
         """Solve ``L X = R`` for the columns of R (nf × k).
@@ -253,11 +304,12 @@ class SparseState:
             Free-node temperatures [°C] (``L`` in [W/K]); for a column of unit powers, the
             steady response [K/W].
         """
-        if self.banded:
-            X = np.empty_like(R)
-            X[self.perm] = solve_band_many(self.Lb_real, self.d_real,
-                                           np.ascontiguousarray(R[self.perm].T)).T
-            return X
+        if self.factored:
+            X = np.ascontiguousarray(R[self.order], dtype=float)
+            solve_columns(self.Lp, self.Li, self.Lx_real, self.dinv_real, X)
+            out = np.empty_like(X)
+            out[self.order] = X
+            return out
         return self.lu_L.solve(R)
 
     def equilibrium(self, Eu: np.ndarray) -> np.ndarray:
@@ -273,30 +325,113 @@ class SparseState:
         ndarray (nf,)
             Equilibrium temperatures of the free nodes [°C].
         """
-        if self.banded:
-            out = np.empty_like(Eu)
-            out[self.perm] = solve_band(self.Lb_real, self.d_real, Eu[self.perm])
-            return out
-        return self.lu_L.solve(Eu)
+        return self.solve_many(np.asarray(Eu)[:, None])[:, 0]
 
 
-def _free_run_banded(st: SparseState, U: np.ndarray, D: np.ndarray, ramp: np.ndarray,
-                     T0: np.ndarray, h: float, out_col: np.ndarray):
-    """Free-running single-state march in one compiled call (banded factors).
+#: Step free-running single-state networks with the compiled march (:func:`march_free`);
+#: False steps them with the general loop, the reference the march is tested against.
+COMPILED_FREE_MARCH = True
 
-    Returns ``Tall`` (steps + 1, nf): the start state then the end-of-step temperatures,
-    and ``Tmean`` (steps, nf): step means, both in the network's node order. End and start
-    states are the views ``Tall[1:]`` and ``Tall[:-1]`` (no copy).
+#: Steps whose step-mean solves the free march does together, as one solve of many columns.
+MEAN_BLOCK = 32
+
+
+@numba.njit(cache=True)
+def march_free(Lp, Li, LX, DINV, Lx_real, dinv_real, hz, weights, r_inf, c, E_row, E_col,
+               E_val, U, D, ramp, T0, order, h, out_col, n_out):  # pragma: no cover - compiled
+    """March the free-running sparse step over all rows of the inputs ``U``.
+
+    Inputs are ``U`` at the end of each step and, where ``ramp``, rise linearly over it at
+    the rates ``D`` [unit/s] (first-order hold). The particular solution of
+    ``C dT/dt = −L T + E u(t)`` for a linear input is ``α + βt`` with ``Lβ = E d``, so
+    ``T⁺ = α + r(−hC⁻¹L)(T − α + hβ)`` with ``Lα = E u − Cβ`` (held inputs: β = 0), which
+    :meth:`SparseState.advance` evaluates by the pole solves alone: those are the only
+    solves in the recursion (interleaved, :func:`solve_poles`). The step means follow from
+    the integrated equation ``L T̄ = E ū − C (T⁺ − T)/h`` with ``ū = u − hd/2``, so the
+    balance closes to rounding; they and β (when an input ramps) are solved for
+    :data:`MEAN_BLOCK` steps at once (one solve of many columns), outside the recursion. ``c``, ``E`` (CSR
+    entries ``E_row, E_col, E_val``) and ``T0`` are in the factor's order (``order[i]`` is node
+    i of it); the outputs are written in the network's order, only for the ``n_out`` nodes
+    with an output column ``out_col[node] ≥ 0``.
+
+    Returns
+    -------
+    Tall : ndarray (steps + 1, n_out)
+        Start temperature then the end-of-step temperatures [°C] of the kept nodes.
+    Tmean : ndarray (steps, n_out)
+        Step-mean temperatures [°C] of the kept nodes.
     """
-    perm = st.perm
-    Ep = st.E.tocsr()[perm]
-    return march_free_band(st.Lbs, st.ds, st.weights, st.r_inf,
-                           np.ascontiguousarray(st.c_full[perm]), st.Lb_real, st.d_real,
-                           Ep.indptr.astype(np.int64), Ep.indices.astype(np.int64),
-                           Ep.data.astype(float), np.ascontiguousarray(U, dtype=float),
-                           np.ascontiguousarray(D, dtype=float), ramp.astype(np.bool_),
-                           np.ascontiguousarray(T0[perm]), perm.astype(np.int64), h,
-                           out_col.astype(np.int64), int((out_col >= 0).sum()))
+    nsteps = U.shape[0]
+    n = T0.shape[0]
+    P = LX.shape[1]
+    B = MEAN_BLOCK
+    Tall = np.empty((nsteps + 1, n_out))
+    Tmean = np.empty((nsteps, n_out))
+    T = T0.copy()
+    col = np.empty(n, dtype=np.int64)      # output column of each position of the order
+    for i in range(n):
+        col[i] = out_col[order[i]]
+        if col[i] >= 0:
+            Tall[0, col[i]] = T[i]
+    any_ramp = ramp.any()
+    Y = np.empty((n, P), dtype=np.complex128)
+    b = np.empty(n)
+    beta = np.zeros((n, B))                # L β = E d, for a block of steps
+    R = np.zeros((n, B))                   # right-hand sides of the step means, a block
+    for k0 in range(0, nsteps, B):
+        nb = min(B, nsteps - k0)
+        if any_ramp:
+            beta[:] = 0.0
+            for q in range(E_row.shape[0]):
+                if ramp[E_col[q]]:
+                    for kk in range(nb):
+                        beta[E_row[q], kk] += E_val[q] * D[k0 + kk, E_col[q]]
+            solve_columns(Lp, Li, Lx_real, dinv_real, beta)
+        for kk in range(nb):
+            k = k0 + kk
+            b[:] = 0.0       # E u by its entries (rows of E are mostly empty)
+            for q in range(E_row.shape[0]):
+                b[E_row[q]] += E_val[q] * U[k, E_col[q]]
+            for i in range(n):
+                v = T[i] + h * beta[i, kk]
+                g = b[i] - c[i] * beta[i, kk]
+                for p in range(P):
+                    Y[i, p] = c[i] * v + hz[p] * g
+            solve_poles(Lp, Li, LX, DINV, Y)
+            for i in range(n):
+                acc = r_inf * (T[i] + h * beta[i, kk])
+                for p in range(P):
+                    acc += 2.0 * (weights[p] * Y[i, p]).real
+                # E ū = E u − (h/2) E d = b − (h/2) L β
+                R[i, kk] = b[i] - c[i] * (acc - T[i]) / h
+                T[i] = acc
+                if col[i] >= 0:
+                    Tall[k + 1, col[i]] = acc
+        # the step means of the block: L T̄ = E ū − C (T⁺ − T)/h, all columns at once
+        solve_columns(Lp, Li, Lx_real, dinv_real, R)
+        for kk in range(nb):
+            for i in range(n):
+                if col[i] >= 0:
+                    Tmean[k0 + kk, col[i]] = R[i, kk] - 0.5 * h * beta[i, kk]
+    return Tall, Tmean
+
+
+def _free_run(st: SparseState, U: np.ndarray, D: np.ndarray, ramp: np.ndarray,
+              T0: np.ndarray, h: float, out_col: np.ndarray):
+    """Free-running single-state march in one compiled call (LDLᵀ factors).
+
+    Returns ``Tall`` (steps + 1, n_out): the start state then the end-of-step temperatures,
+    and ``Tmean`` (steps, n_out): step means, both in the network's node order. End and
+    start states are the views ``Tall[1:]`` and ``Tall[:-1]`` (no copy).
+    """
+    o = st.order
+    Ep = st.E.tocsr()[o].tocoo()
+    return march_free(st.Lp, st.Li, st.LX, st.DINV, st.Lx_real, st.dinv_real, st.hz,
+                      st.weights, st.r_inf, st.cp, Ep.row.astype(np.int64),
+                      Ep.col.astype(np.int64), Ep.data.astype(float),
+                      np.ascontiguousarray(U, dtype=float), np.ascontiguousarray(D, dtype=float),
+                      ramp.astype(np.bool_), np.ascontiguousarray(T0[o]), o, h,
+                      out_col.astype(np.int64), int((out_col >= 0).sum()))
 
 
 def _start(comp: Compiled, st0: SparseState, u0, hsp0, csp0) -> np.ndarray:
@@ -319,8 +454,7 @@ def _responses(comp: Compiled, states: dict) -> dict:
     for s, st in states.items():
         R = np.zeros((nf, m))
         for j in range(m):
-            xe = st.equilibrium(st.E[:, [pcols[j]]].toarray().ravel())
-            R[:, j] = xe - st.expm_apply(xe)
+            R[:, j] = st.advance(np.zeros(nf), st.E[:, [pcols[j]]].toarray().ravel())
         if m and (R[comp.thermostat_node, np.arange(m)] <= 0).any():
             raise NetworkError("a thermostat node does not respond to heating within a step")
         resp[s] = R
@@ -357,13 +491,11 @@ def _march(comp, states, resp, T, U, D, sched, hsp, csp, sig, keep):
         u = U[k].copy()
         u[nb:nb + nsrc] *= factor[s]
         u[pcols] = 0.0
-        hb = 0.0
-        if ramp_any:    # particular solution of a linear input: α + βt (see banded march)
-            hb = comp.step_s * st.equilibrium(st.E @ D[k])
-            xe = st.equilibrium(st.E @ u - st.c_full * hb / comp.step_s)
+        if ramp_any:    # particular solution of a linear input: α + βt (see march_free)
+            beta = st.equilibrium(st.E @ D[k])
+            T1 = st.advance(T + comp.step_s * beta, st.E @ u - st.c_full * beta)
         else:
-            xe = st.equilibrium(st.E @ u)
-        T1 = xe + st.expm_apply(T - xe + hb)
+            T1 = st.advance(T, st.E @ u)
         u = u - 0.5 * comp.step_s * D[k]            # the step mean of the inputs
         if m:
             R = resp[s]
@@ -438,10 +570,11 @@ def run_sparse(comp: Compiled, warmup_steps: int, tol: float = 1e-7, keep=None
         return out
 
     keep = np.arange(comp.nf) if keep is None else np.asarray(keep, dtype=np.int64)
-    if comp.nsw == 0 and comp.m == 0 and len(states) == 1 and st0.banded:
+    if (COMPILED_FREE_MARCH and comp.nsw == 0 and comp.m == 0 and len(states) == 1
+            and st0.factored):
         cols = np.full(comp.nf, -1, dtype=np.int64)
         cols[keep] = np.arange(len(keep))
-        Tall, Tmean = _free_run_banded(st0, U, D, ramp, T, comp.step_s, cols)
+        Tall, Tmean = _free_run(st0, U, D, ramp, T, comp.step_s, cols)
         Um = U[w:] - 0.5 * comp.step_s * D[w:]
         start = np.full(comp.nc, np.nan)
         kc = keep[keep < comp.nc]
