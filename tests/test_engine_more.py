@@ -135,10 +135,15 @@ def test_sparse_compiled_march_equals_the_general_loop(interpolate, monkeypatch)
         loop = tn.simulate(net, w, **opts)
         monkeypatch.setattr(sparse, "COMPILED_FREE_MARCH", True)
         scale = max(1.0, float(np.abs(loop.temperatures.to_numpy()).max()))
+        # interpolated air: both apply the exponential to the departure from a ramp's
+        # particular solution, offset by up to ~1e4 K on heavy, weakly linked nodes (see the
+        # test above), so rounding there is ~1e-12 K·1e4 at the end of a step and more in the
+        # means (C·ΔT/h); measured 6e-10 and 5e-7 K on seed 12 (scale 30 K)
+        t_tol, m_tol = (1e-11, 1e-9) if interpolate == () else (1e-9, 1e-6)
         np.testing.assert_allclose(fast.temperatures, loop.temperatures, rtol=0,
-                                   atol=1e-11 * scale)
+                                   atol=t_tol * scale)
         np.testing.assert_allclose(fast.mean_temperatures, loop.mean_temperatures, rtol=0,
-                                   atol=1e-9 * scale)
+                                   atol=m_tol * scale)
         assert fast.worst_residual() < 1e-9 and loop.worst_residual() < 1e-9
 
 

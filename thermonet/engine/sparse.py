@@ -13,14 +13,7 @@ the poles of a contour quadrature for the same accuracy. With ``s = −hC⁻¹L`
 
 one complex sparse factorisation per conjugate pair of poles, made once per state and reused
 every step (a sparse LDLᵀ after a fill-reducing ordering, :mod:`thermonet.engine.ldl`, else
-SuperLU); the pole solves of a step run interleaved. The residues are fitted with
-``r(0) = 1``, so that the step keeps an equilibrium exactly and the equilibrium itself is
-never solved for: with ``M_k = z_k C + hL`` and ``L T_eq = E u``,
-``M_k⁻¹ C T_eq = (T_eq − h M_k⁻¹ E u)/z_k``, hence
-
-.. math::  T(h) ≈ r_∞ T(0) − 2\\,\\mathrm{Re} \\sum_k c_k M_k^{-1} (C\\,T(0) + (h/z_k) E u) .
-
-The approximation error is bounded
+SuperLU); the pole solves of a step run interleaved. The approximation error is bounded
 uniformly on the negative real axis (:func:`rational_exp` measures it), so the step is exact
 to that bound for any stiffness; massless nodes (rows with C = 0) are handled by the same
 formula. Step-mean temperatures follow from the integrated equation ``L T̄ = E u − C ΔT/h``,
@@ -51,6 +44,8 @@ import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
 from thermonet.engine import kernels
+from thermonet.engine.compile import Compiled
+from thermonet.engine.discretise import input_matrix, laplacian_sparse
 from thermonet.engine.ldl import (
     fill_reducing_order,
     ldl_numeric,
@@ -59,8 +54,6 @@ from thermonet.engine.ldl import (
     solve_columns,
     solve_poles,
 )
-from thermonet.engine.compile import Compiled
-from thermonet.engine.discretise import input_matrix, laplacian_sparse
 from thermonet.engine.start import apply_initial, steady_start
 from thermonet.engine.trajectory import NodeTrajectory
 from thermonet.errors import AccuracyWarning, NetworkError
@@ -107,28 +100,25 @@ def _samples(m: int = 6000) -> np.ndarray:
 
 @cache
 def rational_exp(n: int):
-    """CF rational approximation of e^s on s ≤ 0 with r(0) = 1: (poles z, residues c, r_∞,
-    error bound).
+    """CF rational approximation of e^s on s ≤ 0: (poles z, residues c, r_∞, error bound).
 
     ``r(s) = r_∞ + 2 Re Σ_k c_k/(s − z_k)`` over the n/2 poles ``z_k`` of the upper
-    half-plane. The residues are fitted to e^s by least squares reweighted towards the
-    minimax error (Lawson's iteration) on :func:`_samples`, under the constraint
-    ``r(0) = 1`` (``r_∞ = 1 + 2 Re Σ_k c_k/z_k``): a step then keeps an equilibrium exactly
-    and needs no solve with ``L`` (:meth:`SparseState.advance`). The returned bound is the
-    largest |r(s) − e^s| measured on those points and on 20 000 log-spaced points of
-    [−1e8, −1e−10], plus 1 % (about 1.4 times the unconstrained fit's error, ~9.28^−n).
+    half-plane. Residues and r_∞ are fitted to e^s by least squares reweighted towards the
+    minimax error (Lawson's iteration) on :func:`_samples`; the returned bound is the largest
+    |r(s) − e^s| measured on those points and on 20 000 log-spaced points of
+    [−1e8, −1e−10] (it is about twice the CF singular value, ~9.28^−n).
     """
     if n not in DEGREES:
         raise ValueError(f"degree n must be one of {DEGREES}, got {n!r}")
     z = _cf_poles(n)
     s = _samples()
 
-    def design(x):      # r(s) − 1 = 2 Re Σ c_k s / (z_k (s − z_k)), in Re c and Im c
-        inv = x[:, None] / (z[None, :] * (x[:, None] - z[None, :]))
-        return np.hstack([2 * inv.real, -2 * inv.imag])
+    def design(x):
+        inv = 1.0 / (x[:, None] - z[None, :])
+        return np.hstack([np.ones((len(x), 1)), 2 * inv.real, -2 * inv.imag])
 
     A = design(s)
-    target = np.expm1(s)
+    target = np.exp(s)
     wts = np.full(len(s), 1.0 / len(s))
     for _ in range(40):
         sw = np.sqrt(wts)[:, None]
@@ -137,12 +127,9 @@ def rational_exp(n: int):
         wts = wts * (err + 1e-300)
         wts /= wts.sum()
     k = len(z)
-    c = sol[:k] + 1j * sol[k:]
-    r_inf = 1.0 + 2.0 * float(np.sum(c / z).real)
+    r_inf, c = float(sol[0]), sol[1:1 + k] + 1j * sol[1 + k:]
     check = np.concatenate([s, -np.logspace(-10, 8, 20000)])
-    r = r_inf + 2 * np.real(np.sum(c[None, :] / (check[:, None] - z[None, :]), axis=1))
-    # + 1 %: a peak of the equioscillating error may fall between the measured points
-    bound = 1.01 * float(np.abs(r - np.exp(check)).max())
+    bound = float(np.abs(design(check) @ sol - np.exp(check)).max())
     return z, c, r_inf, bound
 
 
@@ -191,7 +178,6 @@ class SparseState:
         z, c, self.r_inf, _ = rational_exp(degree)
         self.z = z
         self.weights = -c             # r(−hC⁻¹L)v = r_∞ v − 2Re Σ c_k (z_k C + hL)⁻¹ C v
-        self.hz = h / z
         self.factored = self._factor_ldl(comp.nf)
         if not self.factored:
             Cm = sp.diags(self.c_full)
@@ -243,38 +229,6 @@ class SparseState:
                 return False
         return True
 
-    def advance(self, v: np.ndarray, g: np.ndarray) -> np.ndarray:
-        """``w + r(−hC⁻¹L)(v − w)`` with ``L w = g``, by the pole solves alone.
-
-        With ``M_k = z_k C + hL`` one has ``M_k⁻¹ C w = (w − h M_k⁻¹ g)/z_k``, and the fit
-        makes ``r(0) = 1``, so the ``w`` terms cancel:
-        ``r_∞ v + 2 Re Σ_k w_k M_k⁻¹ (C v + (h/z_k) g)`` (no solve with ``L``).
-
-        Parameters
-        ----------
-        v : ndarray (nf,)
-            Temperatures the decay starts from [°C].
-        g : ndarray (nf,)
-            Heat into the free nodes held over the step [W] (``w`` is its equilibrium).
-
-        Returns
-        -------
-        ndarray (nf,)
-            The end-of-step temperatures [°C].
-        """
-        if self.factored:
-            o = self.order
-            Y = (self.cp * v[o])[:, None] + self.hz[None, :] * g[o][:, None]
-            solve_poles(self.Lp, self.Li, self.LX, self.DINV, Y)
-            out = np.empty_like(v)
-            out[o] = self.r_inf * v[o] + 2.0 * (Y @ self.weights).real
-            return out
-        cv = self.c_full * v
-        acc = np.zeros(v.shape, dtype=complex)
-        for wk, hz, lu in zip(self.weights, self.hz, self.lus, strict=True):
-            acc += wk * lu.solve((cv + hz * g).astype(complex))
-        return self.r_inf * v + 2.0 * acc.real
-
     def expm_apply(self, v: np.ndarray) -> np.ndarray:
         """``e^{−hC⁻¹L} v`` (v of length nf) to the bound of :func:`rational_exp`.
 
@@ -288,7 +242,19 @@ class SparseState:
         ndarray (nf,)
             ``v`` after one step of free decay (massless nodes included) [same unit].
         """
-        return self.advance(v, np.zeros_like(v))
+        if self.factored:
+            o = self.order
+            cv = self.cp * v[o]
+            Y = np.repeat(cv.astype(complex)[:, None], len(self.z), axis=1)
+            solve_poles(self.Lp, self.Li, self.LX, self.DINV, Y)
+            out = np.empty_like(v)
+            out[o] = self.r_inf * v[o] + 2.0 * (Y @ self.weights).real
+            return out
+        cv = (self.c_full * v).astype(complex)
+        acc = np.zeros(v.shape, dtype=complex)
+        for wk, lu in zip(self.weights, self.lus, strict=True):
+            acc += wk * lu.solve(cv)
+        return self.r_inf * v + 2.0 * acc.real
 
     def solve_many(self, R: np.ndarray) -> np.ndarray:
         """Solve ``L X = R`` for the columns of R (nf × k).
@@ -337,22 +303,22 @@ MEAN_BLOCK = 32
 
 
 @numba.njit(cache=True)
-def march_free(Lp, Li, LX, DINV, Lx_real, dinv_real, hz, weights, r_inf, c, E_row, E_col,
-               E_val, U, D, ramp, T0, order, h, out_col, n_out):  # pragma: no cover - compiled
+def march_free(Lp, Li, LX, DINV, Lx_real, dinv_real, weights, r_inf, c, E_row, E_col, E_val,
+               U, D, ramp, T0, order, h, out_col, n_out):  # pragma: no cover - compiled
     """March the free-running sparse step over all rows of the inputs ``U``.
 
     Inputs are ``U`` at the end of each step and, where ``ramp``, rise linearly over it at
     the rates ``D`` [unit/s] (first-order hold). The particular solution of
-    ``C dT/dt = −L T + E u(t)`` for a linear input is ``α + βt`` with ``Lβ = E d``, so
-    ``T⁺ = α + r(−hC⁻¹L)(T − α + hβ)`` with ``Lα = E u − Cβ`` (held inputs: β = 0), which
-    :meth:`SparseState.advance` evaluates by the pole solves alone: those are the only
-    solves in the recursion (interleaved, :func:`solve_poles`). The step means follow from
-    the integrated equation ``L T̄ = E ū − C (T⁺ − T)/h`` with ``ū = u − hd/2``, so the
-    balance closes to rounding; they and β (when an input ramps) are solved for
-    :data:`MEAN_BLOCK` steps at once (one solve of many columns), outside the recursion. ``c``, ``E`` (CSR
-    entries ``E_row, E_col, E_val``) and ``T0`` are in the factor's order (``order[i]`` is node
-    i of it); the outputs are written in the network's order, only for the ``n_out`` nodes
-    with an output column ``out_col[node] ≥ 0``.
+    ``C dT/dt = −L T + E u(t)`` for a linear input is ``α + βt`` with ``Lβ = E d`` and
+    ``L α = E u − Cβ`` at the end of the step, so ``T⁺ = α + r(−hC⁻¹L)(T − α + hβ)`` (held
+    inputs: β = 0 and α is the equilibrium). Only the pole solves of ``r`` depend on the
+    state; they run interleaved, one step after another (:func:`solve_poles`). Everything
+    that depends on the inputs alone — α, β — and the step means, from the integrated
+    equation ``L T̄ = E ū − C (T⁺ − T)/h`` with ``ū = u − hd/2`` (so the balance closes to
+    rounding), is solved for :data:`MEAN_BLOCK` steps at once, as one solve of many columns.
+    ``c``, ``E`` (entries ``E_row, E_col, E_val``) and ``T0`` are in the factor's order
+    (``order[i]`` is node i of it); the outputs are written in the network's order, only
+    for the ``n_out`` nodes with an output column ``out_col[node] ≥ 0``.
 
     Returns
     -------
@@ -375,43 +341,44 @@ def march_free(Lp, Li, LX, DINV, Lx_real, dinv_real, hz, weights, r_inf, c, E_ro
             Tall[0, col[i]] = T[i]
     any_ramp = ramp.any()
     Y = np.empty((n, P), dtype=np.complex128)
-    b = np.empty(n)
-    beta = np.zeros((n, B))                # L β = E d, for a block of steps
-    R = np.zeros((n, B))                   # right-hand sides of the step means, a block
+    Eu = np.zeros((n, B))                  # E u of a block of steps [W]
+    alpha = np.zeros((n, B))               # then α [°C]
+    beta = np.zeros((n, B))                # β [K/s]
+    R = np.zeros((n, B))                   # right-hand sides, then the step means [°C]
     for k0 in range(0, nsteps, B):
         nb = min(B, nsteps - k0)
-        if any_ramp:
-            beta[:] = 0.0
-            for q in range(E_row.shape[0]):
+        Eu[:] = 0.0
+        beta[:] = 0.0
+        for q in range(E_row.shape[0]):    # by the entries of E (most rows are empty)
+            for kk in range(nb):
+                Eu[E_row[q], kk] += E_val[q] * U[k0 + kk, E_col[q]]
                 if ramp[E_col[q]]:
-                    for kk in range(nb):
-                        beta[E_row[q], kk] += E_val[q] * D[k0 + kk, E_col[q]]
+                    beta[E_row[q], kk] += E_val[q] * D[k0 + kk, E_col[q]]
+        if any_ramp:
             solve_columns(Lp, Li, Lx_real, dinv_real, beta)
+        for i in range(n):
+            for kk in range(B):
+                alpha[i, kk] = Eu[i, kk] - c[i] * beta[i, kk]
+        solve_columns(Lp, Li, Lx_real, dinv_real, alpha)
         for kk in range(nb):
             k = k0 + kk
-            b[:] = 0.0       # E u by its entries (rows of E are mostly empty)
-            for q in range(E_row.shape[0]):
-                b[E_row[q]] += E_val[q] * U[k, E_col[q]]
             for i in range(n):
-                v = T[i] + h * beta[i, kk]
-                g = b[i] - c[i] * beta[i, kk]
+                v = c[i] * (T[i] - alpha[i, kk] + h * beta[i, kk])
                 for p in range(P):
-                    Y[i, p] = c[i] * v + hz[p] * g
+                    Y[i, p] = v
             solve_poles(Lp, Li, LX, DINV, Y)
             for i in range(n):
-                acc = r_inf * (T[i] + h * beta[i, kk])
+                acc = alpha[i, kk] + r_inf * (T[i] - alpha[i, kk] + h * beta[i, kk])
                 for p in range(P):
                     acc += 2.0 * (weights[p] * Y[i, p]).real
-                # E ū = E u − (h/2) E d = b − (h/2) L β
-                R[i, kk] = b[i] - c[i] * (acc - T[i]) / h
+                R[i, kk] = Eu[i, kk] - c[i] * (acc - T[i]) / h
                 T[i] = acc
                 if col[i] >= 0:
                     Tall[k + 1, col[i]] = acc
-        # the step means of the block: L T̄ = E ū − C (T⁺ − T)/h, all columns at once
         solve_columns(Lp, Li, Lx_real, dinv_real, R)
         for kk in range(nb):
             for i in range(n):
-                if col[i] >= 0:
+                if col[i] >= 0:        # E ū = E u − (h/2) E d = E u − (h/2) L β
                     Tmean[k0 + kk, col[i]] = R[i, kk] - 0.5 * h * beta[i, kk]
     return Tall, Tmean
 
@@ -426,12 +393,12 @@ def _free_run(st: SparseState, U: np.ndarray, D: np.ndarray, ramp: np.ndarray,
     """
     o = st.order
     Ep = st.E.tocsr()[o].tocoo()
-    return march_free(st.Lp, st.Li, st.LX, st.DINV, st.Lx_real, st.dinv_real, st.hz,
-                      st.weights, st.r_inf, st.cp, Ep.row.astype(np.int64),
-                      Ep.col.astype(np.int64), Ep.data.astype(float),
-                      np.ascontiguousarray(U, dtype=float), np.ascontiguousarray(D, dtype=float),
-                      ramp.astype(np.bool_), np.ascontiguousarray(T0[o]), o, h,
-                      out_col.astype(np.int64), int((out_col >= 0).sum()))
+    return march_free(st.Lp, st.Li, st.LX, st.DINV, st.Lx_real, st.dinv_real, st.weights,
+                      st.r_inf, st.cp, Ep.row.astype(np.int64), Ep.col.astype(np.int64),
+                      Ep.data.astype(float), np.ascontiguousarray(U, dtype=float),
+                      np.ascontiguousarray(D, dtype=float), ramp.astype(np.bool_),
+                      np.ascontiguousarray(T0[o]), o, h, out_col.astype(np.int64),
+                      int((out_col >= 0).sum()))
 
 
 def _start(comp: Compiled, st0: SparseState, u0, hsp0, csp0) -> np.ndarray:
@@ -454,7 +421,8 @@ def _responses(comp: Compiled, states: dict) -> dict:
     for s, st in states.items():
         R = np.zeros((nf, m))
         for j in range(m):
-            R[:, j] = st.advance(np.zeros(nf), st.E[:, [pcols[j]]].toarray().ravel())
+            xe = st.equilibrium(st.E[:, [pcols[j]]].toarray().ravel())
+            R[:, j] = xe - st.expm_apply(xe)
         if m and (R[comp.thermostat_node, np.arange(m)] <= 0).any():
             raise NetworkError("a thermostat node does not respond to heating within a step")
         resp[s] = R
@@ -491,11 +459,13 @@ def _march(comp, states, resp, T, U, D, sched, hsp, csp, sig, keep):
         u = U[k].copy()
         u[nb:nb + nsrc] *= factor[s]
         u[pcols] = 0.0
+        hb = 0.0
         if ramp_any:    # particular solution of a linear input: α + βt (see march_free)
-            beta = st.equilibrium(st.E @ D[k])
-            T1 = st.advance(T + comp.step_s * beta, st.E @ u - st.c_full * beta)
+            hb = comp.step_s * st.equilibrium(st.E @ D[k])
+            xe = st.equilibrium(st.E @ u - st.c_full * hb / comp.step_s)
         else:
-            T1 = st.advance(T, st.E @ u)
+            xe = st.equilibrium(st.E @ u)
+        T1 = xe + st.expm_apply(T - xe + hb)
         u = u - 0.5 * comp.step_s * D[k]            # the step mean of the inputs
         if m:
             R = resp[s]
