@@ -299,7 +299,7 @@ class SparseState:
 COMPILED_FREE_MARCH = True
 
 #: Steps whose step-mean solves the free march does together, as one solve of many columns.
-MEAN_BLOCK = 32
+MEAN_BLOCK = 16
 
 
 @numba.njit(cache=True)
@@ -341,45 +341,66 @@ def march_free(Lp, Li, LX, DINV, Lx_real, dinv_real, weights, r_inf, c, E_row, E
             Tall[0, col[i]] = T[i]
     any_ramp = ramp.any()
     Y = np.empty((n, P), dtype=np.complex128)
-    Eu = np.zeros((n, B))                  # E u of a block of steps [W]
-    alpha = np.zeros((n, B))               # then α [°C]
+    # a block of steps: node-major (n, B) for the solves of many columns, step-major (B, n)
+    # copies for the steps (contiguous per step)
+    alpha = np.zeros((n, B))               # E u, then α [°C]
     beta = np.zeros((n, B))                # β [K/s]
     R = np.zeros((n, B))                   # right-hand sides, then the step means [°C]
+    Eu_s = np.zeros((B, n))
+    alpha_s = np.zeros((B, n))
+    beta_s = np.zeros((B, n))
+    R_s = np.zeros((B, n))
     for k0 in range(0, nsteps, B):
         nb = min(B, nsteps - k0)
-        Eu[:] = 0.0
+        alpha[:] = 0.0
         beta[:] = 0.0
         for q in range(E_row.shape[0]):    # by the entries of E (most rows are empty)
             for kk in range(nb):
-                Eu[E_row[q], kk] += E_val[q] * U[k0 + kk, E_col[q]]
+                alpha[E_row[q], kk] += E_val[q] * U[k0 + kk, E_col[q]]
                 if ramp[E_col[q]]:
                     beta[E_row[q], kk] += E_val[q] * D[k0 + kk, E_col[q]]
         if any_ramp:
             solve_columns(Lp, Li, Lx_real, dinv_real, beta)
         for i in range(n):
             for kk in range(B):
-                alpha[i, kk] = Eu[i, kk] - c[i] * beta[i, kk]
+                Eu_s[kk, i] = alpha[i, kk]
+                beta_s[kk, i] = beta[i, kk]
+                alpha[i, kk] -= c[i] * beta[i, kk]
         solve_columns(Lp, Li, Lx_real, dinv_real, alpha)
+        for i in range(n):
+            for kk in range(B):
+                alpha_s[kk, i] = alpha[i, kk]
         for kk in range(nb):
             k = k0 + kk
+            a_k, b_k = alpha_s[kk], beta_s[kk]
             for i in range(n):
-                v = c[i] * (T[i] - alpha[i, kk] + h * beta[i, kk])
+                v = c[i] * (T[i] - a_k[i] + h * b_k[i])
                 for p in range(P):
                     Y[i, p] = v
             solve_poles(Lp, Li, LX, DINV, Y)
+            e_k, r_k = Eu_s[kk], R_s[kk]
+            row = Tall[k + 1]
             for i in range(n):
-                acc = alpha[i, kk] + r_inf * (T[i] - alpha[i, kk] + h * beta[i, kk])
+                acc = a_k[i] + r_inf * (T[i] - a_k[i] + h * b_k[i])
                 for p in range(P):
                     acc += 2.0 * (weights[p] * Y[i, p]).real
-                R[i, kk] = Eu[i, kk] - c[i] * (acc - T[i]) / h
+                r_k[i] = e_k[i] - c[i] * (acc - T[i]) / h
                 T[i] = acc
                 if col[i] >= 0:
-                    Tall[k + 1, col[i]] = acc
+                    row[col[i]] = acc
+        for i in range(n):
+            for kk in range(B):
+                R[i, kk] = R_s[kk, i]
         solve_columns(Lp, Li, Lx_real, dinv_real, R)
+        for i in range(n):
+            for kk in range(B):
+                R_s[kk, i] = R[i, kk]
         for kk in range(nb):
+            row = Tmean[k0 + kk]
+            r_k, b_k = R_s[kk], beta_s[kk]
             for i in range(n):
                 if col[i] >= 0:        # E ū = E u − (h/2) E d = E u − (h/2) L β
-                    Tmean[k0 + kk, col[i]] = R[i, kk] - 0.5 * h * beta[i, kk]
+                    row[col[i]] = r_k[i] - 0.5 * h * b_k[i]
     return Tall, Tmean
 
 
