@@ -211,8 +211,11 @@ def fill_reducing_order(A: sp.spmatrix) -> np.ndarray:
     """
     A = A.tocsc()
     rcm = reverse_cuthill_mckee(A.tocsr(), symmetric_mode=True).astype(np.int64)
-    lu = spla.splu(A, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
-                   options={"SymmetricMode": True})
+    try:
+        lu = spla.splu(A, permc_spec="MMD_AT_PLUS_A", diag_pivot_thresh=0.0,
+                       options={"SymmetricMode": True})
+    except RuntimeError:            # a zero pivot without pivoting: keep RCM
+        return rcm
     mmd = np.argsort(lu.perm_c).astype(np.int64)   # A·Pc takes column perm_c⁻¹[j] to j
     sizes = [factor_size(A, o) for o in (rcm, mmd)]
     return rcm if sizes[0] <= sizes[1] else mmd

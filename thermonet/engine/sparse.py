@@ -196,7 +196,9 @@ class SparseState:
         if self.Lp[-1] > MAX_FILL * n:
             return False
         cp = self.c_full[self.order]
-        diag = np.array([Ap[j] + np.searchsorted(Ai[Ap[j]:Ap[j + 1]], j) for j in range(n)])
+        diag = np.flatnonzero(Ai == np.repeat(np.arange(n), np.diff(Ap)))   # (j, j) entries
+        if len(diag) != n:          # a node with no stored diagonal: leave it to SuperLU
+            return False
         self.Li, self.Lx_real, d = ldl_numeric(Ap, Ai, A.data.astype(float), self.Lp, parent)
         mats, LX, DINV = [A], [], []
         for zk in self.z:
@@ -205,9 +207,10 @@ class SparseState:
             mats.append(M)
             _, lx, dk = ldl_numeric(Ap, Ai, M.data, self.Lp, parent)
             LX.append(lx)
-            DINV.append(1.0 / dk)
-        if (d == 0).any() or not np.all(np.isfinite(DINV)):
+            DINV.append(dk)
+        if (d == 0).any() or any((dk == 0).any() for dk in DINV):
             return False
+        DINV = [1.0 / dk for dk in DINV]
         self.dinv_real = 1.0 / d
         self.LX = np.ascontiguousarray(np.array(LX).T)
         self.DINV = np.ascontiguousarray(np.array(DINV).T)
