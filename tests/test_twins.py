@@ -3,7 +3,7 @@
 Paths: the compiled kernel (modal coordinates, ``kernel="numba"``) against the numpy
 reference loop (node coordinates, dense exact steps, ``kernel="numpy"``); the batch path
 (sums inside the compiled loop) against the reference's hourly traces summed afterwards; the
-sparse method (banded and, forced, SuperLU factorisations) against the exact method. Cases:
+sparse method (sparse LDLᵀ and, forced, SuperLU factorisations) against the exact method. Cases:
 free-running, one thermostat with a capacity limit, several thermostats, switches with
 hysteresis, scheduled conductances and setpoints, massless nodes, a stiff node.
 
