@@ -130,8 +130,10 @@ class Results:
     @cached_property
     def temperatures(self) -> pd.DataFrame:
         """Node and boundary temperatures [°C] at the end of each step (the kept nodes)."""
-        return self._frame(self._points(self._t.end(self._free_kept), at_end=True),
-                           *self._columns())
+        block = self._t.end_points() if len(self._free_kept) == self._c.nf else None
+        if block is None:
+            block = self._points(self._t.end(self._free_kept), at_end=True)
+        return self._frame(block, *self._columns())
 
     @cached_property
     def mean_temperatures(self) -> pd.DataFrame:

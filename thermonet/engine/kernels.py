@@ -126,6 +126,43 @@ def clamped_power(rest, hsp, csp, mii, qh, qc):
     return 0.0
 
 
+@register_jitable
+def direct_node(ox, ou, oc):
+    """The coordinate an observed row reads alone, or −1.
+
+    A row ``T = oc + ox · z + ou · u`` that is exactly the unit vector ``e_i`` with
+    ``ou = 0`` and ``oc = 0`` (a capacitive node stepped in node coordinates) is ``z_i``
+    itself: the loop then reads ``z_i`` instead of summing the row (the same value, as the
+    terms it skips are exact zeros for finite ``z`` and ``u``).
+
+    Parameters
+    ----------
+    ox : ndarray (nc,)
+        Row on the coordinates [-].
+    ou : ndarray (nu,)
+        Row on the inputs ([K/K] or [K/W]).
+    oc : float
+        Constant part [°C].
+
+    Returns
+    -------
+    int
+        ``i``, or −1 when the row is anything else.
+    """
+    if oc != 0.0:
+        return -1
+    for j in range(ou.shape[0]):
+        if ou[j] != 0.0:
+            return -1
+    idx = -1
+    for i in range(ox.shape[0]):
+        if ox[i] == 1.0 and idx < 0:
+            idx = i
+        elif ox[i] != 0.0:
+            return -1
+    return idx
+
+
 def control_powers(T0, M, hsp, csp, qh, qc, P):
     """Thermostat powers ``P`` [W] (in place) by projected Gauss–Seidel.
 
@@ -539,6 +576,7 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
         Tend = np.zeros(nr)
         PQ = np.zeros(m + nfl)
         sv = -1              # state whose views below are current
+        odir = np.full(nobs, -1, dtype=np.int64)   # observed points read directly
         BTs = BT[v, 0]
         Oxs = Ox[v, 0]
         Ous = Ou[v, 0]
@@ -595,6 +633,8 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
                 bc = bconst[v, s]
                 Ms = M[v, s]
                 dn = dense[v, s]
+                for o in range(nobs):
+                    odir[o] = direct_node(Oxs[o], Ous[o], ocs[o])
                 if not keep:
                     zsv = zs_sum[v, s]
                     usv = us_sum[v, s]
@@ -669,13 +709,16 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
             elif m > 0:
                 for r in range(m):
                     o = th_obs[r]
-                    acc = ocs[o]
-                    ro = Oxs[o]
-                    for i in range(nc):
-                        acc += ro[i] * z1[i]
-                    for q in range(nvar[v]):
-                        acc += Ous[o, vj[v, q]] * u[vj[v, q]]
-                    T0[r] = acc
+                    if odir[o] >= 0:
+                        T0[r] = z1[odir[o]]
+                    else:
+                        acc = ocs[o]
+                        ro = Oxs[o]
+                        for i in range(nc):
+                            acc += ro[i] * z1[i]
+                        for q in range(nvar[v]):
+                            acc += Ous[o, vj[v, q]] * u[vj[v, q]]
+                        T0[r] = acc
                     hs[r] = _column_nb(bank, k, hcol[v, r], hconst[v, r])
                     cs[r] = _column_nb(bank, k, ccol[v, r], cconst[v, r])
                 if m == 1:   # one thermostat: exact in one step, no iteration
@@ -690,6 +733,9 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
                         z1[i] += row[i] * pr
             # observed temperatures at the end of the step (for conditions and comfort)
             for o in range(nobs if (nsw > 0 or c_obs >= 0 or nfl > 0) else 0):
+                if odir[o] >= 0:
+                    obs[o] = z1[odir[o]]
+                    continue
                 acc = ocs[o]
                 ro = Oxs[o]
                 for i in range(nc):
@@ -751,8 +797,7 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
                         tmax = max(tmax, t)
                         tmin = min(tmin, t)
                         tsum += t
-            for i in range(nc):
-                z[i] = z1[i]
+            z, z1 = z1, z        # the end of this step starts the next (no copy)
             for q in range(nvar[v]):
                 up[vj[v, q]] = u[vj[v, q]]
             sp = s

@@ -682,6 +682,10 @@ class GroupRun:
         The kernel that stepped the group: ``"numba"`` or ``"numpy"``.
     Q : ndarray (V, n, nfl) or None
         Window links' law heat flows into the room [W] (with ``keep``).
+    wide : ndarray (V, n, nc + extra) or None
+        With ``extra`` (see :func:`step_group`): the rows the kernel wrote the traces into,
+        ``X`` being a view of their first nc columns and the ``extra`` columns after them
+        left for the caller to fill (unset); None otherwise.
     """
 
     X: np.ndarray | None
@@ -696,6 +700,7 @@ class GroupRun:
     errors: list
     kernel: str = "numba"
     Q: np.ndarray | None = None
+    wide: np.ndarray | None = None
 
 
 _READY: list = []         # True once the compiled kernel is built (it then stays built)
@@ -839,8 +844,19 @@ def _step_lanes(st, ops: Operators, bank: Bank, vals, sel, z0, x0, warm, c_obs, 
         np.where(lane_v >= 0, sel[np.maximum(lane_v, 0)], -1).astype(np.int64), js, int(nin))
 
 
+def _trace_arrays(V: int, nrep: int, nc: int, m: int, nfl: int, extra: int, full: bool):
+    """Trace arrays of the kernel: ``Ztr`` (V, nrep, nc + extra), ``Str``, ``Ptr``, ``Qtr``.
+
+    Every reported row is written by the kernel for the variants it steps, so the arrays
+    are left unset when it steps them all (``full``), zeros otherwise.
+    """
+    make = np.empty if full else np.zeros
+    return (make((V, nrep, nc + extra)), make((V, nrep), dtype=np.int64), make((V, nrep, m)),
+            make((V, nrep, nfl)))
+
+
 def _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep, comfort, thr_h, thr_d,
-                errors, ramp, u_before):
+                errors, ramp, u_before, extra=0):
     V, nc, m, ns = len(vals), st.nc, st.m, vals[0].n_states
     nodes, terms, c_obs = observed_nodes(st, comfort)
     fl = flow_links(st, vals, bank, nodes, ramp)
@@ -852,11 +868,9 @@ def _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep, comfort, thr_h,
     obs0 = observed_start(st, disc, x0, u0, nodes)
     z0 = np.einsum("vij,vj->vi", ops.Pz[np.arange(V), s0], x0)
     n = bank.data.shape[0]
-    nrep = n - warm
-    Ztr = np.zeros((V, nrep if keep else 0, nc))
-    Str = np.zeros((V, nrep if keep else 0), dtype=np.int64)
-    Ptr = np.zeros((V, nrep if keep else 0, m))
-    Qtr = np.zeros((V, nrep if keep else 0, st.nfl))
+    nrep = n - warm if keep else 0
+    extra = extra if in_nodes else 0
+    Ztr, Str, Ptr, Qtr = _trace_arrays(V, nrep, nc, m, st.nfl, extra, bool(ok.all()))
     sums = {"heat": np.zeros((V, m)), "cool": np.zeros((V, m)), "peak_h": np.zeros(V),
             "peak_c": np.zeros(V), "hrs": np.zeros((V, len(thr_h))),
             "dgh": np.zeros((V, len(thr_d))), "tstat": np.zeros((V, 3)),
@@ -906,10 +920,10 @@ def _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep, comfort, thr_h,
                 f[sel] = part
     X = None
     if keep:
-        X = Ztr if in_nodes else np.empty_like(Ztr)
+        X = Ztr[:, :, :nc] if in_nodes else np.empty_like(Ztr)
         for v in sel if not in_nodes else ():
             X[v] = _modal_to_nodes(Ztr[v], Str[v], ops.Qx[v])
-    return X, Str, Ptr, Qtr, x_first, x_last, sums, ops
+    return X, Str, Ptr, Qtr, x_first, x_last, sums, ops, (Ztr if extra else None)
 
 
 def _reference_flow(st, val, bank: Bank, v: int, ramp: np.ndarray) -> dict | None:
@@ -978,7 +992,8 @@ def _step_numpy(st, vals, disc, F, bank, x0, s0, u0, warm, errors, ramp, u_befor
 
 
 def step_group(st, vals: list, store, warm: int, *, keep: bool, kernel: str = "auto",
-               comfort: int | None = None, thr_h=(), thr_d=(), u_before=None) -> GroupRun:
+               comfort: int | None = None, thr_h=(), thr_d=(), u_before=None,
+               extra: int = 0) -> GroupRun:
     """Discretise, start and step the variants ``vals`` of structure ``st``.
 
     Parameters
@@ -1004,6 +1019,10 @@ def step_group(st, vals: list, store, warm: int, *, keep: bool, kernel: str = "a
     u_before : ndarray (V, nu), optional
         Inputs before the first row (first-order-hold inputs start from them); default the
         first row's (an input constant before the run).
+    extra : int, default 0
+        Columns to leave free after the capacitive temperatures in each row of the traces
+        (``keep``, compiled kernel in node coordinates), for a caller that builds a table
+        around them without copying them (:attr:`GroupRun.wide`).
 
     Returns
     -------
@@ -1038,9 +1057,9 @@ def step_group(st, vals: list, store, warm: int, *, keep: bool, kernel: str = "a
         X, S, P, Q, xf, xl = _step_numpy(st, vals, disc, F, bank, x0, s0, u0, warm, errors,
                                          ramp, u_before)
         return GroupRun(X, S, P, xf, xl, {}, disc, None, F, errors, kernel="numpy", Q=Q)
-    X, S, P, Q, xf, xl, sums, ops = _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm,
-                                                keep, comfort, thr_h, thr_d, errors, ramp,
-                                                u_before)
+    X, S, P, Q, xf, xl, sums, ops, wide = _step_numba(st, vals, disc, F, bank, x0, s0, u0,
+                                                      warm, keep, comfort, thr_h, thr_d,
+                                                      errors, ramp, u_before, extra)
     if keep:
         sums = {}
-    return GroupRun(X, S, P, xf, xl, sums, disc, ops, F, errors, Q=Q)
+    return GroupRun(X, S, P, xf, xl, sums, disc, ops, F, errors, Q=Q, wide=wide)

@@ -77,6 +77,12 @@ class Trajectory(abc.ABC):
         start = np.vstack([self.x_first[np.asarray(cap, dtype=np.int64)][None, :], end[:-1]])
         return end - start
 
+    def end_points(self) -> np.ndarray | None:
+        """End-of-step temperatures [°C] of every free node then every boundary (n, nf + nb)
+        as one block, when the trajectory holds them so; None otherwise (the caller then
+        assembles them from :meth:`end` and ``U_end``)."""
+        return None
+
     @abc.abstractmethod
     def end(self, idx) -> np.ndarray:
         """End-of-step temperatures [°C] (n, k) of free nodes ``idx``.
@@ -116,8 +122,9 @@ def step_means(U_end, U_prev, ramp):
     ----------
     U_end : ndarray (n, nu)
         Inputs at the end of each step ([°C] for boundaries, [W] for powers).
-    U_prev : ndarray (n, nu)
-        Inputs at the start of each step.
+    U_prev : ndarray (n, nu) or None
+        Inputs at the start of each step (read only for the columns in ``ramp``; None when
+        none ramps).
     ramp : ndarray (nu,) of bool
         Inputs that vary linearly over each step (first-order hold).
 
@@ -142,8 +149,9 @@ class ExactTrajectory(Trajectory):
         See :class:`Trajectory`.
     U_end : ndarray (n, nu)
         Inputs at the end of each step (sources and thermostats: their step means).
-    U_prev : ndarray (n, nu)
-        Inputs at the start of each step (used for the columns in ``ramp``).
+    U_prev : ndarray (n, nu) or None
+        Inputs at the start of each step (used for the columns in ``ramp``; None when no
+        input ramps).
     ramp : ndarray (nu,) of bool
         Inputs that vary linearly over each step (first-order hold).
     G : ndarray (ns, nl)
@@ -158,10 +166,15 @@ class ExactTrajectory(Trajectory):
     dense : dict
         State id → (Φ, Γ, Φ̄, Γ̄, Γ₃) for states stepped densely.
     info : dict
+    wide : ndarray (n, nc + nb), optional
+        For a network whose free nodes are all capacitive: the block whose first nc
+        columns are ``X`` (a view of them) and whose last nb columns are free for the
+        boundary temperatures; :meth:`end_points` fills them from ``U_end`` and hands the
+        block out as the end-of-step table.
     """
 
     def __init__(self, X, x_first, S, U_end, U_prev, ramp, G, Yx, Yu, lam, Q, W, C, h, dense,
-                 info):
+                 info, wide=None):
         self.X, self.x_first, self.S, self.G = X, x_first, S, G
         self.U_end, self.U_prev, self.ramp = U_end, U_prev, np.asarray(ramp, bool)
         self.U = step_means(U_end, U_prev, self.ramp)
@@ -172,6 +185,21 @@ class ExactTrajectory(Trajectory):
         self.nc = X.shape[1]
         self.nf = self.nc + Yx.shape[1]
         self._xbar = None
+        self._wide = wide
+        self._wide_filled = False
+
+    def end_points(self):
+        """End-of-step temperatures [°C] of every free node then every boundary (n, nf + nb)
+        as one block (see :meth:`Trajectory.end_points`): the kernel's rows, their boundary
+        columns filled from ``U_end`` once; None when the run kept no such block."""
+        w = self._wide
+        if w is None or self.keep_mask is not None:
+            return None
+        if not self._wide_filled:
+            for j in range(w.shape[1] - self.nc):      # column by column: strided copies
+                w[:, self.nc + j] = self.U_end[:, j]
+            self._wide_filled = True
+        return w
 
     def kept(self, idx):
         """Which free nodes ``idx`` the tables show (see :meth:`Trajectory.kept`).
