@@ -142,7 +142,12 @@ class Results:
 
     def _columns(self):
         c = self._c
-        names = [c.free[i] for i in self._free_kept] + list(c.boundaries)
+        if len(self._free_kept) == c.nf:
+            names = list(c.free) + list(c.boundaries)
+            if names == self._order:           # compile order is the network's: no reorder
+                return names, names
+        else:
+            names = [c.free[i] for i in self._free_kept] + list(c.boundaries)
         keep = set(names)
         return names, [n for n in self._order if n in keep]
 

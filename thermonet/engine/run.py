@@ -212,11 +212,10 @@ def start_states(st, vals: list, disc: Discretised, bank: Bank, ok: np.ndarray):
         factors); thermostat columns zero.
     """
     V, nc, nsw = len(vals), st.nc, st.nsw
-    sw = np.array([p.sw_init for p in vals], dtype=bool).reshape(V, nsw)
-    bits0 = (sw * (1 << np.arange(nsw))[None, :]).sum(axis=1).astype(np.int64)
-    sched0 = np.where(bank.schcol >= 0, bank.data[0, np.maximum(bank.schcol, 0)],
-                      bank.schconst)
-    s0 = sched0.astype(np.int64) * (1 << nsw) + bits0
+    s0 = bank.first(bank.schcol, bank.schconst).astype(np.int64) * (1 << nsw)
+    if nsw:
+        sw = np.array([p.sw_init for p in vals], dtype=bool).reshape(V, nsw)
+        s0 += (sw * (1 << np.arange(nsw))[None, :]).sum(axis=1).astype(np.int64)
     u0 = np.zeros((V, st.nu))
     u0[:, :st.nb + st.nsrc] = bank.first(bank.ucol, bank.uconst)
     hsp0 = bank.first(bank.hcol, bank.hconst)
@@ -878,7 +877,8 @@ def _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep, comfort, thr_h,
             "up_sum": np.zeros((V, ns, st.nu)), "cnt": np.zeros((V, ns))}
     x_first = np.zeros((V, nc))
     x_last = np.zeros((V, nc))
-    tv = np.broadcast_to(terms, (V,) + terms.shape).copy()
+    tv = np.empty((V,) + terms.shape)
+    tv[:] = terms
     for v, p in enumerate(vals):
         tv[v, :, 5] = p.thresholds
     sel = np.flatnonzero(ok)

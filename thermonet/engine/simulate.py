@@ -85,7 +85,7 @@ def effective_inputs(comp: Compiled, F: np.ndarray, S: np.ndarray, P: np.ndarray
     """
     n = len(comp.index)
     nin = comp.nb + comp.nsrc
-    f = F[S[0]] if len(S) and (S == S[0]).all() else F[S]
+    f = F[0] if F.shape[0] == 1 else (F[S[0]] if len(S) and (S == S[0]).all() else F[S])
     U_end = np.empty((n, comp.nu))
     for j, spec in enumerate(comp.val.ucols):
         value = comp.store.value(spec)
@@ -485,8 +485,8 @@ def simulate(net, weather, *, step=None, method: str = "auto", warmup_days: floa
     """
     _check_options(method, kernel, sparse_tol, warmup_days)
     t0 = time.perf_counter()
-    check_simulation_inputs(net, weather, warmup_days)     # impossible → error, odd → warning
-    comp = compile_network(net, weather, step=step, interpolate=interpolate)
+    read = check_simulation_inputs(net, weather, warmup_days)  # impossible → error, odd → warn
+    comp = compile_network(net, weather, step=step, interpolate=interpolate, read=read)
     n = len(comp.index)
     w = min(int(round(warmup_days * 86400.0 / comp.step_s)), n)
     if method == "auto":
