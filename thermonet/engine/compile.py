@@ -733,6 +733,8 @@ class Values:
 def _switch_factors(net, st: Structure):
     """Per switch: link and source factors while on and while off."""
     nsw, nl, nsrc = st.nsw, st.nl, st.nsrc
+    if not nsw:
+        return np.ones((2, 0, nl)), np.ones((2, 0, nsrc))
     link_pos = {n: i for i, n in enumerate(st.link_names)}
     src_pos = {n: i for i, n in enumerate(st.source_names)}
     lf = np.ones((2, nsw, nl))        # [0] off, [1] on
@@ -786,6 +788,8 @@ def _flow_values(net, st: Structure, store: ColumnStore):
     :data:`FLOW_REFERENCE_DT` and the median wind speed of the run; it goes into the exact
     step, and the kernel carries the law's departure from it (see :func:`window_sources`).
     """
+    if not st.nfl:
+        return np.zeros((0, 9)), [], np.zeros(0, dtype=bool)
     from thermonet.airflow import law_flow
 
     links = list(net.links.values())
@@ -839,8 +843,9 @@ def _input_specs(net, st: Structure, store: ColumnStore):
               store.spec(t.heating_setpoint, f"thermostat {t.name!r} heating_setpoint"))
         cs = (float("nan") if t.cooling_setpoint is None else
               store.spec(t.cooling_setpoint, f"thermostat {t.name!r} cooling_setpoint"))
-        if t.heating_setpoint is not None and t.cooling_setpoint is not None and np.any(
-                np.asarray(store.value(hs)) > np.asarray(store.value(cs))):
+        if t.heating_setpoint is not None and t.cooling_setpoint is not None and (
+                hs > cs if isinstance(hs, float) and isinstance(cs, float)
+                else np.any(np.asarray(store.value(hs)) > np.asarray(store.value(cs)))):
             raise NetworkError("a thermostat's heating setpoint exceeds its cooling setpoint; "
                                "keep heating ≤ cooling at every step")
         hcols.append(hs)

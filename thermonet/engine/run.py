@@ -554,8 +554,14 @@ def operators(st, disc: Discretised, F: np.ndarray, bank: Bank, nodes: list,
         rr = r[:, None, :, None]
         BT = np.where(rr, WT * e2[:, :, None, :], WT * e1[:, :, None, :])
         BTp = np.where(rr, WT * (e1 - e2)[:, :, None, :], 0.0)
-    Qx = disc.Q.copy()
-    Pz = np.swapaxes(disc.Q, -1, -2) * disc.C[:, None, None, :]
+    eye = np.eye(nc)
+    if dense.all():   # node coordinates everywhere: the maps are identities (laid out as below)
+        Qx = np.empty(disc.Q.shape)
+        Qx[...] = eye
+        Pz = np.swapaxes(Qx.copy(), -1, -2)
+    else:
+        Qx = disc.Q.copy()
+        Pz = np.swapaxes(disc.Q, -1, -2) * disc.C[:, None, None, :]
     Ad = np.zeros((V, ns, nc, nc) if dense.any() else (V, ns, 0, 0))
     for v, s in zip(*np.nonzero(dense), strict=True):
         Phi, Gam, _, Gambar, _ = disc.matrices(v, s)
@@ -563,8 +569,8 @@ def operators(st, disc: Discretised, F: np.ndarray, bank: Bank, nodes: list,
         cur = np.where(r[v][None, :], Gambar, Gam)
         BT[v, s] = (cur * F[v, s][None, :]).T
         BTp[v, s] = (np.where(r[v][None, :], Gam - Gambar, 0.0) * F[v, s][None, :]).T
-        Qx[v, s] = np.eye(nc)
-        Pz[v, s] = np.eye(nc)
+        Qx[v, s] = eye
+        Pz[v, s] = eye
     Ox, Ou = _node_rows(st, disc, F, Qx, nodes)
     pcols = nin + np.arange(m)
     M = (Ox[:, :, :m, :] @ np.swapaxes(BT[:, :, pcols, :], -1, -2) + Ou[:, :, :m][..., pcols])

@@ -31,6 +31,7 @@ References
 from __future__ import annotations
 
 import dataclasses
+import functools
 import time
 import warnings
 
@@ -105,8 +106,7 @@ def effective_inputs(comp: Compiled, F: np.ndarray, S: np.ndarray, P: np.ndarray
     return U_end, U_prev
 
 
-def trajectory_of(comp: Compiled, run: GroupRun, U_end: np.ndarray, U_prev: np.ndarray,
-                  info: dict) -> ExactTrajectory:
+def trajectory_of(comp: Compiled, run: GroupRun, inputs, info: dict) -> ExactTrajectory:
     """The :class:`ExactTrajectory` of variant 0 of a :class:`GroupRun`.
 
     Parameters
@@ -115,10 +115,10 @@ def trajectory_of(comp: Compiled, run: GroupRun, U_end: np.ndarray, U_prev: np.n
         The compiled network that was run.
     run : GroupRun
         What stepping it gave (traces kept).
-    U_end : ndarray (n, nu)
-        Effective inputs at the end of each step ([°C], [W]), from :func:`effective_inputs`.
-    U_prev : ndarray (n, nu) or None
-        Raw inputs at the start of each step (None when no input ramps).
+    inputs : tuple or callable
+        ``(U_end, U_prev)`` from :func:`effective_inputs` (effective inputs at the end and
+        raw inputs at the start of each step, [°C] and [W]), or a callable without
+        arguments returning them when first needed.
     info : dict
         Counters for :meth:`thermonet.Results.diagnostics`; ``doubling_states`` is added.
 
@@ -132,9 +132,11 @@ def trajectory_of(comp: Compiled, run: GroupRun, U_end: np.ndarray, U_prev: np.n
     ramp = np.zeros(comp.nu, dtype=bool)
     ramp[:comp.nb + comp.nsrc] = comp.val.ramp
     wide = run.wide[0] if run.wide is not None and comp.nf == comp.nc else None
-    return ExactTrajectory(run.X[0], run.x_first[0], run.S[0], U_end, U_prev, ramp,
+    # boundaries are never scaled by switches: their end values are the raw ones
+    boundaries = [comp.store.value(spec) for spec in comp.val.ucols[:comp.nb]]
+    return ExactTrajectory(run.X[0], run.x_first[0], run.S[0], inputs, ramp,
                            comp.G_states, d.Yx[0], d.Yu[0], d.lam[0], d.Q[0], d.W[0], d.C[0],
-                           d.h, dense, info, wide=wide)
+                           d.h, dense, info, wide=wide, boundaries=boundaries)
 
 
 def switch_state_after(comp: Compiled, state_id: int) -> np.ndarray:
@@ -191,10 +193,9 @@ class ExactMethod:
                          u_before=ub, extra=extra)
         if run.errors[0] is not None:
             raise run.errors[0]
-        U_end, U_prev = effective_inputs(comp, run.F[0], run.S[0], run.P[0], warm, u_before,
-                                         None if run.Q is None else run.Q[0])
-        return trajectory_of(comp, run, U_end, U_prev, {"kernel": kernel,
-                                                        "kernel_used": run.kernel})
+        inputs = functools.partial(effective_inputs, comp, run.F[0], run.S[0], run.P[0],
+                                   warm, u_before, None if run.Q is None else run.Q[0])
+        return trajectory_of(comp, run, inputs, {"kernel": kernel, "kernel_used": run.kernel})
 
 
 class SparseMethod:
