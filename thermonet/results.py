@@ -76,7 +76,8 @@ class Results:
     def _free_kept(self) -> np.ndarray:
         """Free nodes whose temperatures the run kept (all unless ``outputs=`` chose)."""
         idx = np.arange(self._c.nf)
-        return idx[self._t.kept(idx)]
+        kept = self._t.kept(idx)
+        return idx if kept.all() else idx[kept]
 
     @cached_property
     def _tmean(self):

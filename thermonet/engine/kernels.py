@@ -509,9 +509,10 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
         Far boundary temperature [°C] and wind speed [m/s]: column, constant, ramp flag.
     keep : bool
         Write traces (else sums).
-    Ztr : ndarray (V, n − warm, nc)
+    Ztr : ndarray (V, n − warm, ≥ nc)
         Output: end-of-step coordinates (node temperatures [°C] for states stepped in node
-        coordinates), with ``keep``.
+        coordinates), with ``keep``, in the first nc columns (any further columns are left
+        as they are: a caller may fill them).
     Str : ndarray (V, n − warm) of int
         Output: state id of each reported step, with ``keep``.
     Ptr : ndarray (V, n − warm, m)

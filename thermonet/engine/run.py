@@ -607,6 +607,8 @@ def thermostat_errors(st, ops: Operators, errors: list) -> None:
     if not st.m:
         return
     d = np.diagonal(ops.M, axis1=-2, axis2=-1)          # (V, ns, m)
+    if (d > 0).all():                                   # every node responds: the usual case
+        return
     for v in np.flatnonzero(~(d.min(axis=(1, 2)) > 0)):
         if errors[v] is None:
             bad = st.thermostat_names[int(np.argmin(d[v].min(axis=0)))]

@@ -32,6 +32,7 @@ from __future__ import annotations
 
 import dataclasses
 import functools
+import math
 import time
 import warnings
 
@@ -42,6 +43,7 @@ from thermonet.checks import check_simulation_inputs
 from thermonet.engine.compile import Compiled, compile_network
 from thermonet.engine.run import KERNELS, GroupRun, step_group
 from thermonet.engine.trajectory import ExactTrajectory, JoinedTrajectory, Trajectory
+from thermonet.errors import MemoryBudgetWarning
 from thermonet.results import Results
 
 #: Capacitive nodes up to which ``method="auto"`` takes the exact method.
@@ -298,8 +300,6 @@ def check_memory(comp: Compiled, warm: int, method: str, keep, budget: float) ->
     float
         Estimated bytes of the hourly arrays the run keeps.
     """
-    from thermonet.errors import MemoryBudgetWarning
-
     n = len(comp.index) + warm
     k = comp.nf if keep is None else len(keep)
     per_step = (2 * k + 3 * comp.nu) if method == "sparse" else (3 * comp.nc + 3 * comp.nu)
@@ -319,7 +319,7 @@ def _check_options(method, kernel: str, sparse_tol, warmup_days) -> None:
         raise ValueError(f"method must be one of {('auto',) + tuple(METHODS)}, got {method!r}")
     if kernel not in KERNELS:
         raise ValueError(f"kernel must be one of {KERNELS}, got {kernel!r}")
-    if not (isinstance(warmup_days, (int, float)) and np.isfinite(warmup_days)
+    if not (isinstance(warmup_days, (int, float)) and math.isfinite(warmup_days)
             and warmup_days >= 0):
         raise ValueError(f"warmup_days must be a finite number ≥ 0 [days], got {warmup_days!r}")
     if sparse_tol is not None and not (isinstance(sparse_tol, (int, float))
