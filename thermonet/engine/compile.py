@@ -183,7 +183,7 @@ class ColumnStore:
                 raise TypeError("interpolate= takes a collection of column names, e.g. "
                                 "['temp_air'], or () to hold every input over its step")
             inst = frozenset(interpolate)
-            missing = sorted(map(str, inst - set(weather.columns)))
+            missing = sorted(map(str, inst - set(weather.columns))) if inst else []
             if missing:
                 raise WeatherError(f"interpolate= names column(s) {missing} that the weather "
                                    f"does not have; columns: "

@@ -707,6 +707,17 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
                         for i in range(nc):
                             z1[i] -= row[i] * qf
             # thermostats
+            elif m == 1 and odir[th_obs[0]] >= 0:
+                # one thermostat whose node is a coordinate: the same power, kept in registers
+                pr = clamped_power(z1[odir[th_obs[0]]],
+                                   _column_nb(bank, k, hcol[v, 0], hconst[v, 0]),
+                                   _column_nb(bank, k, ccol[v, 0], cconst[v, 0]), Ms[0, 0],
+                                   qh[v, 0], qc[v, 0])
+                P[0] = pr
+                u[nin] = pr
+                row = BTs[nin]
+                for i in range(nc):
+                    z1[i] += row[i] * pr
             elif m > 0:
                 for r in range(m):
                     o = th_obs[r]
