@@ -643,7 +643,18 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
                 sv = s
             for j in range(nvar[v]):
                 u[vj[v, j]] = bank[k, vcol[v, j]]
-            if dn:
+            nq0 = 0          # varying inputs already added in the pass below
+            if dn and nvar[v] == 1 and not rampv[v, 0]:
+                # one varying input held over the step (the outdoor air, say): added in the
+                # same pass, the same terms in the same order, the sum kept in a register
+                nq0 = 1
+                r0, u0j = BTs[vj[v, 0]], u[vj[v, 0]]
+                for i in range(nc):
+                    acc = bc[i]
+                    for j in range(nc):
+                        acc += Ads[i, j] * z[j]
+                    z1[i] = acc + r0[i] * u0j
+            elif dn:
                 for i in range(nc):
                     acc = bc[i]
                     for j in range(nc):
@@ -652,7 +663,7 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
             else:
                 for i in range(nc):
                     z1[i] = a_s[i] * z[i] + bc[i]
-            for q in range(nvar[v]):
+            for q in range(nq0, nvar[v]):
                 j = vj[v, q]
                 uj = u[j]
                 row = BTs[j]
