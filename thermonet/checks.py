@@ -250,7 +250,8 @@ def check_irradiance(x: pd.Series, what: str, *, stacklevel: int = 2) -> None:
             "explicitly if you accept that"), stacklevel=stacklevel)
 
 
-def check_weather_frame(weather: pd.DataFrame, columns=None, *, stacklevel: int = 2) -> None:
+def check_weather_frame(weather: pd.DataFrame, columns=None, *,
+                        stacklevel: int = 2) -> dict[str, pd.Series]:
     """Unit and range checks of a weather frame's temperature and irradiance columns.
 
     Parameters
@@ -261,37 +262,50 @@ def check_weather_frame(weather: pd.DataFrame, columns=None, *, stacklevel: int 
     stacklevel : int
         Passed to :func:`warnings.warn`.
 
+    Returns
+    -------
+    dict of str to pandas.Series
+        The columns read and checked, by name (a caller may use them instead of reading
+        them again).
+
     Raises
     ------
     NetworkError, WeatherError
         See :func:`check_temperature` and :func:`check_irradiance`.
     """
-    temps = [c for c in weather.columns if isinstance(c, str) and TEMPERATURE_COLUMN.fullmatch(c)]
+    names = list(weather.columns)                 # once: a string index iterates slowly
+    present = set(names)
+    temps = [c for c in names if isinstance(c, str) and TEMPERATURE_COLUMN.fullmatch(c)]
     for c in columns or ():
-        if c in weather.columns and c not in temps:
+        if c in present and c not in temps:
             temps.append(c)
+    read = {}
     for c in temps:
-        check_temperature(weather[c], f"weather column {c!r}", error=WeatherError,
+        read[c] = weather[c]
+        check_temperature(read[c], f"weather column {c!r}", error=WeatherError,
                           stacklevel=stacklevel + 1)
     for c in IRRADIANCE_COLUMNS:
-        if c in weather.columns:
-            check_irradiance(weather[c], f"weather column {c!r}", stacklevel=stacklevel + 1)
+        if c in present:
+            read[c] = weather[c]
+            check_irradiance(read[c], f"weather column {c!r}", stacklevel=stacklevel + 1)
+    return read
 
 
 def _series_fields(net):
-    """(description, value, minimum) of every value a network element holds."""
+    """(description, value, minimum) of every value a network element holds; the
+    description is a format string and its argument, formatted only for a message."""
     for b in net.boundaries.values():
         if not isinstance(b.temperature, str):
-            yield f"boundary {b.name!r} temperature [°C]", b.temperature, -ZERO_CELSIUS
+            yield ("boundary {!r} temperature [°C]", b.name), b.temperature, -ZERO_CELSIUS
     for lk in net.links.values():
-        yield f"link {lk.name!r} conductance [W/K]", lk.conductance, 0.0
+        yield ("link {!r} conductance [W/K]", lk.name), lk.conductance, 0.0
     for s in net.sources.values():
-        yield f"source {s.name!r} power [W]", s.power, None
+        yield ("source {!r} power [W]", s.name), s.power, None
     for t in net.thermostats.values():
         for key in ("heating_setpoint", "cooling_setpoint"):
             v = getattr(t, key)
             if v is not None:
-                yield f"thermostat {t.name!r} {key} [°C]", v, -ZERO_CELSIUS
+                yield ("thermostat {!r} " + key + " [°C]", t.name), v, -ZERO_CELSIUS
 
 
 def check_network_values(net) -> None:
@@ -313,9 +327,13 @@ def check_network_values(net) -> None:
         A NaN/inf value or a value below the element's minimum, naming the element.
     """
     refuse_parameters(net)
-    for what, value, minimum in _series_fields(net):
-        if _all_within(value, -math.inf if minimum is None else minimum, math.inf):
+    for (fmt, name), value, minimum in _series_fields(net):
+        low = -math.inf if minimum is None else minimum
+        if QUICK_PASS and type(value) is float and math.isfinite(value) and value >= low:
+            continue                   # a plain number: the quick pass, without a call
+        if _all_within(value, low, math.inf):
             continue
+        what = fmt.format(name)
         v = _values(value)
         bad = ~np.isfinite(v)
         if bad.any():
@@ -393,6 +411,10 @@ def check_time_constants(net, *, stacklevel: int = 2) -> None:
 DEFAULT_WARMUP_DAYS = 14.0
 
 
+#: Ticks per second of each unit a DatetimeIndex may hold its integer labels in.
+UNITS_PER_SECOND = {"s": 1, "ms": 1_000, "us": 1_000_000, "ns": 1_000_000_000}
+
+
 def check_warmup(weather: pd.DataFrame, warmup_days: float, *, stacklevel: int = 2) -> None:
     """Warn when a warm-up asked for is longer than the weather (it is then cut).
 
@@ -418,7 +440,7 @@ def check_warmup(weather: pd.DataFrame, warmup_days: float, *, stacklevel: int =
         return
     if isinstance(index, pd.DatetimeIndex):    # integer labels: no Timestamps boxed
         i8 = index.asi8
-        step = pd.Timedelta(int(i8[1] - i8[0]), unit=index.unit).total_seconds()
+        step = int(i8[1] - i8[0]) / UNITS_PER_SECOND[index.unit]
     else:
         step = (index[1] - index[0]).total_seconds()
     length_days = n * step / 86400.0
@@ -430,7 +452,8 @@ def check_warmup(weather: pd.DataFrame, warmup_days: float, *, stacklevel: int =
             stacklevel=stacklevel)
 
 
-def check_simulation_inputs(net, weather: pd.DataFrame, warmup_days: float = 14.0) -> None:
+def check_simulation_inputs(net, weather: pd.DataFrame,
+                            warmup_days: float = 14.0) -> dict[str, pd.Series]:
     """Every plausibility check of a simulation's inputs, in one call.
 
     Parameters
@@ -440,6 +463,12 @@ def check_simulation_inputs(net, weather: pd.DataFrame, warmup_days: float = 14.
         As given to :func:`thermonet.simulate` (validated or plain).
     warmup_days : float, default 14
         Requested lead-in [days].
+
+    Returns
+    -------
+    dict of str to pandas.Series
+        The weather columns read and checked, by name (see :func:`check_weather_frame`);
+        empty when ``weather`` is not a DataFrame.
 
     Raises
     ------
@@ -462,9 +491,10 @@ def check_simulation_inputs(net, weather: pd.DataFrame, warmup_days: float = 14.
     """
     stack = 4  # warnings point at the caller of simulate()
     check_network_values(net)
+    read: dict = {}
     if isinstance(weather, pd.DataFrame):
         cols = [b.temperature for b in net.boundaries.values() if isinstance(b.temperature, str)]
-        check_weather_frame(weather, cols, stacklevel=stack)
+        read = check_weather_frame(weather, cols, stacklevel=stack)
         if isinstance(weather.index, pd.DatetimeIndex):
             check_warmup(weather, warmup_days, stacklevel=stack)
     for b in net.boundaries.values():
@@ -473,6 +503,7 @@ def check_simulation_inputs(net, weather: pd.DataFrame, warmup_days: float = 14.
                               stacklevel=stack)
     check_setpoints(net, stacklevel=stack)
     check_time_constants(net, stacklevel=stack)
+    return read
 
 
 def check_results(temperatures: pd.DataFrame, *, stacklevel: int = 2) -> None:

@@ -76,7 +76,8 @@ class Results:
     def _free_kept(self) -> np.ndarray:
         """Free nodes whose temperatures the run kept (all unless ``outputs=`` chose)."""
         idx = np.arange(self._c.nf)
-        return idx[self._t.kept(idx)]
+        kept = self._t.kept(idx)
+        return idx if kept.all() else idx[kept]
 
     @cached_property
     def _tmean(self):
@@ -130,8 +131,10 @@ class Results:
     @cached_property
     def temperatures(self) -> pd.DataFrame:
         """Node and boundary temperatures [°C] at the end of each step (the kept nodes)."""
-        return self._frame(self._points(self._t.end(self._free_kept), at_end=True),
-                           *self._columns())
+        block = self._t.end_points() if len(self._free_kept) == self._c.nf else None
+        if block is None:
+            block = self._points(self._t.end(self._free_kept), at_end=True)
+        return self._frame(block, *self._columns())
 
     @cached_property
     def mean_temperatures(self) -> pd.DataFrame:
@@ -140,7 +143,12 @@ class Results:
 
     def _columns(self):
         c = self._c
-        names = [c.free[i] for i in self._free_kept] + list(c.boundaries)
+        if len(self._free_kept) == c.nf:
+            names = list(c.free) + list(c.boundaries)
+            if names == self._order:           # compile order is the network's: no reorder
+                return names, names
+        else:
+            names = [c.free[i] for i in self._free_kept] + list(c.boundaries)
         keep = set(names)
         return names, [n for n in self._order if n in keep]
 

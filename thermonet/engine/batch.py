@@ -37,6 +37,7 @@ References
 
 from __future__ import annotations
 
+import functools
 import hashlib
 import math
 from dataclasses import dataclass
@@ -363,12 +364,12 @@ def _run_chunk(st, vals: list, nets: list, store: ColumnStore, warm: int, opts: 
 def _results_for(st, val, net, store, run: GroupRun, v: int, warm: int) -> Results:
     comp = Compiled(st, val, store, initial={k: x.initial for k, x in net.nodes.items()
                                              if x.initial is not None})
-    U_end, U_prev = effective_inputs(comp, run.F[v], run.S[v], run.P[v], warm,
-                                     Q=None if run.Q is None else run.Q[v])
+    inputs = functools.partial(effective_inputs, comp, run.F[v], run.S[v], run.P[v], warm,
+                               Q=None if run.Q is None else run.Q[v])
     one = GroupRun(run.X[v:v + 1], run.S[v:v + 1], run.P[v:v + 1], run.x_first[v:v + 1],
                    run.x_last[v:v + 1], {}, _variant(run.disc, v), None, run.F[v:v + 1],
                    [None])
-    traj = trajectory_of(comp, one, U_end, U_prev, {"kernel": "batch"})
+    traj = trajectory_of(comp, one, inputs, {"kernel": "batch"})
     info = {"method": "exact", "steps": len(st.index), "warmup_steps": warm,
             "step_s": st.step_s, "states": val.n_states, "kernel": "batch"}
     return Results(net, comp, traj, info)

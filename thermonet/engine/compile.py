@@ -86,7 +86,7 @@ def sim_index(weather_index: pd.DatetimeIndex, step) -> tuple[pd.DatetimeIndex, 
 
 
 def series_or_constant(value, weather: pd.DataFrame, factor: int, what: str,
-                       column_ok: bool = False) -> np.ndarray:
+                       column_ok: bool = False, column: pd.Series | None = None) -> np.ndarray:
     """A value on the simulation index: a weather column (boundaries only), a Series or a number.
 
     Parameters
@@ -101,6 +101,9 @@ def series_or_constant(value, weather: pd.DataFrame, factor: int, what: str,
         Names the input in error messages.
     column_ok : bool, default False
         Whether a weather column name is allowed.
+    column : pandas.Series, optional
+        The weather column ``value`` names, already read from ``weather`` (then not read
+        again).
     """
     n = len(weather.index)
     if isinstance(value, str):
@@ -109,7 +112,7 @@ def series_or_constant(value, weather: pd.DataFrame, factor: int, what: str,
         if value not in weather.columns:
             raise WeatherError(f"{what} uses weather column {value!r}, which is missing; "
                                f"columns: {', '.join(map(str, weather.columns))}")
-        col = weather[value]
+        col = weather[value] if column is None else column
         col = col.to_numpy() if col.dtype == np.float64 else np.asarray(col, dtype=float)
         if not np.isfinite(col).all():
             i = int((~np.isfinite(col)).argmax())
@@ -140,17 +143,22 @@ class ColumnStore:
     instantaneous : collection of str, default empty
         Weather columns that are instantaneous values: on sub-steps they are interpolated
         linearly between labels, and inputs read from them follow a first-order hold.
+    read : dict of str to pandas.Series, optional
+        Weather columns already read from ``weather`` (by the input checks), used instead
+        of reading them again.
     """
 
     def __init__(self, weather: pd.DataFrame, factor: int, index: pd.DatetimeIndex,
-                 step_s: float, instantaneous=frozenset()):
+                 step_s: float, instantaneous=frozenset(), read=None):
         self.weather, self.factor, self.index, self.step_s = weather, factor, index, step_s
         self.instantaneous = frozenset(instantaneous)
+        self.read = {} if read is None else read
         self.cols: dict = {}
         self._refs: dict = {}  # keeps Series alive so that id() keys stay unique
 
     @classmethod
-    def for_weather(cls, weather: pd.DataFrame, step=None, interpolate=None) -> ColumnStore:
+    def for_weather(cls, weather: pd.DataFrame, step=None, interpolate=None,
+                    read=None) -> ColumnStore:
         """A store on the simulation index of ``weather`` at ``step`` (None: the weather's).
 
         Parameters
@@ -160,6 +168,8 @@ class ColumnStore:
         interpolate : collection of str, optional
             Weather columns that are instantaneous values, interpolated linearly between
             labels (first-order hold); None: :func:`thermonet.weather.instantaneous_columns`.
+        read : dict of str to pandas.Series, optional
+            Columns of ``weather`` already read (see :class:`ColumnStore`).
         """
         from thermonet.weather import instantaneous_columns
 
@@ -173,12 +183,12 @@ class ColumnStore:
                 raise TypeError("interpolate= takes a collection of column names, e.g. "
                                 "['temp_air'], or () to hold every input over its step")
             inst = frozenset(interpolate)
-            missing = sorted(map(str, inst - set(weather.columns)))
+            missing = sorted(map(str, inst - set(weather.columns))) if inst else []
             if missing:
                 raise WeatherError(f"interpolate= names column(s) {missing} that the weather "
                                    f"does not have; columns: "
                                    f"{', '.join(map(str, weather.columns))}")
-        return cls(weather, factor, index, step_s, inst)
+        return cls(weather, factor, index, step_s, inst, read)
 
     def __len__(self):
         return len(self.index)
@@ -226,7 +236,8 @@ class ColumnStore:
         """
         key = ("weather", name)
         if key not in self.cols:
-            col = series_or_constant(name, self.weather, 1, what, column_ok=True)
+            col = series_or_constant(name, self.weather, 1, what, column_ok=True,
+                                     column=self.read.get(name))
             if self.factor > 1 and name in self.instantaneous and len(col):
                 tw = np.asarray(self.weather.index.as_unit("ns").asi8, dtype=float)
                 ts = np.asarray(self.index.as_unit("ns").asi8, dtype=float)
@@ -623,11 +634,12 @@ def compile_structure(net, store: ColumnStore) -> Structure:
     refs: dict = {}
     terms, term_clause, clause_cond = _condition_code(net, pos, refs)
     flow, fsrc, fnames, fpaths, fnodes = window_sources(links, pos, len(srcs), len(free))
+    link_a = np.array([pos[l.a] for l in links], dtype=np.int64)
+    link_b = np.array([pos[l.b] for l in links], dtype=np.int64)
     return Structure(
         index=store.index, step_s=store.step_s, free=free, nc=len(cap), boundaries=bnames,
         link_names=[l.name for l in links], link_paths=[l.path for l in links],
-        link_a=np.array([pos[l.a] for l in links], dtype=np.int64),
-        link_b=np.array([pos[l.b] for l in links], dtype=np.int64),
+        link_a=link_a, link_b=link_b,
         sched_links=np.array([i for i, l in enumerate(links)
                               if isinstance(l.conductance, pd.Series)], dtype=np.int64),
         source_names=[s.name for s in srcs] + fnames,
@@ -642,10 +654,7 @@ def compile_structure(net, store: ColumnStore) -> Structure:
         has_off=np.array([s.off is not None for s in net.switches.values()], dtype=bool),
         signal_refs=[(key[0], ref) for key, (_, ref) in sorted(refs.items(),
                                                                 key=lambda kv: kv[1][0])],
-        connected=bool(connected_to_boundary(len(free), np.array([pos[l.a] for l in links],
-                                                                  dtype=np.int64),
-                                             np.array([pos[l.b] for l in links],
-                                                      dtype=np.int64),
+        connected=bool(connected_to_boundary(len(free), link_a, link_b,
                                              np.ones(len(links))).all()),
         flow_links=flow, flow_src=fsrc,
     )
@@ -724,6 +733,8 @@ class Values:
 def _switch_factors(net, st: Structure):
     """Per switch: link and source factors while on and while off."""
     nsw, nl, nsrc = st.nsw, st.nl, st.nsrc
+    if not nsw:
+        return np.ones((2, 0, nl)), np.ones((2, 0, nsrc))
     link_pos = {n: i for i, n in enumerate(st.link_names)}
     src_pos = {n: i for i, n in enumerate(st.source_names)}
     lf = np.ones((2, nsw, nl))        # [0] off, [1] on
@@ -777,6 +788,8 @@ def _flow_values(net, st: Structure, store: ColumnStore):
     :data:`FLOW_REFERENCE_DT` and the median wind speed of the run; it goes into the exact
     step, and the kernel carries the law's departure from it (see :func:`window_sources`).
     """
+    if not st.nfl:
+        return np.zeros((0, 9)), [], np.zeros(0, dtype=bool)
     from thermonet.airflow import law_flow
 
     links = list(net.links.values())
@@ -830,8 +843,9 @@ def _input_specs(net, st: Structure, store: ColumnStore):
               store.spec(t.heating_setpoint, f"thermostat {t.name!r} heating_setpoint"))
         cs = (float("nan") if t.cooling_setpoint is None else
               store.spec(t.cooling_setpoint, f"thermostat {t.name!r} cooling_setpoint"))
-        if t.heating_setpoint is not None and t.cooling_setpoint is not None and np.any(
-                np.asarray(store.value(hs)) > np.asarray(store.value(cs))):
+        if t.heating_setpoint is not None and t.cooling_setpoint is not None and (
+                hs > cs if isinstance(hs, float) and isinstance(cs, float)
+                else np.any(np.asarray(store.value(hs)) > np.asarray(store.value(cs)))):
             raise NetworkError("a thermostat's heating setpoint exceeds its cooling setpoint; "
                                "keep heating ≤ cooling at every step")
         hcols.append(hs)
@@ -900,7 +914,8 @@ def compile_values(net, st: Structure, store: ColumnStore) -> Values:
         C=C, G=G, n_sched=n_sched, sched=sched,
         qh=np.array([t.max_heating_w for t in th], dtype=float),
         qc=np.array([t.max_cooling_w for t in th], dtype=float),
-        source_factor=np.tile(_state_products(sf, nsw), (n_sched, 1)),
+        source_factor=(_state_products(sf, nsw) if n_sched == 1
+                       else np.tile(_state_products(sf, nsw), (n_sched, 1))),
         sw_init=np.array([s.initial for s in net.switches.values()], dtype=bool),
         thresholds=np.array([t.threshold for t in condition_terms(net)], dtype=float),
         initial=[(i, float(nodes[n].initial)) for i, n in enumerate(st.free[:st.nc])
@@ -1012,7 +1027,8 @@ def _stack(store, specs, n):
     return out
 
 
-def compile_network(net, weather: pd.DataFrame, *, step=None, interpolate=None) -> Compiled:
+def compile_network(net, weather: pd.DataFrame, *, step=None, interpolate=None,
+                    read=None) -> Compiled:
     """Compile ``net`` against the weather (or any frame with a tz-aware regular index).
 
     Parameters
@@ -1024,12 +1040,14 @@ def compile_network(net, weather: pd.DataFrame, *, step=None, interpolate=None) 
         Simulation step (default: the weather's).
     interpolate : collection of str, optional
         Instantaneous weather columns (see :meth:`ColumnStore.for_weather`).
+    read : dict of str to pandas.Series, optional
+        Columns of ``weather`` already read (by the input checks), not read again.
 
     Returns
     -------
     Compiled
     """
-    store = ColumnStore.for_weather(weather, step, interpolate)
+    store = ColumnStore.for_weather(weather, step, interpolate, read)
     st = compile_structure(net, store)
     val = compile_values(net, st, store)
     return Compiled(st, val, store,

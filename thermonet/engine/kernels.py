@@ -126,6 +126,43 @@ def clamped_power(rest, hsp, csp, mii, qh, qc):
     return 0.0
 
 
+@register_jitable
+def direct_node(ox, ou, oc):
+    """The coordinate an observed row reads alone, or −1.
+
+    A row ``T = oc + ox · z + ou · u`` that is exactly the unit vector ``e_i`` with
+    ``ou = 0`` and ``oc = 0`` (a capacitive node stepped in node coordinates) is ``z_i``
+    itself: the loop then reads ``z_i`` instead of summing the row (the same value, as the
+    terms it skips are exact zeros for finite ``z`` and ``u``).
+
+    Parameters
+    ----------
+    ox : ndarray (nc,)
+        Row on the coordinates [-].
+    ou : ndarray (nu,)
+        Row on the inputs ([K/K] or [K/W]).
+    oc : float
+        Constant part [°C].
+
+    Returns
+    -------
+    int
+        ``i``, or −1 when the row is anything else.
+    """
+    if oc != 0.0:
+        return -1
+    for j in range(ou.shape[0]):
+        if ou[j] != 0.0:
+            return -1
+    idx = -1
+    for i in range(ox.shape[0]):
+        if ox[i] == 1.0 and idx < 0:
+            idx = i
+        elif ox[i] != 0.0:
+            return -1
+    return idx
+
+
 def control_powers(T0, M, hsp, csp, qh, qc, P):
     """Thermostat powers ``P`` [W] (in place) by projected Gauss–Seidel.
 
@@ -472,9 +509,10 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
         Far boundary temperature [°C] and wind speed [m/s]: column, constant, ramp flag.
     keep : bool
         Write traces (else sums).
-    Ztr : ndarray (V, n − warm, nc)
+    Ztr : ndarray (V, n − warm, ≥ nc)
         Output: end-of-step coordinates (node temperatures [°C] for states stepped in node
-        coordinates), with ``keep``.
+        coordinates), with ``keep``, in the first nc columns (any further columns are left
+        as they are: a caller may fill them).
     Str : ndarray (V, n − warm) of int
         Output: state id of each reported step, with ``keep``.
     Ptr : ndarray (V, n − warm, m)
@@ -539,6 +577,7 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
         Tend = np.zeros(nr)
         PQ = np.zeros(m + nfl)
         sv = -1              # state whose views below are current
+        odir = np.full(nobs, -1, dtype=np.int64)   # observed points read directly
         BTs = BT[v, 0]
         Oxs = Ox[v, 0]
         Ous = Ou[v, 0]
@@ -595,6 +634,8 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
                 bc = bconst[v, s]
                 Ms = M[v, s]
                 dn = dense[v, s]
+                for o in range(nobs):
+                    odir[o] = direct_node(Oxs[o], Ous[o], ocs[o])
                 if not keep:
                     zsv = zs_sum[v, s]
                     usv = us_sum[v, s]
@@ -602,7 +643,18 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
                 sv = s
             for j in range(nvar[v]):
                 u[vj[v, j]] = bank[k, vcol[v, j]]
-            if dn:
+            nq0 = 0          # varying inputs already added in the pass below
+            if dn and nvar[v] == 1 and not rampv[v, 0]:
+                # one varying input held over the step (the outdoor air, say): added in the
+                # same pass, the same terms in the same order, the sum kept in a register
+                nq0 = 1
+                r0, u0j = BTs[vj[v, 0]], u[vj[v, 0]]
+                for i in range(nc):
+                    acc = bc[i]
+                    for j in range(nc):
+                        acc += Ads[i, j] * z[j]
+                    z1[i] = acc + r0[i] * u0j
+            elif dn:
                 for i in range(nc):
                     acc = bc[i]
                     for j in range(nc):
@@ -611,7 +663,7 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
             else:
                 for i in range(nc):
                     z1[i] = a_s[i] * z[i] + bc[i]
-            for q in range(nvar[v]):
+            for q in range(nq0, nvar[v]):
                 j = vj[v, q]
                 uj = u[j]
                 row = BTs[j]
@@ -666,16 +718,30 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
                         for i in range(nc):
                             z1[i] -= row[i] * qf
             # thermostats
+            elif m == 1 and odir[th_obs[0]] >= 0:
+                # one thermostat whose node is a coordinate: the same power, kept in registers
+                pr = clamped_power(z1[odir[th_obs[0]]],
+                                   _column_nb(bank, k, hcol[v, 0], hconst[v, 0]),
+                                   _column_nb(bank, k, ccol[v, 0], cconst[v, 0]), Ms[0, 0],
+                                   qh[v, 0], qc[v, 0])
+                P[0] = pr
+                u[nin] = pr
+                row = BTs[nin]
+                for i in range(nc):
+                    z1[i] += row[i] * pr
             elif m > 0:
                 for r in range(m):
                     o = th_obs[r]
-                    acc = ocs[o]
-                    ro = Oxs[o]
-                    for i in range(nc):
-                        acc += ro[i] * z1[i]
-                    for q in range(nvar[v]):
-                        acc += Ous[o, vj[v, q]] * u[vj[v, q]]
-                    T0[r] = acc
+                    if odir[o] >= 0:
+                        T0[r] = z1[odir[o]]
+                    else:
+                        acc = ocs[o]
+                        ro = Oxs[o]
+                        for i in range(nc):
+                            acc += ro[i] * z1[i]
+                        for q in range(nvar[v]):
+                            acc += Ous[o, vj[v, q]] * u[vj[v, q]]
+                        T0[r] = acc
                     hs[r] = _column_nb(bank, k, hcol[v, r], hconst[v, r])
                     cs[r] = _column_nb(bank, k, ccol[v, r], cconst[v, r])
                 if m == 1:   # one thermostat: exact in one step, no iteration
@@ -690,6 +756,9 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
                         z1[i] += row[i] * pr
             # observed temperatures at the end of the step (for conditions and comfort)
             for o in range(nobs if (nsw > 0 or c_obs >= 0 or nfl > 0) else 0):
+                if odir[o] >= 0:
+                    obs[o] = z1[odir[o]]
+                    continue
                 acc = ocs[o]
                 ro = Oxs[o]
                 for i in range(nc):
@@ -751,8 +820,7 @@ def step_modal(a, Ad, dense, BT, BTp, Qx, Pz, Ox, Ou, M, bconst, oconst, nvar, v
                         tmax = max(tmax, t)
                         tmin = min(tmin, t)
                         tsum += t
-            for i in range(nc):
-                z[i] = z1[i]
+            z, z1 = z1, z        # the end of this step starts the next (no copy)
             for q in range(nvar[v]):
                 up[vj[v, q]] = u[vj[v, q]]
             sp = s

@@ -96,12 +96,14 @@ def content_key(value):
     value : object
         What to key (any of the types above, nested).
     """
+    if type(value) is np.ndarray:                  # the common cases first, by exact type
+        return ("ndarray", value.dtype.str, value.shape, value.tobytes())   # C order bytes
     if value is None or isinstance(value, (bool, int, float, str)):
         return (type(value).__name__, value)
     if isinstance(value, np.ndarray):
-        return ("ndarray", value.dtype.str, value.shape, np.ascontiguousarray(value).tobytes())
+        return ("ndarray", value.dtype.str, value.shape, value.tobytes())
     if isinstance(value, (list, tuple)):
-        if all(type(v) is str for v in value):          # names: the common case, quickly
+        if set(map(type, value)) <= {str}:             # names: the common case, quickly
             return (type(value).__name__, "str", tuple(value))
         parts = [content_key(v) for v in value]
         return None if any(p is None for p in parts) else (type(value).__name__, tuple(parts))
@@ -116,15 +118,20 @@ def structure_key(st):
     st : Structure
         From :func:`thermonet.engine.compile.compile_structure`.
     """
+    names = _KEY_FIELDS.get(type(st))
+    if names is None:
+        names = tuple(f.name for f in dataclasses.fields(st) if f.name != "index")
+        _KEY_FIELDS[type(st)] = names
     parts = []
-    for f in dataclasses.fields(st):
-        if f.name == "index":
-            continue
-        k = content_key(getattr(st, f.name))
+    for name in names:
+        k = content_key(getattr(st, name))
         if k is None:
             return None
-        parts.append((f.name, k))
+        parts.append((name, k))
     return tuple(parts)
+
+
+_KEY_FIELDS: dict = {}      # structure class → names of the fields in its key
 
 
 def _freeze(disc: Discretised) -> ReusedDiscretised:

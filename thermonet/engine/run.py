@@ -212,11 +212,10 @@ def start_states(st, vals: list, disc: Discretised, bank: Bank, ok: np.ndarray):
         factors); thermostat columns zero.
     """
     V, nc, nsw = len(vals), st.nc, st.nsw
-    sw = np.array([p.sw_init for p in vals], dtype=bool).reshape(V, nsw)
-    bits0 = (sw * (1 << np.arange(nsw))[None, :]).sum(axis=1).astype(np.int64)
-    sched0 = np.where(bank.schcol >= 0, bank.data[0, np.maximum(bank.schcol, 0)],
-                      bank.schconst)
-    s0 = sched0.astype(np.int64) * (1 << nsw) + bits0
+    s0 = bank.first(bank.schcol, bank.schconst).astype(np.int64) * (1 << nsw)
+    if nsw:
+        sw = np.array([p.sw_init for p in vals], dtype=bool).reshape(V, nsw)
+        s0 += (sw * (1 << np.arange(nsw))[None, :]).sum(axis=1).astype(np.int64)
     u0 = np.zeros((V, st.nu))
     u0[:, :st.nb + st.nsrc] = bank.first(bank.ucol, bank.uconst)
     hsp0 = bank.first(bank.hcol, bank.hconst)
@@ -555,8 +554,14 @@ def operators(st, disc: Discretised, F: np.ndarray, bank: Bank, nodes: list,
         rr = r[:, None, :, None]
         BT = np.where(rr, WT * e2[:, :, None, :], WT * e1[:, :, None, :])
         BTp = np.where(rr, WT * (e1 - e2)[:, :, None, :], 0.0)
-    Qx = disc.Q.copy()
-    Pz = np.swapaxes(disc.Q, -1, -2) * disc.C[:, None, None, :]
+    eye = np.eye(nc)
+    if dense.all():   # node coordinates everywhere: the maps are identities (laid out as below)
+        Qx = np.empty(disc.Q.shape)
+        Qx[...] = eye
+        Pz = np.swapaxes(Qx.copy(), -1, -2)
+    else:
+        Qx = disc.Q.copy()
+        Pz = np.swapaxes(disc.Q, -1, -2) * disc.C[:, None, None, :]
     Ad = np.zeros((V, ns, nc, nc) if dense.any() else (V, ns, 0, 0))
     for v, s in zip(*np.nonzero(dense), strict=True):
         Phi, Gam, _, Gambar, _ = disc.matrices(v, s)
@@ -564,8 +569,8 @@ def operators(st, disc: Discretised, F: np.ndarray, bank: Bank, nodes: list,
         cur = np.where(r[v][None, :], Gambar, Gam)
         BT[v, s] = (cur * F[v, s][None, :]).T
         BTp[v, s] = (np.where(r[v][None, :], Gam - Gambar, 0.0) * F[v, s][None, :]).T
-        Qx[v, s] = np.eye(nc)
-        Pz[v, s] = np.eye(nc)
+        Qx[v, s] = eye
+        Pz[v, s] = eye
     Ox, Ou = _node_rows(st, disc, F, Qx, nodes)
     pcols = nin + np.arange(m)
     M = (Ox[:, :, :m, :] @ np.swapaxes(BT[:, :, pcols, :], -1, -2) + Ou[:, :, :m][..., pcols])
@@ -602,6 +607,8 @@ def thermostat_errors(st, ops: Operators, errors: list) -> None:
     if not st.m:
         return
     d = np.diagonal(ops.M, axis1=-2, axis2=-1)          # (V, ns, m)
+    if (d > 0).all():                                   # every node responds: the usual case
+        return
     for v in np.flatnonzero(~(d.min(axis=(1, 2)) > 0)):
         if errors[v] is None:
             bad = st.thermostat_names[int(np.argmin(d[v].min(axis=0)))]
@@ -682,6 +689,10 @@ class GroupRun:
         The kernel that stepped the group: ``"numba"`` or ``"numpy"``.
     Q : ndarray (V, n, nfl) or None
         Window links' law heat flows into the room [W] (with ``keep``).
+    wide : ndarray (V, n, nc + extra) or None
+        With ``extra`` (see :func:`step_group`): the rows the kernel wrote the traces into,
+        ``X`` being a view of their first nc columns and the ``extra`` columns after them
+        left for the caller to fill (unset); None otherwise.
     """
 
     X: np.ndarray | None
@@ -696,6 +707,7 @@ class GroupRun:
     errors: list
     kernel: str = "numba"
     Q: np.ndarray | None = None
+    wide: np.ndarray | None = None
 
 
 _READY: list = []         # True once the compiled kernel is built (it then stays built)
@@ -839,8 +851,19 @@ def _step_lanes(st, ops: Operators, bank: Bank, vals, sel, z0, x0, warm, c_obs, 
         np.where(lane_v >= 0, sel[np.maximum(lane_v, 0)], -1).astype(np.int64), js, int(nin))
 
 
+def _trace_arrays(V: int, nrep: int, nc: int, m: int, nfl: int, extra: int, full: bool):
+    """Trace arrays of the kernel: ``Ztr`` (V, nrep, nc + extra), ``Str``, ``Ptr``, ``Qtr``.
+
+    Every reported row is written by the kernel for the variants it steps, so the arrays
+    are left unset when it steps them all (``full``), zeros otherwise.
+    """
+    make = np.empty if full else np.zeros
+    return (make((V, nrep, nc + extra)), make((V, nrep), dtype=np.int64), make((V, nrep, m)),
+            make((V, nrep, nfl)))
+
+
 def _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep, comfort, thr_h, thr_d,
-                errors, ramp, u_before):
+                errors, ramp, u_before, extra=0):
     V, nc, m, ns = len(vals), st.nc, st.m, vals[0].n_states
     nodes, terms, c_obs = observed_nodes(st, comfort)
     fl = flow_links(st, vals, bank, nodes, ramp)
@@ -852,11 +875,9 @@ def _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep, comfort, thr_h,
     obs0 = observed_start(st, disc, x0, u0, nodes)
     z0 = np.einsum("vij,vj->vi", ops.Pz[np.arange(V), s0], x0)
     n = bank.data.shape[0]
-    nrep = n - warm
-    Ztr = np.zeros((V, nrep if keep else 0, nc))
-    Str = np.zeros((V, nrep if keep else 0), dtype=np.int64)
-    Ptr = np.zeros((V, nrep if keep else 0, m))
-    Qtr = np.zeros((V, nrep if keep else 0, st.nfl))
+    nrep = n - warm if keep else 0
+    extra = extra if in_nodes else 0
+    Ztr, Str, Ptr, Qtr = _trace_arrays(V, nrep, nc, m, st.nfl, extra, bool(ok.all()))
     sums = {"heat": np.zeros((V, m)), "cool": np.zeros((V, m)), "peak_h": np.zeros(V),
             "peak_c": np.zeros(V), "hrs": np.zeros((V, len(thr_h))),
             "dgh": np.zeros((V, len(thr_d))), "tstat": np.zeros((V, 3)),
@@ -864,7 +885,8 @@ def _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep, comfort, thr_h,
             "up_sum": np.zeros((V, ns, st.nu)), "cnt": np.zeros((V, ns))}
     x_first = np.zeros((V, nc))
     x_last = np.zeros((V, nc))
-    tv = np.broadcast_to(terms, (V,) + terms.shape).copy()
+    tv = np.empty((V,) + terms.shape)
+    tv[:] = terms
     for v, p in enumerate(vals):
         tv[v, :, 5] = p.thresholds
     sel = np.flatnonzero(ok)
@@ -906,10 +928,10 @@ def _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm, keep, comfort, thr_h,
                 f[sel] = part
     X = None
     if keep:
-        X = Ztr if in_nodes else np.empty_like(Ztr)
+        X = Ztr[:, :, :nc] if in_nodes else np.empty_like(Ztr)
         for v in sel if not in_nodes else ():
             X[v] = _modal_to_nodes(Ztr[v], Str[v], ops.Qx[v])
-    return X, Str, Ptr, Qtr, x_first, x_last, sums, ops
+    return X, Str, Ptr, Qtr, x_first, x_last, sums, ops, (Ztr if extra else None)
 
 
 def _reference_flow(st, val, bank: Bank, v: int, ramp: np.ndarray) -> dict | None:
@@ -978,7 +1000,8 @@ def _step_numpy(st, vals, disc, F, bank, x0, s0, u0, warm, errors, ramp, u_befor
 
 
 def step_group(st, vals: list, store, warm: int, *, keep: bool, kernel: str = "auto",
-               comfort: int | None = None, thr_h=(), thr_d=(), u_before=None) -> GroupRun:
+               comfort: int | None = None, thr_h=(), thr_d=(), u_before=None,
+               extra: int = 0) -> GroupRun:
     """Discretise, start and step the variants ``vals`` of structure ``st``.
 
     Parameters
@@ -1004,6 +1027,10 @@ def step_group(st, vals: list, store, warm: int, *, keep: bool, kernel: str = "a
     u_before : ndarray (V, nu), optional
         Inputs before the first row (first-order-hold inputs start from them); default the
         first row's (an input constant before the run).
+    extra : int, default 0
+        Columns to leave free after the capacitive temperatures in each row of the traces
+        (``keep``, compiled kernel in node coordinates), for a caller that builds a table
+        around them without copying them (:attr:`GroupRun.wide`).
 
     Returns
     -------
@@ -1038,9 +1065,9 @@ def step_group(st, vals: list, store, warm: int, *, keep: bool, kernel: str = "a
         X, S, P, Q, xf, xl = _step_numpy(st, vals, disc, F, bank, x0, s0, u0, warm, errors,
                                          ramp, u_before)
         return GroupRun(X, S, P, xf, xl, {}, disc, None, F, errors, kernel="numpy", Q=Q)
-    X, S, P, Q, xf, xl, sums, ops = _step_numba(st, vals, disc, F, bank, x0, s0, u0, warm,
-                                                keep, comfort, thr_h, thr_d, errors, ramp,
-                                                u_before)
+    X, S, P, Q, xf, xl, sums, ops, wide = _step_numba(st, vals, disc, F, bank, x0, s0, u0,
+                                                      warm, keep, comfort, thr_h, thr_d,
+                                                      errors, ramp, u_before, extra)
     if keep:
         sums = {}
-    return GroupRun(X, S, P, xf, xl, sums, disc, ops, F, errors, Q=Q)
+    return GroupRun(X, S, P, xf, xl, sums, disc, ops, F, errors, Q=Q, wide=wide)

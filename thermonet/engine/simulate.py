@@ -31,6 +31,8 @@ References
 from __future__ import annotations
 
 import dataclasses
+import functools
+import math
 import time
 import warnings
 
@@ -41,6 +43,7 @@ from thermonet.checks import check_simulation_inputs
 from thermonet.engine.compile import Compiled, compile_network
 from thermonet.engine.run import KERNELS, GroupRun, step_group
 from thermonet.engine.trajectory import ExactTrajectory, JoinedTrajectory, Trajectory
+from thermonet.errors import MemoryBudgetWarning
 from thermonet.results import Results
 
 #: Capacitive nodes up to which ``method="auto"`` takes the exact method.
@@ -48,19 +51,18 @@ AUTO_DENSE_LIMIT = 3000
 
 
 def effective_inputs(comp: Compiled, F: np.ndarray, S: np.ndarray, P: np.ndarray, warm: int,
-                     u_before=None, Q=None) -> tuple[np.ndarray, np.ndarray]:
+                     u_before=None, Q=None) -> tuple[np.ndarray, np.ndarray | None]:
     """Inputs as applied at the end of each step and at its start, (n, nu) each.
 
     End: raw boundary temperatures and source powers × the state's factors, thermostat
     powers ``P`` [W]. Start: the previous row's raw values (the last warm-up row, or
-    ``u_before``/the first row, before the first reported step); used for the inputs that
-    vary linearly over a step.
+    ``u_before``/the first row, before the first reported step); only the inputs that vary
+    linearly over a step read them, so they are formed only when some input does.
 
     Parameters
     ----------
     comp : Compiled
-        The compiled network (its raw inputs ``comp.U`` (n, nu): boundary temperatures [°C],
-        source powers [W]).
+        The compiled network (its raw inputs: boundary temperatures [°C], source powers [W]).
     F : ndarray (ns, nu)
         Factor on each input in each state [-] (one variant of ``GroupRun.F``).
     S : ndarray (n,) of int
@@ -78,26 +80,35 @@ def effective_inputs(comp: Compiled, F: np.ndarray, S: np.ndarray, P: np.ndarray
 
     Returns
     -------
-    U_end, U_prev : ndarray (n, nu)
-        Inputs at the end and at the start of each step ([°C] for boundaries, [W] for
-        powers).
+    U_end : ndarray (n, nu)
+        Inputs at the end of each step ([°C] for boundaries, [W] for powers).
+    U_prev : ndarray (n, nu) or None
+        Raw inputs at the start of each step; None when no input varies linearly over a
+        step (first-order hold), as nothing reads them then.
     """
-    U = comp.U
-    f = F[S[0]] if len(S) and (S == S[0]).all() else F[S]
-    # a factor of exactly 1 leaves every value as it is: copy instead of multiplying
-    U_end = U.copy() if (f == 1.0).all() else U * f
-    U_end[:, comp.nb + comp.nsrc:] = P
+    n = len(comp.index)
+    nin = comp.nb + comp.nsrc
+    f = F[0] if F.shape[0] == 1 else (F[S[0]] if len(S) and (S == S[0]).all() else F[S])
+    U_end = np.empty((n, comp.nu))
+    for j, spec in enumerate(comp.val.ucols):
+        value = comp.store.value(spec)
+        fj = f[..., j]
+        # a factor of exactly 1 leaves every value as it is: no product
+        U_end[:, j] = value if (fj == 1.0).all() else value * fj
+    U_end[:, nin:] = P
     if comp.st.nfl and Q is not None:
         U_end[:, comp.nb + comp.st.flow_src[:, 0]] = Q
         far = comp.st.flow_src[:, 1] >= 0
         U_end[:, comp.nb + comp.st.flow_src[far, 1]] = -Q[:, far]
+    if not comp.val.ramp.any():
+        return U_end, None
+    U = comp.U
     first = U[warm - 1] if warm else (U[0] if u_before is None else u_before)
     U_prev = np.vstack([np.asarray(first, dtype=float)[None, :], U[:-1]])
     return U_end, U_prev
 
 
-def trajectory_of(comp: Compiled, run: GroupRun, U_end: np.ndarray, U_prev: np.ndarray,
-                  info: dict) -> ExactTrajectory:
+def trajectory_of(comp: Compiled, run: GroupRun, inputs, info: dict) -> ExactTrajectory:
     """The :class:`ExactTrajectory` of variant 0 of a :class:`GroupRun`.
 
     Parameters
@@ -106,9 +117,10 @@ def trajectory_of(comp: Compiled, run: GroupRun, U_end: np.ndarray, U_prev: np.n
         The compiled network that was run.
     run : GroupRun
         What stepping it gave (traces kept).
-    U_end, U_prev : ndarray (n, nu)
-        Effective inputs at the end and the start of each step ([°C], [W]), from
-        :func:`effective_inputs`.
+    inputs : tuple or callable
+        ``(U_end, U_prev)`` from :func:`effective_inputs` (effective inputs at the end and
+        raw inputs at the start of each step, [°C] and [W]), or a callable without
+        arguments returning them when first needed.
     info : dict
         Counters for :meth:`thermonet.Results.diagnostics`; ``doubling_states`` is added.
 
@@ -121,9 +133,12 @@ def trajectory_of(comp: Compiled, run: GroupRun, U_end: np.ndarray, U_prev: np.n
     info = dict(info, doubling_states=len(dense))
     ramp = np.zeros(comp.nu, dtype=bool)
     ramp[:comp.nb + comp.nsrc] = comp.val.ramp
-    return ExactTrajectory(run.X[0], run.x_first[0], run.S[0], U_end, U_prev, ramp,
+    wide = run.wide[0] if run.wide is not None and comp.nf == comp.nc else None
+    # boundaries are never scaled by switches: their end values are the raw ones
+    boundaries = [comp.store.value(spec) for spec in comp.val.ucols[:comp.nb]]
+    return ExactTrajectory(run.X[0], run.x_first[0], run.S[0], inputs, ramp,
                            comp.G_states, d.Yx[0], d.Yu[0], d.lam[0], d.Q[0], d.W[0], d.C[0],
-                           d.h, dense, info)
+                           d.h, dense, info, wide=wide, boundaries=boundaries)
 
 
 def switch_state_after(comp: Compiled, state_id: int) -> np.ndarray:
@@ -173,14 +188,16 @@ class ExactMethod:
             val = dataclasses.replace(val, sw_init=np.asarray(sw, bool),
                                       initial=list(enumerate(np.asarray(x0, float))))
         ub = None if u_before is None else np.asarray(u_before, float)[None, :]
+        # every free node capacitive: leave room for the boundaries beside the temperatures,
+        # so the temperature table is the kernel's own rows (no copy)
+        extra = comp.nb if comp.nf == comp.nc else 0
         run = step_group(comp.st, [val], comp.store, warm, keep=True, kernel=kernel,
-                         u_before=ub)
+                         u_before=ub, extra=extra)
         if run.errors[0] is not None:
             raise run.errors[0]
-        U_end, U_prev = effective_inputs(comp, run.F[0], run.S[0], run.P[0], warm, u_before,
-                                         None if run.Q is None else run.Q[0])
-        return trajectory_of(comp, run, U_end, U_prev, {"kernel": kernel,
-                                                        "kernel_used": run.kernel})
+        inputs = functools.partial(effective_inputs, comp, run.F[0], run.S[0], run.P[0],
+                                   warm, u_before, None if run.Q is None else run.Q[0])
+        return trajectory_of(comp, run, inputs, {"kernel": kernel, "kernel_used": run.kernel})
 
 
 class SparseMethod:
@@ -283,8 +300,6 @@ def check_memory(comp: Compiled, warm: int, method: str, keep, budget: float) ->
     float
         Estimated bytes of the hourly arrays the run keeps.
     """
-    from thermonet.errors import MemoryBudgetWarning
-
     n = len(comp.index) + warm
     k = comp.nf if keep is None else len(keep)
     per_step = (2 * k + 3 * comp.nu) if method == "sparse" else (3 * comp.nc + 3 * comp.nu)
@@ -304,7 +319,7 @@ def _check_options(method, kernel: str, sparse_tol, warmup_days) -> None:
         raise ValueError(f"method must be one of {('auto',) + tuple(METHODS)}, got {method!r}")
     if kernel not in KERNELS:
         raise ValueError(f"kernel must be one of {KERNELS}, got {kernel!r}")
-    if not (isinstance(warmup_days, (int, float)) and np.isfinite(warmup_days)
+    if not (isinstance(warmup_days, (int, float)) and math.isfinite(warmup_days)
             and warmup_days >= 0):
         raise ValueError(f"warmup_days must be a finite number ≥ 0 [days], got {warmup_days!r}")
     if sparse_tol is not None and not (isinstance(sparse_tol, (int, float))
@@ -471,8 +486,8 @@ def simulate(net, weather, *, step=None, method: str = "auto", warmup_days: floa
     """
     _check_options(method, kernel, sparse_tol, warmup_days)
     t0 = time.perf_counter()
-    check_simulation_inputs(net, weather, warmup_days)     # impossible → error, odd → warning
-    comp = compile_network(net, weather, step=step, interpolate=interpolate)
+    read = check_simulation_inputs(net, weather, warmup_days)  # impossible → error, odd → warn
+    comp = compile_network(net, weather, step=step, interpolate=interpolate, read=read)
     n = len(comp.index)
     w = min(int(round(warmup_days * 86400.0 / comp.step_s)), n)
     if method == "auto":

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from thermonet.engine.kernels import control_powers
+from thermonet.engine.kernels import clamped_power, control_powers
 
 
 def thermostat_rows(st, Yx: np.ndarray, Yu: np.ndarray):
@@ -72,7 +72,10 @@ def steady_start(st, solve, E: np.ndarray, Rx: np.ndarray, Ru: np.ndarray, u0: n
         T0 = Rx @ x + Ru @ u
         Mss = Rx @ Xp + Ru[:, pcols]
         P = np.zeros(m)
-        control_powers(T0, Mss, hsp0, csp0, qh, qc, P)
+        if m == 1:         # control_powers' single sweep for one thermostat, without a loop
+            P[0] = clamped_power(T0[0], hsp0[0], csp0[0], Mss[0, 0], qh[0], qc[0])
+        else:
+            control_powers(T0, Mss, hsp0, csp0, qh, qc, P)
         x = x + Xp @ P
     return x
 

@@ -77,6 +77,12 @@ class Trajectory(abc.ABC):
         start = np.vstack([self.x_first[np.asarray(cap, dtype=np.int64)][None, :], end[:-1]])
         return end - start
 
+    def end_points(self) -> np.ndarray | None:
+        """End-of-step temperatures [°C] of every free node then every boundary (n, nf + nb)
+        as one block, when the trajectory holds them so; None otherwise (the caller then
+        assembles them from :meth:`end` and ``U_end``)."""
+        return None
+
     @abc.abstractmethod
     def end(self, idx) -> np.ndarray:
         """End-of-step temperatures [°C] (n, k) of free nodes ``idx``.
@@ -116,8 +122,9 @@ def step_means(U_end, U_prev, ramp):
     ----------
     U_end : ndarray (n, nu)
         Inputs at the end of each step ([°C] for boundaries, [W] for powers).
-    U_prev : ndarray (n, nu)
-        Inputs at the start of each step.
+    U_prev : ndarray (n, nu) or None
+        Inputs at the start of each step (read only for the columns in ``ramp``; None when
+        none ramps).
     ramp : ndarray (nu,) of bool
         Inputs that vary linearly over each step (first-order hold).
 
@@ -140,10 +147,12 @@ class ExactTrajectory(Trajectory):
     ----------
     X, x_first, S
         See :class:`Trajectory`.
-    U_end : ndarray (n, nu)
-        Inputs at the end of each step (sources and thermostats: their step means).
-    U_prev : ndarray (n, nu)
-        Inputs at the start of each step (used for the columns in ``ramp``).
+    inputs : tuple or callable
+        ``(U_end, U_prev)``, or a callable without arguments returning them, called when
+        they are first needed (a table of temperatures alone does not need them).
+        ``U_end`` (n, nu): inputs at the end of each step (sources and thermostats: their
+        step means); ``U_prev`` (n, nu) or None: inputs at the start of each step (read for
+        the columns in ``ramp``; None when no input ramps).
     ramp : ndarray (nu,) of bool
         Inputs that vary linearly over each step (first-order hold).
     G : ndarray (ns, nl)
@@ -158,13 +167,22 @@ class ExactTrajectory(Trajectory):
     dense : dict
         State id → (Φ, Γ, Φ̄, Γ̄, Γ₃) for states stepped densely.
     info : dict
+    wide : ndarray (n, nc + nb), optional
+        For a network whose free nodes are all capacitive: the block whose first nc
+        columns are ``X`` (a view of them) and whose last nb columns are free for the
+        boundary temperatures; :meth:`end_points` fills them and hands the block out as
+        the end-of-step table.
+    boundaries : list of (float or ndarray (n,)), optional
+        Each boundary's temperature [°C] at the end of each step (a constant or a series),
+        the values ``U_end`` holds in its first nb columns; :meth:`end_points` reads them
+        from here so that it need not form ``U_end``.
     """
 
-    def __init__(self, X, x_first, S, U_end, U_prev, ramp, G, Yx, Yu, lam, Q, W, C, h, dense,
-                 info):
+    def __init__(self, X, x_first, S, inputs, ramp, G, Yx, Yu, lam, Q, W, C, h, dense,
+                 info, wide=None, boundaries=None):
         self.X, self.x_first, self.S, self.G = X, x_first, S, G
-        self.U_end, self.U_prev, self.ramp = U_end, U_prev, np.asarray(ramp, bool)
-        self.U = step_means(U_end, U_prev, self.ramp)
+        self._inputs = inputs
+        self.ramp = np.asarray(ramp, bool)
         self.Yx, self.Yu, self.lam, self.Q, self.W, self.C, self.h = Yx, Yu, lam, Q, W, C, h
         self.dense = dense
         self.info = info
@@ -172,6 +190,48 @@ class ExactTrajectory(Trajectory):
         self.nc = X.shape[1]
         self.nf = self.nc + Yx.shape[1]
         self._xbar = None
+        self._U = None
+        self._wide = wide
+        self._boundaries = boundaries
+        self._wide_filled = False
+
+    def _formed_inputs(self) -> tuple:
+        if callable(self._inputs):
+            self._inputs = self._inputs()
+        return self._inputs
+
+    @property
+    def U_end(self) -> np.ndarray:
+        """Inputs at the end of each step (n, nu) ([°C], [W]), formed on first use."""
+        return self._formed_inputs()[0]
+
+    @property
+    def U_prev(self) -> np.ndarray | None:
+        """Raw inputs at the start of each step (n, nu), or None when no input ramps."""
+        return self._formed_inputs()[1]
+
+    @property
+    def U(self) -> np.ndarray:
+        """Step-mean inputs (n, nu) ([°C], [W]), see :func:`step_means`."""
+        if self._U is None:
+            self._U = step_means(self.U_end, self.U_prev, self.ramp)
+        return self._U
+
+    def end_points(self):
+        """End-of-step temperatures [°C] of every free node then every boundary (n, nf + nb)
+        as one block (see :meth:`Trajectory.end_points`): the kernel's rows, their boundary
+        columns filled once; None when the run kept no such block."""
+        w = self._wide
+        if w is None or self.keep_mask is not None:
+            return None
+        if not self._wide_filled:
+            nb = w.shape[1] - self.nc
+            values = (self._boundaries if self._boundaries is not None
+                      else [self.U_end[:, j] for j in range(nb)])
+            for j, value in enumerate(values):        # column by column: strided copies
+                w[:, self.nc + j] = value
+        self._wide_filled = True
+        return w
 
     def kept(self, idx):
         """Which free nodes ``idx`` the tables show (see :meth:`Trajectory.kept`).
