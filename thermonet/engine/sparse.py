@@ -321,7 +321,9 @@ def march_free(Lp, Li, LX, DINV, Lx_real, dinv_real, weights, r_inf, c, E_row, E
     rounding), is solved for :data:`MEAN_BLOCK` steps at once, as one solve of many columns.
     ``c``, ``E`` (entries ``E_row, E_col, E_val``) and ``T0`` are in the factor's order
     (``order[i]`` is node i of it); the outputs are written in the network's order, only
-    for the ``n_out`` nodes with an output column ``out_col[node] ≥ 0``.
+    for the ``n_out`` nodes with an output column ``out_col[node] ≥ 0``. (One function of
+    about 75 lines of code: the block's stages share their work arrays, and it is one
+    compiled kernel.)
 
     Returns
     -------
