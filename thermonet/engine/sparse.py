@@ -35,6 +35,7 @@ from __future__ import annotations
 
 import time
 import warnings
+from concurrent.futures import ThreadPoolExecutor
 from functools import cache
 
 import numba
@@ -305,9 +306,98 @@ COMPILED_FREE_MARCH = True
 MEAN_BLOCK = 16
 
 
+@numba.njit(cache=True, nogil=True)
+def block_inputs(Lp, Li, Lx_real, dinv_real, c, E_row, E_col, E_val, U, D, ramp, k0, nb,
+                 alpha, beta, Eu_s, alpha_s, beta_s):  # pragma: no cover - compiled
+    """The inputs' part of ``nb`` steps from step ``k0`` (:func:`march_free`, stage 1).
+
+    ``E u`` [W], ``β`` with ``L β = E d`` [K/s] and ``α`` with ``L α = E u − C β`` [°C],
+    solved as columns of ``alpha``/``beta`` (n, B) and written step-major into ``Eu_s``,
+    ``beta_s`` and ``alpha_s`` (B, n).
+    """
+    n, B = alpha.shape
+    alpha[:] = 0.0
+    beta[:] = 0.0
+    for q in range(E_row.shape[0]):        # by the entries of E (most rows are empty)
+        for kk in range(nb):
+            alpha[E_row[q], kk] += E_val[q] * U[k0 + kk, E_col[q]]
+            if ramp[E_col[q]]:
+                beta[E_row[q], kk] += E_val[q] * D[k0 + kk, E_col[q]]
+    if ramp.any():
+        solve_columns(Lp, Li, Lx_real, dinv_real, beta)
+    for i in range(n):
+        for kk in range(B):
+            Eu_s[kk, i] = alpha[i, kk]
+            beta_s[kk, i] = beta[i, kk]
+            alpha[i, kk] -= c[i] * beta[i, kk]
+    solve_columns(Lp, Li, Lx_real, dinv_real, alpha)
+    for i in range(n):
+        for kk in range(B):
+            alpha_s[kk, i] = alpha[i, kk]
+
+
+@numba.njit(cache=True, nogil=True)
+def block_steps(Lp, Li, LX, DINV, weights, r_inf, c, h, T, Y, Eu_s, alpha_s, beta_s, R_s,
+                Tall, col, k0, nb):  # pragma: no cover - compiled
+    """The recursion over ``nb`` steps from step ``k0`` (:func:`march_free`, stage 2).
+
+    ``T⁺ = α + r(−hC⁻¹L)(T − α + hβ)`` by the pole solves; writes the end temperatures
+    [°C] into ``Tall`` and the step means' right-hand sides ``E u − C (T⁺ − T)/h`` [W]
+    into ``R_s``; ``T`` is updated in place.
+    """
+    n, P = Y.shape
+    for kk in range(nb):
+        a_k, b_k = alpha_s[kk], beta_s[kk]
+        for i in range(n):
+            v = c[i] * (T[i] - a_k[i] + h * b_k[i])
+            for p in range(P):
+                Y[i, p] = v
+        solve_poles(Lp, Li, LX, DINV, Y)
+        e_k, r_k = Eu_s[kk], R_s[kk]
+        row = Tall[k0 + kk + 1]
+        for i in range(n):
+            acc = a_k[i] + r_inf * (T[i] - a_k[i] + h * b_k[i])
+            for p in range(P):
+                acc += 2.0 * (weights[p] * Y[i, p]).real
+            r_k[i] = e_k[i] - c[i] * (acc - T[i]) / h
+            T[i] = acc
+            if col[i] >= 0:
+                row[col[i]] = acc
+
+
+@numba.njit(cache=True, nogil=True)
+def block_means(Lp, Li, Lx_real, dinv_real, h, R, R_s, beta_s, Tmean, col, k0, nb
+                ):  # pragma: no cover - compiled
+    """The step means of ``nb`` steps from step ``k0`` (:func:`march_free`, stage 3).
+
+    ``L T̄ = E ū − C (T⁺ − T)/h`` with ``E ū = E u − (h/2) L β``, as columns of ``R``.
+    """
+    n, B = R.shape
+    for i in range(n):
+        for kk in range(B):
+            R[i, kk] = R_s[kk, i]
+    solve_columns(Lp, Li, Lx_real, dinv_real, R)
+    for kk in range(nb):
+        row = Tmean[k0 + kk]
+        b_k = beta_s[kk]
+        for i in range(n):
+            if col[i] >= 0:
+                row[col[i]] = R[i, kk] - 0.5 * h * b_k[i]
+
+
 @numba.njit(cache=True)
+def new_outputs(nsteps, n_out):  # pragma: no cover - compiled
+    """Output arrays of a march, ``(nsteps + 1, n_out)`` and ``(nsteps, n_out)`` [°C].
+
+    Allocated by numba rather than numpy: numpy asks the system for huge pages, whose
+    first touch costs 0.1 s or 2 s for 1.4 GB depending on how fragmented memory is;
+    ordinary pages cost a steady ~0.35 s per 0.7 GB (measured).
+    """
+    return np.empty((nsteps + 1, n_out)), np.empty((nsteps, n_out))
+
+
 def march_free(Lp, Li, LX, DINV, Lx_real, dinv_real, weights, r_inf, c, E_row, E_col, E_val,
-               U, D, ramp, T0, order, h, out_col, n_out):  # pragma: no cover - compiled
+               U, D, ramp, T0, order, h, out_col, n_out):
     """March the free-running sparse step over all rows of the inputs ``U``.
 
     Inputs are ``U`` at the end of each step and, where ``ramp``, rise linearly over it at
@@ -319,11 +409,15 @@ def march_free(Lp, Li, LX, DINV, Lx_real, dinv_real, weights, r_inf, c, E_row, E
     that depends on the inputs alone — α, β — and the step means, from the integrated
     equation ``L T̄ = E ū − C (T⁺ − T)/h`` with ``ū = u − hd/2`` (so the balance closes to
     rounding), is solved for :data:`MEAN_BLOCK` steps at once, as one solve of many columns.
-    ``c``, ``E`` (entries ``E_row, E_col, E_val``) and ``T0`` are in the factor's order
-    (``order[i]`` is node i of it); the outputs are written in the network's order, only
-    for the ``n_out`` nodes with an output column ``out_col[node] ≥ 0``. (One function of
-    about 75 lines of code: the block's stages share their work arrays, and it is one
-    compiled kernel.)
+
+    The three stages are compiled functions that release the GIL; they run as a pipeline
+    on two threads: while this thread steps block ``t`` (:func:`block_steps`), a second one
+    prepares the inputs of block ``t + 1`` (:func:`block_inputs`) and solves the means of
+    block ``t − 1`` (:func:`block_means`), each block's arrays in one of three buffers. The
+    numbers do not depend on the threads. ``c``, ``E`` (entries ``E_row, E_col, E_val``)
+    and ``T0`` are in the factor's order (``order[i]`` is node i of it); the outputs are
+    written in the network's order, only for the ``n_out`` nodes with an output column
+    ``out_col[node] ≥ 0``.
 
     Returns
     -------
@@ -332,80 +426,44 @@ def march_free(Lp, Li, LX, DINV, Lx_real, dinv_real, weights, r_inf, c, E_row, E
     Tmean : ndarray (steps, n_out)
         Step-mean temperatures [°C] of the kept nodes.
     """
-    nsteps = U.shape[0]
-    n = T0.shape[0]
-    P = LX.shape[1]
-    B = MEAN_BLOCK
-    Tall = np.empty((nsteps + 1, n_out))
-    Tmean = np.empty((nsteps, n_out))
+    nsteps, n, B = U.shape[0], T0.shape[0], MEAN_BLOCK
+    Tall, Tmean = new_outputs(nsteps, n_out)
+    col = out_col[order]                       # output column of each position of the order
+    Tall[0, col[col >= 0]] = T0[col >= 0]
     T = T0.copy()
-    col = np.empty(n, dtype=np.int64)      # output column of each position of the order
-    for i in range(n):
-        col[i] = out_col[order[i]]
-        if col[i] >= 0:
-            Tall[0, col[i]] = T[i]
-    any_ramp = ramp.any()
-    Y = np.empty((n, P), dtype=np.complex128)
-    # a block of steps: node-major (n, B) for the solves of many columns, step-major (B, n)
-    # copies for the steps (contiguous per step)
-    alpha = np.zeros((n, B))               # E u, then α [°C]
-    beta = np.zeros((n, B))                # β [K/s]
-    R = np.zeros((n, B))                   # right-hand sides, then the step means [°C]
-    Eu_s = np.zeros((B, n))
-    alpha_s = np.zeros((B, n))
-    beta_s = np.zeros((B, n))
-    R_s = np.zeros((B, n))
-    for k0 in range(0, nsteps, B):
-        nb = min(B, nsteps - k0)
-        alpha[:] = 0.0
-        beta[:] = 0.0
-        for q in range(E_row.shape[0]):    # by the entries of E (most rows are empty)
-            for kk in range(nb):
-                alpha[E_row[q], kk] += E_val[q] * U[k0 + kk, E_col[q]]
-                if ramp[E_col[q]]:
-                    beta[E_row[q], kk] += E_val[q] * D[k0 + kk, E_col[q]]
-        if any_ramp:
-            solve_columns(Lp, Li, Lx_real, dinv_real, beta)
-        for i in range(n):
-            for kk in range(B):
-                Eu_s[kk, i] = alpha[i, kk]
-                beta_s[kk, i] = beta[i, kk]
-                alpha[i, kk] -= c[i] * beta[i, kk]
-        solve_columns(Lp, Li, Lx_real, dinv_real, alpha)
-        for i in range(n):
-            for kk in range(B):
-                alpha_s[kk, i] = alpha[i, kk]
-        for kk in range(nb):
-            k = k0 + kk
-            a_k, b_k = alpha_s[kk], beta_s[kk]
-            for i in range(n):
-                v = c[i] * (T[i] - a_k[i] + h * b_k[i])
-                for p in range(P):
-                    Y[i, p] = v
-            solve_poles(Lp, Li, LX, DINV, Y)
-            e_k, r_k = Eu_s[kk], R_s[kk]
-            row = Tall[k + 1]
-            for i in range(n):
-                acc = a_k[i] + r_inf * (T[i] - a_k[i] + h * b_k[i])
-                for p in range(P):
-                    acc += 2.0 * (weights[p] * Y[i, p]).real
-                r_k[i] = e_k[i] - c[i] * (acc - T[i]) / h
-                T[i] = acc
-                if col[i] >= 0:
-                    row[col[i]] = acc
-        for i in range(n):
-            for kk in range(B):
-                R[i, kk] = R_s[kk, i]
-        solve_columns(Lp, Li, Lx_real, dinv_real, R)
-        for i in range(n):
-            for kk in range(B):
-                R_s[kk, i] = R[i, kk]
-        for kk in range(nb):
-            row = Tmean[k0 + kk]
-            r_k, b_k = R_s[kk], beta_s[kk]
-            for i in range(n):
-                if col[i] >= 0:        # E ū = E u − (h/2) E d = E u − (h/2) L β
-                    row[col[i]] = r_k[i] - 0.5 * h * b_k[i]
+    Y = np.empty((n, LX.shape[1]), dtype=np.complex128)
+    alpha, beta, R = np.zeros((n, B)), np.zeros((n, B)), np.zeros((n, B))
+    Eu_s, alpha_s, beta_s, R_s = (np.zeros((3, B, n)) for _ in range(4))   # 3 buffers
+    nblocks = -(-nsteps // B)
+
+    def inputs(t):
+        k = t * B
+        block_inputs(Lp, Li, Lx_real, dinv_real, c, E_row, E_col, E_val, U, D, ramp, k,
+                     min(B, nsteps - k), alpha, beta, Eu_s[t % 3], alpha_s[t % 3],
+                     beta_s[t % 3])
+
+    def means(t):
+        k = t * B
+        block_means(Lp, Li, Lx_real, dinv_real, h, R, R_s[t % 3], beta_s[t % 3], Tmean,
+                    col, k, min(B, nsteps - k))
+
+    def side(t):          # the second thread's share of pipeline round t
+        if t + 1 < nblocks:
+            inputs(t + 1)
+        if t >= 1:
+            means(t - 1)
+
+    if nblocks:
+        inputs(0)
+    with ThreadPoolExecutor(max_workers=1) as pool:
+        for t in range(nblocks + 1):
+            job = pool.submit(side, t)
+            if t < nblocks:
+                k = t * B
+                block_steps(Lp, Li, LX, DINV, weights, r_inf, c, h, T, Y, Eu_s[t % 3],
+                            alpha_s[t % 3], beta_s[t % 3], R_s[t % 3], Tall, col, k,
+                            min(B, nsteps - k))
+            job.result()
     return Tall, Tmean
 
 
