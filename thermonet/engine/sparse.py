@@ -419,6 +419,45 @@ def march_free(Lp, Li, LX, DINV, Lx_real, dinv_real, weights, r_inf, c, E_row, E
     written in the network's order, only for the ``n_out`` nodes with an output column
     ``out_col[node] ≥ 0``.
 
+    Parameters
+    ----------
+    Lp, Li : ndarray of int64
+        Pattern of the LDLᵀ factors (:func:`~thermonet.engine.ldl.ldl_symbolic`).
+    LX : ndarray (nnz, P) of complex
+        Unit lower factor values of ``z_k C + hL`` per pole [-].
+    DINV : ndarray (n, P) of complex
+        Reciprocals of their diagonals [K/J].
+    Lx_real : ndarray (nnz,)
+        Factor values of ``L`` [-] (unit lower factor).
+    dinv_real : ndarray (n,)
+        Reciprocal of its diagonal [K/W].
+    weights : ndarray (P,) of complex
+        Pole weights ``−c_k`` of the rational exponential [-].
+    r_inf : float
+        Its value at infinity [-].
+    c : ndarray (n,)
+        Capacitances of the free nodes, factor order [J/K] (0 for massless nodes).
+    E_row, E_col : ndarray of int64
+        Entries of the input matrix ``E``: row (factor order) and input column.
+    E_val : ndarray
+        Their values ([W/K] for boundary temperatures, [-] for powers).
+    U : ndarray (steps, nu)
+        Inputs at the end of each step ([°C] or [W]).
+    D : ndarray (steps, nu)
+        Their rates over each step [unit/s] (read where ``ramp``).
+    ramp : ndarray (nu,) of bool
+        Inputs that rise linearly over a step.
+    T0 : ndarray (n,)
+        Start temperatures, factor order [°C].
+    order : ndarray (n,) of int64
+        ``order[i]`` is the network's free node at position i of the factor.
+    h : float
+        Step [s].
+    out_col : ndarray (n,) of int64
+        Output column of each free node (network order), −1 when not kept.
+    n_out : int
+        Number of kept nodes.
+
     Returns
     -------
     Tall : ndarray (steps + 1, n_out)
