@@ -17,6 +17,8 @@ checks each factorisation by a residual and falls back to SuperLU otherwise.
 
 References
 ----------
+(Listed in ``docs/references.md §13``.)
+
 .. [1] Davis, T. A., Algorithm 849: A concise sparse Cholesky factorization package, ACM
    Transactions on Mathematical Software 31(4) (2005) 587–591 (the up-looking LDLᵀ and its
    elimination-tree symbolic pass).
