@@ -159,9 +159,15 @@ def solve_poles(Lp, Li, LX, DINV, Y):
             for p in range(P):
                 Y[r, p] -= LX[q, p] * Y[j, p]
     for j in range(n - 1, -1, -1):                   # D Lᵀ x = y
+        q0, q1 = Lp[j], Lp[j + 1]
+        if q1 - q0 == 1:       # most columns of a near-tree: one expression, no reload
+            r = Li[q0]
+            for p in range(P):
+                Y[j, p] = Y[j, p] * DINV[j, p] - LX[q0, p] * Y[r, p]
+            continue
         for p in range(P):
             Y[j, p] *= DINV[j, p]
-        for q in range(Lp[j], Lp[j + 1]):
+        for q in range(q0, q1):
             r = Li[q]
             for p in range(P):
                 Y[j, p] -= LX[q, p] * Y[r, p]

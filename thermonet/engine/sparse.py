@@ -385,6 +385,18 @@ def block_means(Lp, Li, Lx_real, dinv_real, h, R, R_s, beta_s, Tmean, col, k0, n
                 row[col[i]] = R[i, kk] - 0.5 * h * b_k[i]
 
 
+@numba.njit(cache=True, nogil=True)
+def touch_rows(A, k0, k1):  # pragma: no cover - compiled
+    """Write 0 into every 4 KiB page of rows ``k0 … k1 − 1`` of the C-contiguous ``A``.
+
+    The first write to a fresh page costs a page fault; the free march has its second thread
+    pay them for the rows the stepping thread will fill next.
+    """
+    flat = A.reshape(-1)
+    for q in range(k0 * A.shape[1], min(k1 * A.shape[1], flat.shape[0]), 512):
+        flat[q] = 0.0
+
+
 @numba.njit(cache=True)
 def new_outputs(nsteps, n_out):  # pragma: no cover - compiled
     """Output arrays of a march, ``(nsteps + 1, n_out)`` and ``(nsteps, n_out)`` [°C].
@@ -489,6 +501,7 @@ def march_free(Lp, Li, LX, DINV, Lx_real, dinv_real, weights, r_inf, c, E_row, E
     def side(t):          # the second thread's share of pipeline round t
         if t + 1 < nblocks:
             inputs(t + 1)
+            touch_rows(Tall, (t + 1) * B + 1, (t + 2) * B + 1)
         if t >= 1:
             means(t - 1)
 
@@ -589,7 +602,8 @@ def _march(comp, states, resp, T, U, D, sched, hsp, csp, sig, keep):
         else:
             xe = st.equilibrium(st.E @ u)
         T1 = xe + st.expm_apply(T - xe + hb)
-        u = u - 0.5 * comp.step_s * D[k]            # the step mean of the inputs
+        if ramp_any:
+            u = u - 0.5 * comp.step_s * D[k]        # the step mean of the inputs
         if m:
             R = resp[s]
             kernels.control_powers(T1[comp.thermostat_node], R[comp.thermostat_node], hsp[k],
@@ -649,8 +663,11 @@ def run_sparse(comp: Compiled, warmup_steps: int, tol: float = 1e-7, keep=None
     # inputs interpolated over a step (first-order hold): their rate over each step
     ramp = np.zeros(comp.nu, dtype=bool)
     ramp[:comp.nb + comp.nsrc] = comp.val.ramp
-    D = np.zeros_like(U_raw)
-    D[:, ramp] = (U_raw[:, ramp] - np.vstack([U_raw[:1, ramp], U_raw[:-1, ramp]])) / comp.step_s
+    ramps = bool(ramp.any())
+    D = np.zeros_like(U_raw) if ramps else np.zeros((1, comp.nu))   # read only where ramp
+    if ramps:
+        D[:, ramp] = ((U_raw[:, ramp] - np.vstack([U_raw[:1, ramp], U_raw[:-1, ramp]]))
+                      / comp.step_s)
     U = U_raw
     n = U.shape[0]
     bits = sum(1 << k for k, v in enumerate(comp.val.sw_init) if v)
@@ -658,6 +675,8 @@ def run_sparse(comp: Compiled, warmup_steps: int, tol: float = 1e-7, keep=None
     T = _start(comp, st0, U[0], hsp[0], csp[0])
 
     def end_values(Ue):
+        if not ramps:             # held inputs: end values are the step means
+            return Ue
         out = Ue.copy()
         out[:, ramp] = U_raw[w:, ramp]
         return out
@@ -668,7 +687,7 @@ def run_sparse(comp: Compiled, warmup_steps: int, tol: float = 1e-7, keep=None
         cols = np.full(comp.nf, -1, dtype=np.int64)
         cols[keep] = np.arange(len(keep))
         Tall, Tmean = _free_run(st0, U, D, ramp, T, comp.step_s, cols)
-        Um = U[w:] - 0.5 * comp.step_s * D[w:]
+        Um = U[w:] - 0.5 * comp.step_s * D[w:] if ramps else U[w:]
         start = np.full(comp.nc, np.nan)
         kc = keep[keep < comp.nc]
         start[kc] = Tall[w, cols[kc]]
