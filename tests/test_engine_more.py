@@ -147,6 +147,25 @@ def test_sparse_compiled_march_equals_the_general_loop(interpolate, monkeypatch)
         assert fast.worst_residual() < 1e-9 and loop.worst_residual() < 1e-9
 
 
+@pytest.mark.parametrize("seed", [3, 4, 5])
+def test_sparse_steady_start_equals_the_dense_one(seed, monkeypatch):
+    # Twin test: the steady start of a large network factorises its conductance matrix with
+    # SuperLU (run.SPARSE_START); forced on these small random networks (massless nodes,
+    # a thermostat with a capacity limit) it must give the dense LU's start to rounding.
+    from thermonet.engine import run
+
+    net, w, _ = random_network(seed, 14)
+    opts = dict(warmup_days=0, interpolate=())
+    monkeypatch.setattr(run, "SPARSE_START", 0)
+    sparse_start = tn.simulate(net, w, **opts)
+    monkeypatch.setattr(run, "SPARSE_START", 10**9)
+    dense_start = tn.simulate(net, w, **opts)
+    scale = max(1.0, float(np.abs(dense_start.temperatures.to_numpy()).max()))
+    np.testing.assert_allclose(sparse_start.temperatures, dense_start.temperatures, rtol=0,
+                               atol=1e-9 * scale)
+    assert sparse_start.worst_residual() < 1e-9
+
+
 def test_sparse_rational_error_bound():
     # The CF rational approximation of e^s on s ≤ 0 (Trefethen, Weideman & Schmelzer 2006,
     # BIT 46, 653–670): its uniform error falls geometrically, about 9.28^−n (the CF
