@@ -167,7 +167,7 @@ def case_room(args):
     node = order.index("air")
     x0 = steady_with_thermostats(K, E[:, :-1], U[0], [node], np.array([20.0]),
                                  np.array([26.0]))
-    t_np, ref = min_time(lambda: numpy_loop(Phi, Gam, U, x0, node, 20.0, 26.0), args.runs)
+    t_np, ref = min_time(lambda: numpy_loop(Phi, Gam, U, x0, node, 20.0, 26.0), runs)
     loop = numba_loop()
     loop(Phi, Gam, U, x0, node, 20.0, 26.0)
     t_nb, _ = min_time(lambda: loop(Phi, Gam, U, x0, node, 20.0, 26.0), runs)
