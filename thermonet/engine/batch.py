@@ -167,6 +167,41 @@ def _balance_sets(balance_nodes):
     return {"": list(balance_nodes)}
 
 
+def _check_warmup_days(warmup_days) -> None:
+    """Refuse a warm-up that is not a finite number of days ≥ 0 (ValueError)."""
+    if not (isinstance(warmup_days, (int, float)) and math.isfinite(warmup_days)
+            and warmup_days >= 0):
+        raise ValueError(f"warmup_days must be a finite number ≥ 0 [days], got {warmup_days!r}")
+
+
+def _batch_options(store, warmup_days, comfort_node, hours_above, degree_hours_above,
+                   balance_nodes, link_energy, keep_traces, kernel) -> tuple[int, dict]:
+    """Warm-up steps and the options dict shared by :func:`run_batch` and :func:`run_values`.
+
+    Parameters
+    ----------
+    store : ColumnStore
+        The run's time series (its index and step [s]).
+    warmup_days : float
+        Lead-in [days].
+    comfort_node, hours_above, degree_hours_above, balance_nodes, link_energy, keep_traces, kernel
+        As for :func:`run_batch` (node name, [°C], [°C], nodes, bool, bool, kernel name).
+
+    Returns
+    -------
+    warm : int
+        Warm-up steps (at most the run's length).
+    opts : dict
+        The options the chunks read.
+    """
+    warm = min(int(round(warmup_days * 86400.0 / store.step_s)), len(store.index))
+    opts = dict(comfort_node=comfort_node, hours_above=tuple(hours_above),
+                degree_hours_above=tuple(degree_hours_above), keep_traces=keep_traces,
+                balance_sets=_balance_sets(balance_nodes), link_energy=link_energy,
+                kernel=resolve_kernel(kernel))
+    return warm, opts
+
+
 def _balance_prefix(label: str) -> str:
     return "balance:" if label == "" else f"balance[{label}]:"
 
@@ -475,17 +510,13 @@ def run_batch(nets, weather: pd.DataFrame, *, step=None, warmup_days: float = 14
     -------
     BatchOutput
     """
-    if not (isinstance(warmup_days, (int, float)) and math.isfinite(warmup_days)
-            and warmup_days >= 0):
-        raise ValueError(f"warmup_days must be a finite number ≥ 0 [days], got {warmup_days!r}")
+    _check_warmup_days(warmup_days)
     store = ColumnStore.for_weather(weather, step, interpolate)
     check_weather_frame(weather, stacklevel=3)   # the weather once for every variant
     n = len(store.index)
-    warm = min(int(round(warmup_days * 86400.0 / store.step_s)), n)
-    opts = dict(comfort_node=comfort_node, hours_above=tuple(hours_above),
-                degree_hours_above=tuple(degree_hours_above), keep_traces=keep_traces,
-                balance_sets=_balance_sets(balance_nodes), link_energy=link_energy,
-                kernel=resolve_kernel(kernel))
+    warm, opts = _batch_options(store, warmup_days, comfort_node, hours_above,
+                                degree_hours_above, balance_nodes, link_energy, keep_traces,
+                                kernel)
     N = len(nets)
     errors: list = [None] * N
     traces: list = [None] * N
@@ -572,15 +603,10 @@ def run_values(st, vals: list, store: ColumnStore, *, warmup_days: float = 14.0,
     BatchOutput
         ``traces`` are all None.
     """
-    if not (isinstance(warmup_days, (int, float)) and math.isfinite(warmup_days)
-            and warmup_days >= 0):
-        raise ValueError(f"warmup_days must be a finite number ≥ 0 [days], got {warmup_days!r}")
+    _check_warmup_days(warmup_days)
     n = len(store.index)
-    warm = min(int(round(warmup_days * 86400.0 / store.step_s)), n)
-    opts = dict(comfort_node=comfort_node, hours_above=tuple(hours_above),
-                degree_hours_above=tuple(degree_hours_above), keep_traces=False,
-                balance_sets=_balance_sets(balance_nodes), link_energy=link_energy,
-                kernel=resolve_kernel(kernel))
+    warm, opts = _batch_options(store, warmup_days, comfort_node, hours_above,
+                                degree_hours_above, balance_nodes, link_energy, False, kernel)
     if opts["kernel"] == "numpy":
         raise ValueError("run_values steps with the compiled kernel only; kernel='numpy' keeps "
                          "traces, which need a network per variant (use run_batch)")
